@@ -21,14 +21,17 @@ from .sphere import coupling_table, direction_matrix, spin_weighted_harmonic
 
 
 def time_derivative(values: np.ndarray, step: float) -> np.ndarray:
-    """Derivative along the last axis: fourth-order central differences, second order at the ends."""
+    """Derivative along the last axis by fourth-order finite differences (one-sided at the ends)."""
     values = np.asarray(values)
-    out = np.empty_like(values)
     if values.shape[-1] < 5:
         return np.gradient(values, step, axis=-1)
-    out[..., 2:-2] = (values[..., :-4] - 8 * values[..., 1:-3] + 8 * values[..., 3:-1] - values[..., 4:]) / (12 * step)
-    out[..., :2] = np.gradient(values[..., :4], step, axis=-1, edge_order=2)[..., :2]
-    out[..., -2:] = np.gradient(values[..., -4:], step, axis=-1, edge_order=2)[..., -2:]
+    out = np.empty_like(values)
+    v = values
+    out[..., 2:-2] = (v[..., :-4] - v[..., 4:] + 8 * (v[..., 3:-1] - v[..., 1:-3])) * (1 / (12 * step))
+    out[..., 0] = (-25 * v[..., 0] + 48 * v[..., 1] - 36 * v[..., 2] + 16 * v[..., 3] - 3 * v[..., 4]) / (12 * step)
+    out[..., 1] = (-3 * v[..., 0] - 10 * v[..., 1] + 18 * v[..., 2] - 6 * v[..., 3] + v[..., 4]) / (12 * step)
+    out[..., -1] = (25 * v[..., -1] - 48 * v[..., -2] + 36 * v[..., -3] - 16 * v[..., -4] + 3 * v[..., -5]) / (12 * step)
+    out[..., -2] = (3 * v[..., -1] + 10 * v[..., -2] - 18 * v[..., -3] + 6 * v[..., -4] - v[..., -5]) / (12 * step)
     return out
 
 

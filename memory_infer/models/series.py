@@ -6,7 +6,7 @@ from dataclasses import dataclass
 import numpy as np
 
 SOLAR_MASS_SECONDS = 4.925490947641267e-06  # G M_sun / c^3 (lal.MTSUN_SI)
-SOLAR_MASS_METRES = 1476.6250385063254  # G M_sun / c^2 (lal.MRSUN_SI)
+SOLAR_MASS_METRES = 1476.6250380501247  # G M_sun / c^2 (lal.MRSUN_SI)
 MEGAPARSEC_METRES = 3.085677581491367e22  # lal.PC_SI * 1e6
 
 

@@ -1,0 +1,1 @@
+"""One module per command of ``memory-infer``; each has ``add_arguments(parser)`` and ``run(args)``."""
