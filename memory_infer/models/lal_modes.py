@@ -19,15 +19,34 @@ def _lal():
     import lal
     import lalsimulation
 
-    lal.swig_redirect_standard_output_error(True)
     return lal, lalsimulation
+
+
+@contextlib.contextmanager
+def _quiet(capture: io.StringIO | None):
+    """Silence XLAL's messages (fast path), or capture them into ``capture`` (slow, for errors)."""
+    import lal
+
+    level = lal.GetDebugLevel()
+    if capture is None:
+        lal.ClobberDebugLevel(0)
+        try:
+            yield
+        finally:
+            lal.ClobberDebugLevel(level)
+        return
+    lal.swig_redirect_standard_output_error(True)
+    try:
+        with contextlib.redirect_stderr(capture):
+            yield
+    finally:
+        lal.swig_redirect_standard_output_error(False)
 
 
 def approximant_number(approximant: str) -> int:
     _, lalsim = _lal()
-    capture = io.StringIO()
     try:
-        with contextlib.redirect_stderr(capture):
+        with _quiet(None):
             number = lalsim.GetApproximantFromString(str(approximant))
     except RuntimeError:
         raise WaveformError(f"unknown waveform model '{approximant}'; try IMRPhenomTHM, IMRPhenomTPHM, "
@@ -55,15 +74,20 @@ def choose_td_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t, m
         for l, m in mode_list:
             lalsim.SimInspiralModeArrayActivateMode(array, int(l), int(m))
         lalsim.SimInspiralWaveformParamsInsertModeArray(params, array)
-    capture = io.StringIO()
+    arguments = (0.0, delta_t, mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2, minimum_frequency,
+                 reference_frequency, luminosity_distance * MEGAPARSEC_METRES, params, 5, number)
     try:
-        with contextlib.redirect_stderr(capture):
-            linked = lalsim.SimInspiralChooseTDModes(
-                0.0, delta_t, mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2,
-                minimum_frequency, reference_frequency, luminosity_distance * MEGAPARSEC_METRES,
-                params, 5, number)
-    except RuntimeError as error:
-        raise WaveformError(_explain(approximant, capture.getvalue(), error, mass_1, mass_2)) from None
+        with _quiet(None):
+            linked = lalsim.SimInspiralChooseTDModes(*arguments)
+    except RuntimeError:
+        capture = io.StringIO()  # run again with XLAL's messages captured, to explain the failure
+        try:
+            with _quiet(capture):
+                lalsim.SimInspiralChooseTDModes(*arguments)
+        except RuntimeError as error:
+            raise WaveformError(_explain(approximant, capture.getvalue(), error, mass_1, mass_2)) from None
+        raise WaveformError(f"waveform model '{approximant}' failed once and then succeeded; "
+                            "lalsimulation is in an inconsistent state") from None
     modes, times = {}, None
     while linked is not None:
         series = linked.mode
@@ -88,7 +112,7 @@ def choose_td_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t, m
 
 def _explain(approximant, log, error, mass_1, mass_2) -> str:
     text = log.lower()
-    if "data file" in text or "lal_data_path" in text or "i/o error" in text:
+    if any(word in text for word in ("data file", "lal_data_path", "i/o error", "surrogate data")):
         return f"waveform model '{approximant}' {SURROGATE_HINT}"
     if "non-spinning approximant" in text:
         return f"waveform model '{approximant}' does not take spins; set the spins to zero or choose another model"
