@@ -30,6 +30,9 @@ def _module(name):
 
 
 def main(argv=None) -> int:
+    from .performance import tune_allocator
+
+    tune_allocator()
     logging.getLogger("bilby").setLevel(logging.WARNING)
     args = build_parser().parse_args(argv)
     try:

@@ -129,9 +129,11 @@ def _leading_order_projection():
 def orbital_velocity_parameter(modes: dict, times) -> float:
     """``x = (M omega_orb)^(2/3)`` at the first sample, from the (2, 2) mode's phase rate."""
     step = _uniform_step(times)
-    h22 = np.asarray(modes[(2, 2)])[:8]
-    phase = np.unwrap(np.angle(h22))
-    omega_22 = abs(np.polyfit(np.arange(len(phase)) * step, phase, 2)[-2])
+    h22 = np.asarray(modes[(2, 2)][:3])
+    # phase advance over the first two steps, centred on sample 1, extrapolated back to sample 0
+    advance_01 = abs(np.angle(h22[1] * np.conj(h22[0])))
+    advance_12 = abs(np.angle(h22[2] * np.conj(h22[1])))
+    omega_22 = (1.5 * advance_01 - 0.5 * advance_12) / step
     return float((omega_22 / 2) ** (2 / 3))
 
 

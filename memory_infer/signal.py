@@ -13,13 +13,14 @@ from __future__ import annotations
 import logging
 from collections import OrderedDict
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
 from .errors import WaveformError
 from .memory import memory_at_direction
 from .models import DEFAULT_APPROXIMANT, ModeSeries, generate_modes
-from .sphere import spin_weighted_harmonic
+from .sphere import HarmonicSet
 
 logger = logging.getLogger("memory_infer")
 
@@ -32,12 +33,19 @@ def observer_angles(inclination: float, phase: float):
     return float(inclination), float(np.pi / 2 - phase)
 
 
+@lru_cache(maxsize=64)
+def _harmonic_set(modes: tuple) -> HarmonicSet:
+    return HarmonicSet(modes)
+
+
 def mode_sum(modes: dict, theta: float, phi: float) -> np.ndarray:
     """``h_plus - i h_cross = sum_lm h_lm -2Y_lm(theta, phi)``."""
-    total = 0
-    for (l, m), values in modes.items():
-        total = total + values * spin_weighted_harmonic(-2, l, m, theta, phi)
-    return np.asarray(total, dtype=complex)
+    keys = tuple(modes)
+    harmonics = _harmonic_set(keys)(theta, phi)
+    total = np.zeros(len(next(iter(modes.values()))), dtype=complex)
+    for weight, key in zip(harmonics, keys):
+        total += weight * modes[key]
+    return total
 
 
 @dataclass
@@ -55,7 +63,7 @@ class TimeSignal:
 
 
 def time_signal(series: ModeSeries, inclination: float, phase: float,
-                early_inspiral: bool = True) -> TimeSignal:
+                early_inspiral: bool = True, include_memory: bool = True) -> TimeSignal:
     """Oscillatory and memory strain towards the observer, SI units.
 
     The memory uses every coupled degree (exact mode sum); ``early_inspiral`` adds the
@@ -64,6 +72,8 @@ def time_signal(series: ModeSeries, inclination: float, phase: float,
     """
     theta, phi = observer_angles(inclination, phase)
     oscillatory = mode_sum(series.modes, theta, phi)
+    if not include_memory:
+        return TimeSignal(series.times, oscillatory, np.zeros(series.times.size, complex), 0.0)
     geometric_times, geometric_modes = series.geometric()
     memory = memory_at_direction(geometric_modes, geometric_times, theta, phi,
                                  early_inspiral=early_inspiral,
@@ -154,7 +164,7 @@ _INTRINSIC = ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "tilt_1",
               "phi_jl", "theta_jn", "phase")
 _SETTINGS = {"waveform_approximant": DEFAULT_APPROXIMANT, "reference_frequency": 20.0,
              "minimum_frequency": 20.0, "memory_taper_duration": DEFAULT_TAPER_DURATION,
-             "early_inspiral_memory": True, "mode_list": None}
+             "early_inspiral_memory": True, "mode_list": None, "include_memory": True}
 _cache: OrderedDict = OrderedDict()
 
 
@@ -174,12 +184,16 @@ def signal_parts(frequency_array, **parameters) -> dict:
     series = generate_modes(settings["waveform_approximant"], values["mass_1"], values["mass_2"],
                             values["luminosity_distance"], delta_t, settings["minimum_frequency"],
                             spin_1, spin_2, settings["reference_frequency"], settings["mode_list"])
-    signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]))
+    signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]),
+                         bool(settings["include_memory"]))
     start_duration = 2.0 / max(settings["minimum_frequency"], 1.0)
     oscillatory, memory, shift = circular_layout(signal, n_buffer, delta_t,
                                                  float(settings["memory_taper_duration"]), start_duration)
     osc = to_frequency_domain(oscillatory, delta_t, shift, frequency_array)
-    mem = to_frequency_domain(memory, delta_t, shift, frequency_array)
+    if settings["include_memory"]:
+        mem = to_frequency_domain(memory, delta_t, shift, frequency_array)
+    else:
+        mem = {"plus": np.zeros_like(osc["plus"]), "cross": np.zeros_like(osc["cross"])}
     parts = {"plus": osc["plus"], "cross": osc["cross"],
              "memory_plus": mem["plus"], "memory_cross": mem["cross"]}
     _cache[key] = parts
@@ -195,7 +209,7 @@ def memory_binary_black_hole(frequency_array, mass_1, mass_2, luminosity_distanc
     ``memory_amplitude`` = 1 is general relativity, 0 no memory, -1 the flipped sign. Waveform
     arguments: ``waveform_approximant`` (default IMRPhenomTHM), ``reference_frequency``,
     ``minimum_frequency``, ``memory_taper_duration`` (s), ``early_inspiral_memory`` (bool),
-    ``mode_list`` (list of (l, m)). Use it in ``bilby.gw.WaveformGenerator``.
+    ``mode_list`` (list of (l, m)), ``include_memory`` (False skips the memory altogether). Use it in ``bilby.gw.WaveformGenerator``.
     """
     parameters = dict(mass_1=mass_1, mass_2=mass_2, luminosity_distance=luminosity_distance, a_1=a_1,
                       tilt_1=tilt_1, phi_12=phi_12, a_2=a_2, tilt_2=tilt_2, phi_jl=phi_jl,

@@ -115,13 +115,46 @@ def coupling_table(input_modes: tuple, ell_max: int):
     return output, table[keep]
 
 
+class HarmonicSet:
+    """``-2Y_lm`` of many (l, m) at one direction at once: the Goldberg sums laid out as flat arrays."""
+
+    def __init__(self, modes, s: int = -2):
+        self.modes = tuple(modes)
+        coefficients, cos_powers, sin_powers, owners = [], [], [], []
+        for k, (l, m) in enumerate(self.modes):
+            prefactor = (-1) ** m * sqrt(factorial(l + m) * factorial(l - m) * (2 * l + 1)
+                                         / (4 * pi * factorial(l + s) * factorial(l - s)))
+            for r in range(0, l - s + 1):
+                j = r + s - m
+                if 0 <= j <= l + s:
+                    coefficients.append(prefactor * comb(l - s, r) * comb(l + s, j) * (-1) ** (l - r - s))
+                    cos_powers.append(2 * r + s - m)
+                    sin_powers.append(2 * l - (2 * r + s - m))
+                    owners.append(k)
+        self._coefficients = np.array(coefficients)
+        self._cos_powers = np.array(cos_powers)
+        self._sin_powers = np.array(sin_powers)
+        self._owners = np.array(owners)
+        self._m = np.array([m for _, m in self.modes])
+
+    def __call__(self, theta: float, phi: float) -> np.ndarray:
+        terms = (self._coefficients * np.cos(theta / 2) ** self._cos_powers
+                 * np.sin(theta / 2) ** self._sin_powers)
+        return np.bincount(self._owners, weights=terms, minlength=len(self.modes)) * np.exp(1j * self._m * phi)
+
+
+@lru_cache(maxsize=64)
+def _direction_tables(input_modes: tuple):
+    ell_max = max(2, 2 * max(l for l, _ in input_modes))
+    output, table = coupling_table(input_modes, ell_max)
+    return HarmonicSet(output), table
+
+
 def direction_matrix(input_modes: tuple, theta: float, phi: float) -> np.ndarray:
     """Couplings contracted with the harmonics at one observer direction, all degrees kept.
 
     ``h_mem(t, N) = int dt sum_ij W_ij dh_i conj(dh_j)`` with
     ``W_ij = sum_l coefficients[(l, m_i - m_j), i, j] -2Y_{l, m_i - m_j}(N)``, l up to l_i + l_j.
     """
-    ell_max = max(2, 2 * max(l for l, _ in input_modes))
-    output, table = coupling_table(tuple(input_modes), ell_max)
-    harmonics = np.array([spin_weighted_harmonic(-2, l, m, theta, phi) for l, m in output])
-    return np.tensordot(harmonics, table, axes=(0, 0))
+    harmonics, table = _direction_tables(tuple(input_modes))
+    return np.tensordot(harmonics(theta, phi), table, axes=(0, 0))

@@ -79,3 +79,13 @@ def test_coupling_table_is_cached_and_direction_matrix_consistent():
     matrix = direction_matrix(modes, 0.7, 0.4)
     expected = sum(table[k] * spin_weighted_harmonic(-2, l, m, 0.7, 0.4) for k, (l, m) in enumerate(output))
     assert np.allclose(matrix, expected, rtol=0, atol=1e-15)
+
+
+def test_harmonic_set_matches_single_harmonics():
+    from memory_infer.sphere import HarmonicSet
+
+    modes = [(l, m) for l in range(2, 9) for m in range(-l, l + 1)]
+    harmonics = HarmonicSet(modes)
+    for th, ph in [(0.0, 0.3), (0.8, 1.1), (np.pi, 2.0)]:
+        expected = np.array([spin_weighted_harmonic(-2, l, m, th, ph) for l, m in modes])
+        assert np.max(np.abs(harmonics(th, ph) - expected)) < 1e-13
