@@ -168,10 +168,21 @@ _SETTINGS = {"waveform_approximant": DEFAULT_APPROXIMANT, "reference_frequency":
 _cache: OrderedDict = OrderedDict()
 
 
+@lru_cache(maxsize=8)
+def _unit_distance_modes(approximant, mass_1, mass_2, delta_t, minimum_frequency, spin_1, spin_2,
+                         reference_frequency, mode_list) -> ModeSeries:
+    """Modes at 1 Mpc, cached on the intrinsic parameters: distance, inclination and phase reuse them."""
+    return generate_modes(approximant, mass_1, mass_2, 1.0, delta_t, minimum_frequency, spin_1, spin_2,
+                          reference_frequency, mode_list)
+
+
 def signal_parts(frequency_array, **parameters) -> dict:
     """Frequency-domain oscillatory (``plus``, ``cross``) and memory (``memory_plus``, ``memory_cross``)
-    parts for bilby's binary-black-hole parameters; the last few results are cached, so varying
-    only ``memory_amplitude`` costs nothing."""
+    parts for bilby's binary-black-hole parameters.
+
+    The last few results are cached, so varying only ``memory_amplitude`` costs nothing, and the
+    modes are cached on the intrinsic parameters (distance only rescales, angles only re-sum).
+    """
     settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
     values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
     key = (tuple(values.values()), tuple((k, str(v)) for k, v in settings.items()),
@@ -179,19 +190,23 @@ def signal_parts(frequency_array, **parameters) -> dict:
     if key in _cache:
         _cache.move_to_end(key)
         return _cache[key]
+    if not values["luminosity_distance"] > 0:
+        raise WaveformError("the luminosity distance must be positive")
     n_buffer, delta_t = segment_geometry(frequency_array)
     inclination, spin_1, spin_2 = lalsimulation_spins(values, settings["reference_frequency"])
-    series = generate_modes(settings["waveform_approximant"], values["mass_1"], values["mass_2"],
-                            values["luminosity_distance"], delta_t, settings["minimum_frequency"],
-                            spin_1, spin_2, settings["reference_frequency"], settings["mode_list"])
+    mode_list = tuple(tuple(int(x) for x in mode) for mode in settings["mode_list"]) if settings["mode_list"] else None
+    series = _unit_distance_modes(settings["waveform_approximant"], values["mass_1"], values["mass_2"], delta_t,
+                                  float(settings["minimum_frequency"]), tuple(float(x) for x in spin_1),
+                                  tuple(float(x) for x in spin_2), float(settings["reference_frequency"]), mode_list)
     signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]),
                          bool(settings["include_memory"]))
     start_duration = 2.0 / max(settings["minimum_frequency"], 1.0)
     oscillatory, memory, shift = circular_layout(signal, n_buffer, delta_t,
                                                  float(settings["memory_taper_duration"]), start_duration)
-    osc = to_frequency_domain(oscillatory, delta_t, shift, frequency_array)
+    scale = 1.0 / values["luminosity_distance"]
+    osc = to_frequency_domain(oscillatory * scale, delta_t, shift, frequency_array)
     if settings["include_memory"]:
-        mem = to_frequency_domain(memory, delta_t, shift, frequency_array)
+        mem = to_frequency_domain(memory * scale, delta_t, shift, frequency_array)
     else:
         mem = {"plus": np.zeros_like(osc["plus"]), "cross": np.zeros_like(osc["cross"])}
     parts = {"plus": osc["plus"], "cross": osc["cross"],
