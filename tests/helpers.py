@@ -1,0 +1,68 @@
+"""Small configurations and data for tests (short segments, few parameters)."""
+import os
+
+BASE_EVENT = """
+[event]
+label = "{label}"
+
+[data]
+kind = "simulated"
+detectors = {detectors}
+noise_curve = "{noise_curve}"
+noise = "{noise}"
+seed = {seed}
+duration = 4.0
+sampling_rate = 1024.0
+start_time = 1000000000.0
+minimum_frequency = 20.0
+
+[injection]
+mass_1 = 36.0
+mass_2 = 29.0
+luminosity_distance = {distance}
+theta_jn = 1.2
+phase = 0.6
+ra = 1.1
+dec = 0.3
+psi = 0.4
+geocent_time = 1000000002.0
+memory_amplitude = {amplitude}
+
+[model]
+approximant = "IMRPhenomTHM"
+
+[priors]
+{priors}
+
+[likelihood]
+{likelihood}
+
+[sampler]
+live_points = {live_points}
+accepted_walks = 10
+seed = 3
+checkpoint_seconds = 10.0
+progress = false
+
+[evidence]
+methods = {methods}
+nested_hypotheses = {hypotheses}
+reweight_from = ["none"]
+amplitude_grid = [-3.0, 3.0, 61]
+{evidence_extra}
+"""
+
+
+def event_config(directory, name="event.toml", label="test-event", detectors='["CE"]', noise_curve="ce",
+                 noise="zero", seed=1, distance=3000.0, amplitude=1.0,
+                 priors='phase = { kind = "periodic", minimum = 0.0, maximum = 6.283185307179586 }',
+                 likelihood="", live_points=40, methods='["nested", "reweighting", "fast"]',
+                 hypotheses='["memory", "none"]', evidence_extra=""):
+    text = BASE_EVENT.format(label=label, detectors=detectors, noise_curve=noise_curve, noise=noise, seed=seed,
+                             distance=distance, amplitude=amplitude, priors=priors, likelihood=likelihood,
+                             live_points=live_points, methods=methods, hypotheses=hypotheses,
+                             evidence_extra=evidence_extra)
+    path = os.path.join(str(directory), name)
+    with open(path, "w") as handle:
+        handle.write(text)
+    return path
