@@ -200,7 +200,7 @@ def file_detectors(config: dict):
             raise MemoryInferError(f"strain file '{entry['strain']}' starts at {file_start:.6f}, but the "
                                    f"configuration says {start:.6f}")
         detector.strain_data.roll_off = float(data["window_roll_off"])
-        detector.set_strain_data_from_time_domain_strain(strain, sampling_frequency=rate, duration=duration,
+        detector.strain_data.set_from_time_domain_strain(strain, sampling_frequency=rate, duration=duration,
                                                          start_time=start)
         if "psd" in entry:
             frequencies, psd = read_psd(os.path.join(base, entry["psd"]))

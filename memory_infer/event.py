@@ -34,6 +34,7 @@ class EventSetup:
     injection: dict | None
     grid: np.ndarray
     lookup_path: str | None = None
+    external_samples: object = None  # checked posterior samples from samples_file, if any
 
     def likelihood(self, hypothesis: str, marginalize: bool = True):
         """(likelihood, priors) for a hypothesis, with the configured marginalizations (or none)."""
@@ -91,8 +92,16 @@ def prepare(config: dict) -> EventSetup:
     else:
         detectors = file_detectors(config)
     priors = build_priors(config, injection)
-    return EventSetup(config=config, detectors=detectors, generator=generator, priors=priors, injection=injection,
-                      grid=amplitude_grid(config))
+    setup = EventSetup(config=config, detectors=detectors, generator=generator, priors=priors, injection=injection,
+                       grid=amplitude_grid(config))
+    if config["evidence"]["samples_file"]:
+        from .io import check_samples, read_samples
+
+        path = os.path.join(config.get("_directory", "."), config["evidence"]["samples_file"])
+        frame = read_samples(path)
+        check_samples(frame, _sampled_columns(hypothesis_priors(priors, "none")), f"posterior samples in '{os.path.basename(path)}'")
+        setup.external_samples = frame
+    return setup
 
 
 @dataclass
@@ -124,6 +133,7 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventOut
     os.makedirs(os.path.join(outdir, "runs"), exist_ok=True)
 
     results = {}
+    best_samples = {}
     if "nested" in methods:
         for index, hypothesis in enumerate(config["evidence"]["nested_hypotheses"]):
             if hypothesis not in HYPOTHESES:
@@ -151,13 +161,8 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventOut
         for hypothesis in config["evidence"]["reweight_from"]:
             if hypothesis in results:
                 sample_sets[hypothesis] = (results[hypothesis].posterior, HYPOTHESES[hypothesis])
-        if config["evidence"]["samples_file"]:
-            from .io import check_samples, read_samples
-
-            path = os.path.join(config.get("_directory", "."), config["evidence"]["samples_file"])
-            frame = read_samples(path)
-            _, priors = setup.likelihood("none")
-            check_samples(frame, _sampled_columns(priors), f"posterior samples in '{os.path.basename(path)}'")
+        if setup.external_samples is not None:
+            frame = setup.external_samples
             amplitude = float(config["evidence"]["samples_amplitude"])
             names = {v: k for k, v in HYPOTHESES.items() if v is not None}
             sample_sets[f"file ({names.get(amplitude, amplitude)})"] = (frame, amplitude)
@@ -165,6 +170,7 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventOut
             outcome.warnings.append("reweighting asked for, but there are no posterior samples (run 'nested' for the "
                                     "'none' or 'memory' hypothesis, or give samples_file)")
         limit = int(config["evidence"]["max_reweight_samples"])
+        best_samples = {}
         for name, (frame, base) in sample_sets.items():
             if len(frame) > limit:
                 frame = frame.sample(n=limit, random_state=int(sampler["seed"]))
@@ -183,6 +189,12 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventOut
             index_one = int(np.argmin(np.abs(setup.grid - (1.0 if base == 0 else 0.0))))
             base_index = int(np.argmin(np.abs(setup.grid - base)))
             outcome.reweighting_weights[name] = (table[:, index_one] - table[:, base_index]).tolist()
+            zero_index = int(np.argmin(np.abs(setup.grid)))
+            if np.any(np.isfinite(table[:, zero_index])):
+                best = frame.iloc[int(np.nanargmax(np.where(np.isfinite(table[:, zero_index]), table[:, zero_index], -np.inf)))]
+                best_samples.setdefault("best", ({k: float(best[k]) for k in frame.columns
+                                                  if isinstance(best[k], (int, float, np.number))},
+                                                 f"the best no-memory fit among the reweighted samples [{name}]"))
             if base == 0.0 and outcome.amplitude_curve is None:
                 curve = amplitude_curve(table, setup.grid, 0.0)
                 outcome.amplitude_curve = curve.to_dict()
@@ -197,6 +209,10 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventOut
             outcome.sign = sign_from_nested(plus, minus).to_dict()
 
     point, where = reference_point(setup, results)
+    if point is None and "reweighting" in methods and best_samples and not setup.marginalized:
+        sample, where = best_samples["best"]
+        point = {k: float(v.peak) for k, v in setup.priors.items() if getattr(v, "is_fixed", False)}
+        point.update({k: v for k, v in sample.items() if k in SOURCE_PARAMETERS})
     outcome.reference_point = point
     if point is not None:
         plain, _ = setup.likelihood("none", marginalize=False)

@@ -115,6 +115,13 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
         parameters = dict(parameters)
         if self.time_marginalization and self.jitter_time:
             parameters["geocent_time"] += parameters["time_jitter"]
+        amplitudes = np.asarray(amplitudes, dtype=float)
+        d_inner_h = products.d_osc + amplitudes * products.d_mem
+        h_inner_h = products.osc_osc + 2 * amplitudes * products.osc_mem + amplitudes ** 2 * products.mem_mem
+        if not self.time_marginalization:  # both closed forms take arrays of A at once
+            if self.distance_marginalization:
+                return np.real(self.distance_marginalized_likelihood(d_inner_h, h_inner_h, parameters=parameters))
+            return np.real(d_inner_h) - h_inner_h / 2
         out = np.empty(len(amplitudes))
         for k, amplitude in enumerate(amplitudes):
             snrs = self._CalculatedSNRs(

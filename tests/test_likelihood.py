@@ -60,7 +60,7 @@ def test_curve_equals_direct_with_distance_and_time_marginalization(generator, t
     likelihood = MemoryTransient(detectors_with(generator, 3), generator, priors=priors, distance_marginalization=True,
                                  time_marginalization=True,
                                  distance_marginalization_lookup_table=str(tmp_path / "table.npz"))
-    point = dict(TRUTH, time_jitter=0.0, luminosity_distance=likelihood.priors["luminosity_distance"])
+    point = dict(TRUTH, time_jitter=0.0, luminosity_distance=float(likelihood._ref_dist))
     amplitudes = np.array([-1.0, 0.0, 1.0])
     curve = likelihood.log_likelihood_ratio_curve(point, amplitudes)
     direct = [likelihood.log_likelihood_ratio(dict(point, memory_amplitude=a)) for a in amplitudes]
