@@ -10,6 +10,7 @@ from .errors import MemoryInferError
 COMMANDS = {
     "waveform": "one binary's strain and memory: table, figure and memory-only SNR",
     "evidence": "Bayes factors for one event (nested sampling, reweighting, fast), with its report",
+    "combine": "catalog combination of per-event results, with its report",
     "demo": "the built-in invented scenario, end to end",
 }
 

@@ -208,9 +208,14 @@ def reweighting_estimate(log_likelihoods, amplitudes, base_amplitude: float, num
         raise MemoryInferError("reweighting needs samples drawn under one of the two hypotheses compared")
     n = int(log_likelihoods.shape[0])
     reliable = bool(ess >= minimum_effective_samples and np.isfinite(ln_bf))
-    note = (f"{ess:.0f} effective of {n} samples" if reliable else
-            f"only {ess:.1f} effective of {n} samples (need {minimum_effective_samples:g}): the two posteriors do "
-            "not overlap enough; use nested sampling or the free-amplitude run for this event")
+    if reliable:
+        note = f"{ess:.0f} effective of {n} samples"
+    elif ess > 0.5 * n:
+        note = (f"only {n} samples in all (need {minimum_effective_samples:g} effective): draw more posterior "
+                "samples (more live points)")
+    else:
+        note = (f"only {ess:.1f} effective of {n} samples (need {minimum_effective_samples:g}): the two posteriors "
+                "do not overlap enough; use nested sampling or the free-amplitude run for this event")
     return EvidenceEstimate(method=f"importance reweighting {direction}", ln_bf=float(ln_bf), ln_bf_err=float(error),
                             numerator=names.get(numerator, f"A={numerator:g}"),
                             denominator=names.get(denominator, f"A={denominator:g}"),
