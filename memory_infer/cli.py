@@ -11,6 +11,7 @@ COMMANDS = {
     "waveform": "one binary's strain and memory: table, figure and memory-only SNR",
     "evidence": "Bayes factors for one event (nested sampling, reweighting, fast), with its report",
     "combine": "catalog combination of per-event results, with its report",
+    "campaign": "injection-recovery campaign: distributions, forecasts, calibration",
     "demo": "the built-in invented scenario, end to end",
 }
 
