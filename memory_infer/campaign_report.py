@@ -66,6 +66,10 @@ def _calibration_figure(summary):
     return figure_to_html(fig, "fast against full")
 
 
+def _count(value) -> str:
+    return "not reached" if value is None else f"{value:.0f}"
+
+
 def campaign_page(summary, records) -> str:
     threshold = summary["events_to_threshold"]
     ln_bf = summary["ln_bf"]
@@ -75,9 +79,9 @@ def campaign_page(summary, records) -> str:
             ("mean ln BF₊ per detected event", number(ln_bf["mean"], ln_bf.get("mean_err"), 4)),
             ("median ln BF₊ (90% range)", "—" if ln_bf["median"] is None else
              f"{ln_bf['median']:.4f} ({ln_bf['lower_90']:.3f} to {ln_bf['upper_90']:.3f})"),
-            (f"events to ln BF = {threshold['threshold']:g}: median (90%)", "—" if threshold["median"] is None else
-             f"{threshold['median']:.0f} ({threshold['lower_90']:.0f} to {threshold['upper_90']:.0f}); reached in "
-             f"{threshold['reached_fraction']:.0%} of {threshold['bootstrap']} bootstrap catalogs"),
+            (f"events to ln BF = {threshold['threshold']:g}: median (90%)",
+             f"{_count(threshold['median'])} ({_count(threshold['lower_90'])} to {_count(threshold['upper_90'])}); "
+             f"reached in {threshold['reached_fraction']:.0%} of {threshold['bootstrap']} bootstrap catalogs"),
             ("PP test (KS p-value)", "—" if summary["pp"]["ks_pvalue"] is None else
              f"{summary['pp']['ks_pvalue']:.3f} over {summary['pp']['count']} ({summary['pp']['method']})"),
             ("fast vs full", "—" if not calibration["count"] else

@@ -90,7 +90,7 @@ def _table_rates(table: np.ndarray, derivatives: np.ndarray) -> np.ndarray:
     """``rate_k = sum_ij table[k, i, j] dh_i conj(dh_j)`` over the nonzero pairs only."""
     pairs = np.nonzero(np.any(table != 0, axis=0))
     products = derivatives[pairs[0]] * np.conj(derivatives[pairs[1]])
-    return table[:, pairs[0], pairs[1]] @ products
+    return np.einsum("kp,pt->kt", table[:, pairs[0], pairs[1]], products)
 
 
 def memory_at_direction(modes: dict, times, theta: float, phi: float, early_inspiral: bool = False,
@@ -104,7 +104,13 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     keys, stacked = _stack(modes)
     weights = direction_matrix(keys, theta, phi)
     derivatives = time_derivative(stacked, step)
-    rate = np.einsum("it,it->t", derivatives, weights @ np.conj(derivatives))
+    # elementwise products only, no BLAS: a threaded BLAS may change its summation order with the
+    # thread count, and campaign records must not depend on how a worker was started
+    conjugate = np.conj(derivatives)
+    contracted = weights[:, 0, None] * conjugate[0]
+    for column in range(1, weights.shape[1]):
+        contracted += weights[:, column, None] * conjugate[column]
+    rate = np.sum(derivatives * contracted, axis=0)
     memory = cumulative_integral(rate, step)
     if early_inspiral:
         for (l, m), value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():

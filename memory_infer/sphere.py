@@ -157,4 +157,4 @@ def direction_matrix(input_modes: tuple, theta: float, phi: float) -> np.ndarray
     ``W_ij = sum_l coefficients[(l, m_i - m_j), i, j] -2Y_{l, m_i - m_j}(N)``, l up to l_i + l_j.
     """
     harmonics, table = _direction_tables(tuple(input_modes))
-    return np.tensordot(harmonics(theta, phi), table, axes=(0, 0))
+    return np.einsum("k,kij->ij", harmonics(theta, phi), table)  # einsum: independent of BLAS threads

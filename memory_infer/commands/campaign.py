@@ -62,8 +62,9 @@ def run(args) -> int:
     threshold = summary["events_to_threshold"]
     print(f"{summary['n_injections']} injections, {summary['n_failed']} failed, {summary['n_detected']} detected; "
           f"mean ln BF+ per detected event {summary['ln_bf']['mean']}")
-    if threshold["median"] is not None:
-        print(f"events to ln BF = {threshold['threshold']:g}: median {threshold['median']:.0f} "
-              f"(90%: {threshold['lower_90']:.0f} to {threshold['upper_90']:.0f})")
+    from ..campaign_report import _count
+
+    print(f"events to ln BF = {threshold['threshold']:g}: median {_count(threshold['median'])} "
+          f"(90%: {_count(threshold['lower_90'])} to {_count(threshold['upper_90'])})")
     print(f"wrote {args.outdir}/campaign.json, injections.csv and report.html")
     return 0
