@@ -12,6 +12,7 @@ COMMANDS = {
     "evidence": "Bayes factors for one event (nested sampling, reweighting, fast), with its report",
     "combine": "catalog combination of per-event results, with its report",
     "campaign": "injection-recovery campaign: distributions, forecasts, calibration",
+    "rank": "events ranked by memory-only SNR, to choose which to analyse first",
     "demo": "the built-in invented scenario, end to end",
 }
 

@@ -97,7 +97,7 @@ def read_table(path: str, geocent_time: float) -> list:
     sources = []
     for row in frame.to_dict("records"):
         source = dict(ZERO_DEFAULTS, geocent_time=geocent_time)
-        source.update({k: float(v) for k, v in row.items()})
+        source.update({k: float(v) for k, v in row.items() if k != "label"})
         missing = [k for k in SOURCE_PARAMETERS if k not in source]
         if missing:
             raise MemoryInferError(f"injection table '{os.path.basename(path)}' lacks the column {missing[0]!r}")
