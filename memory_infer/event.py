@@ -117,6 +117,7 @@ class EventOutcome:
     nested_results: dict = field(default_factory=dict)
     reweighting_weights: dict = field(default_factory=dict)
     reference_point: dict | None = None
+    waveform_failures: int = 0
 
 
 def _sampled_columns(priors) -> list:
@@ -132,6 +133,9 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventOut
     setup.lookup_path = os.path.join(outdir, "runs", "distance_lookup.npz")
     os.makedirs(os.path.join(outdir, "runs"), exist_ok=True)
 
+    from . import signal
+
+    failures_before = signal.failure_count
     results = {}
     best_samples = {}
     if "nested" in methods:
@@ -229,6 +233,11 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventOut
                             "weight_plus": float(1 / (1 + np.exp(two[1].ln_bf - two[0].ln_bf))),
                             "method": two[0].method, "note": "from the fast two-point approximation only"}
     outcome.headline = choose_headline(outcome.methods)
+    failures = signal.failure_count - failures_before
+    outcome.waveform_failures = failures
+    if failures:
+        outcome.warnings.append(f"{failures} waveform evaluations failed during sampling or reweighting and were "
+                                "counted as zero likelihood")
     return outcome
 
 

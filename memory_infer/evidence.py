@@ -109,6 +109,8 @@ def run_nested(likelihood, priors, label: str, outdir: str, live_points: int = 2
     """One dynesty run through bilby; checkpoints to ``outdir`` and resumes from there when rerun."""
     import bilby
 
+    if checkpoint_exists(outdir, label):
+        print(f"resuming nested run '{label}' from its checkpoint in {outdir}", flush=True)
     return bilby.run_sampler(
         likelihood=likelihood, priors=priors, sampler="dynesty", nlive=int(live_points), sample="acceptance-walk",
         naccept=int(accepted_walks), npool=int(pool), outdir=outdir, label=label, resume=True,
@@ -149,8 +151,11 @@ def log_likelihood_grid(likelihood: MemoryTransient, samples, amplitudes, progre
         try:
             out[i] = likelihood.log_likelihood_ratio_curve(point, amplitudes)
         except WaveformError:
+            from . import signal
+
             out[i] = -np.inf
             failures += 1
+            signal.failure_count += 1
     if failures:
         logger.warning("%d of %d samples had a failed waveform and count as zero likelihood", failures, len(records))
     return out

@@ -166,6 +166,7 @@ _SETTINGS = {"waveform_approximant": DEFAULT_APPROXIMANT, "reference_frequency":
              "minimum_frequency": 20.0, "memory_taper_duration": DEFAULT_TAPER_DURATION,
              "early_inspiral_memory": True, "mode_list": None, "include_memory": True}
 _cache: OrderedDict = OrderedDict()
+failure_count = 0  # waveform failures caught inside sampling (counted as zero likelihood)
 
 
 @lru_cache(maxsize=8)
@@ -233,7 +234,9 @@ def memory_binary_black_hole(frequency_array, mass_1, mass_2, luminosity_distanc
         parts = signal_parts(np.asarray(frequency_array), **parameters)
     except WaveformError as error:
         if waveform_kwargs.get("catch_waveform_errors", False):
-            logger.warning("waveform failed, likelihood set to zero: %s", error)
+            global failure_count
+            failure_count += 1
+            logger.debug("waveform failed, likelihood set to zero: %s", error)
             return None
         raise
     return {"plus": parts["plus"] + memory_amplitude * parts["memory_plus"],

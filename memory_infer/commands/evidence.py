@@ -12,6 +12,7 @@ def add_arguments(parser):
     parser.add_argument("config", help="TOML configuration of the event (see configs/example_event.toml)")
     parser.add_argument("--outdir", required=True, help="folder for evidence.json, report.html and the runs")
     parser.add_argument("--quiet", action="store_true", help="no progress bars")
+    parser.add_argument("--verbose", action="store_true", help="show bilby's and dynesty's log messages")
 
 
 def build_record(setup, outcome) -> dict:
@@ -29,12 +30,18 @@ def build_record(setup, outcome) -> dict:
                                   "method": "leading-order memory accumulated before the model's first sample"},
         "settings": setup.settings_fingerprint(),
         "warnings": outcome.warnings,
+        "waveform_failures": {"count": outcome.waveform_failures,
+                              "treatment": "a failed waveform counts as zero likelihood (ln L = -inf)"},
         "caution": CAUTION,
         "provenance": provenance(copy_config_for_output(config), config["sampler"]["seed"]),
     }
 
 
 def run(args) -> int:
+    if getattr(args, "verbose", False):
+        import logging
+
+        logging.getLogger("bilby").setLevel(logging.INFO)
     config = load_evidence_config(args.config)
     setup = prepare(config)  # every input checked before anything is written
     os.makedirs(args.outdir, exist_ok=True)
