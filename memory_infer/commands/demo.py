@@ -133,7 +133,7 @@ def run(args) -> int:
     from importlib import resources
 
     population = _write(os.path.join(configs, "population.toml"),
-                        resources.files("memory_infer").joinpath("data/demo_population.toml").read_text())
+                        resources.files("memory_infer").joinpath("demo_files/demo_population.toml").read_text())
     campaign_path = _write(os.path.join(configs, "campaign.toml"),
                            CAMPAIGN_TEMPLATE.format(population=os.path.basename(population), count=args.injections))
     campaign.run(argparse.Namespace(config=campaign_path, outdir=os.path.join(outdir, "campaign"),
