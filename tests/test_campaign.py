@@ -78,7 +78,7 @@ def test_population_draws_are_seeded_and_physical(tmp_path):
 
 
 def test_kill_and_resume_gives_every_injection_once(tmp_path):
-    config = campaign_config(tmp_path, count=150)
+    config = campaign_config(tmp_path, count=300)
     reference_dir = tmp_path / "reference"
     reference = run_store(config, reference_dir, InlineExecutor(), 1)
     outdir = tmp_path / "killed"
@@ -93,10 +93,10 @@ def test_kill_and_resume_gives_every_injection_once(tmp_path):
     finished = subprocess.run(command, capture_output=True, text=True, timeout=600)
     assert finished.returncode == 0, finished.stderr
     resumed = stored(outdir)
-    assert sorted(resumed) == list(range(150))
+    assert sorted(resumed) == list(range(300))
     assert resumed == reference
     summary = json.loads((outdir / "campaign.json").read_text())
-    assert summary["n_injections"] == 150
+    assert summary["n_injections"] == 300
 
 
 def test_local_pool_and_dask_cluster_agree(tmp_path):
