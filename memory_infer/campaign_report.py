@@ -46,9 +46,11 @@ def _pp_figure(summary):
                           color="0.85", label="90% band for uniform")
         axis.plot(quantiles, ranks / n, color="C0", label=f"A (KS p = {summary['pp']['ks_pvalue']:.2f})")
         axis.plot(grid, grid, color="k", lw=0.6)
+        axis.legend(fontsize=7)
+    else:
+        axis.text(0.5, 0.5, "no free-amplitude quantiles", transform=axis.transAxes, ha="center")
     axis.set_xlabel("posterior quantile of the injected A")
     axis.set_ylabel("fraction of injections")
-    axis.legend(fontsize=7)
     return figure_to_html(fig, "PP plot")
 
 
