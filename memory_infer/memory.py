@@ -106,10 +106,7 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     derivatives = time_derivative(stacked, step)
     # elementwise products only, no BLAS: a threaded BLAS may change its summation order with the
     # thread count, and campaign records must not depend on how a worker was started
-    conjugate = np.conj(derivatives)
-    contracted = weights[:, 0, None] * conjugate[0]
-    for column in range(1, weights.shape[1]):
-        contracted += weights[:, column, None] * conjugate[column]
+    contracted = (weights[:, :, None] * np.conj(derivatives)[None, :, :]).sum(axis=1)
     rate = np.sum(derivatives * contracted, axis=0)
     memory = cumulative_integral(rate, step)
     if early_inspiral:
