@@ -30,16 +30,19 @@ def events_to_threshold(values, threshold: float, bootstrap: int, seed: int, max
     values = np.asarray(values, dtype=float)
     out = {"threshold": float(threshold), "median": None, "lower_90": None, "upper_90": None, "reached_fraction": 0.0,
            "bootstrap": int(bootstrap),
-           "method": "bootstrap catalogs drawn with replacement from the detected injections; first crossing"}
+           "method": "two-stage bootstrap: resample the detected injections, then draw catalogs from that "
+                     "resample until the cumulative ln BF first crosses the threshold"}
     if values.size == 0:
         return out
     rng = np.random.default_rng(seed)
     chunk = min(max_events, max(1000, int(4 * threshold / max(values.mean(), 1e-6))))
     counts = []
     for _ in range(bootstrap):
+        # two stages: resample the injections (the population estimate is uncertain too), then a catalog
+        population = rng.choice(values, size=values.size)
         total, offset, found = 0.0, 0, None
         while offset < max_events:
-            draws = np.cumsum(rng.choice(values, size=chunk)) + total
+            draws = np.cumsum(rng.choice(population, size=chunk)) + total
             crossing = np.flatnonzero(draws >= threshold)
             if crossing.size:
                 found = offset + int(crossing[0]) + 1

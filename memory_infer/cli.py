@@ -37,6 +37,8 @@ def main(argv=None) -> int:
     from .performance import tune_allocator
 
     tune_allocator()
+    import bilby  # noqa: F401  (its import sets its logger to INFO; quieten it afterwards)
+
     logging.getLogger("bilby").setLevel(logging.WARNING)
     args = build_parser().parse_args(argv)
     try:
