@@ -22,7 +22,7 @@ NOISE_LABEL = {"gaussian": "Gaussian noise", "zero": "zero noise"}
 
 
 @lru_cache(maxsize=4)
-def _generator(duration, rate, approximant, minimum_frequency):
+def cached_generator(duration, rate, approximant, minimum_frequency):
     from .likelihood import waveform_generator
 
     arguments = dict(waveform_approximant=approximant, minimum_frequency=minimum_frequency,
@@ -31,7 +31,7 @@ def _generator(duration, rate, approximant, minimum_frequency):
 
 
 @lru_cache(maxsize=4)
-def _detectors(network: str, minimum_frequency: float):
+def cached_detectors(network: str, minimum_frequency: float):
     import bilby
 
     from .detectors import network as network_members, power_spectral_density
@@ -52,9 +52,9 @@ def _simulate(task):
     import bilby
 
     settings = task["settings"]
-    generator = _generator(settings["duration"], settings["sampling_rate"], settings["approximant"],
+    generator = cached_generator(settings["duration"], settings["sampling_rate"], settings["approximant"],
                            settings["minimum_frequency"])
-    detectors = _detectors(settings["network"], settings["minimum_frequency"])
+    detectors = cached_detectors(settings["network"], settings["minimum_frequency"])
     bilby.core.utils.random.seed(noise_seed(settings["seed"], task["index"]))
     start = task["source"]["geocent_time"] - settings["duration"] + 2.0
     if settings["noise"] == "zero":

@@ -16,11 +16,11 @@ def add_arguments(parser):
 
 def memory_snr(source: dict, network: str, duration: float, minimum_frequency: float) -> float:
     """Optimal network SNR of the memory alone, zero noise (noise-weighted inner product)."""
-    from ..injection import _detectors, _generator
+    from ..injection import cached_detectors, cached_generator
     from ..likelihood import MemoryTransient
 
-    generator = _generator(duration, 2048.0, "IMRPhenomTHM", minimum_frequency)
-    detectors = _detectors(network, minimum_frequency)
+    generator = cached_generator(duration, 2048.0, "IMRPhenomTHM", minimum_frequency)
+    detectors = cached_detectors(network, minimum_frequency)
     start = source["geocent_time"] - duration + 2.0
     detectors.set_strain_data_from_zero_noise(2048.0, duration, start)
     generator.start_time = start
