@@ -135,6 +135,12 @@ def amplitude_grid(config: dict):
     import numpy as np
 
     low, high, points = config["evidence"]["amplitude_grid"]
+    return grid_with_hypotheses(low, high, points)
+
+
+def grid_with_hypotheses(low, high, points):
+    """A uniform grid of A from ``low`` to ``high`` that also holds -1, 0 and 1 exactly."""
+    import numpy as np
+
     grid = np.linspace(float(low), float(high), int(points))
-    grid = np.unique(np.round(np.concatenate([grid, [-1.0, 0.0, 1.0]]), 12))
-    return grid
+    return np.unique(np.round(np.concatenate([grid, [-1.0, 0.0, 1.0]]), 12))

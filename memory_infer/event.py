@@ -174,7 +174,6 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventOut
             outcome.warnings.append("reweighting asked for, but there are no posterior samples (run 'nested' for the "
                                     "'none' or 'memory' hypothesis, or give samples_file)")
         limit = int(config["evidence"]["max_reweight_samples"])
-        best_samples = {}
         for name, (frame, base) in sample_sets.items():
             if len(frame) > limit:
                 frame = frame.sample(n=limit, random_state=int(sampler["seed"]))

@@ -131,6 +131,7 @@ def _recovery_priors(truth, free_parameters):
 
 
 def _full_recovery(task, likelihood, truth) -> dict:
+    from .config import grid_with_hypotheses
     from .evidence import (amplitude_curve, hypothesis_priors, log_likelihood_grid, nested_bayes_factor,
                            reweighting_estimate, run_nested)
 
@@ -139,7 +140,7 @@ def _full_recovery(task, likelihood, truth) -> dict:
     workdir = os.path.join(settings["workdir"], f"injection-{task['index']}")
     base = _recovery_priors(truth, recovery["free_parameters"])
     limits = settings["free_amplitude_limits"]
-    grid = np.unique(np.round(np.concatenate([np.linspace(limits[0], limits[1], 101), [-1.0, 0.0, 1.0]]), 12))
+    grid = grid_with_hypotheses(limits[0], limits[1], 101)
     out = {}
 
     def nested(hypothesis, offset):

@@ -9,7 +9,7 @@ from ..detectors import NOISE_CURVES, optimal_snr, psd_values
 from ..errors import MemoryInferError
 from ..io import atomic_path
 from ..models import DEFAULT_APPROXIMANT, SUPPORTED, generate_modes
-from ..signal import circular_layout, segment_geometry, time_signal, to_frequency_domain
+from ..signal import circular_layout, time_signal, to_frequency_domain
 
 
 def add_arguments(parser):
@@ -50,10 +50,9 @@ def run(args) -> int:
     signal = time_signal(series, args.inclination, args.phase, early_inspiral=not args.no_early_inspiral)
     n_buffer = int(round(args.segment * args.sampling_rate)) // 2 * 2
     frequencies = np.fft.rfftfreq(n_buffer, delta_t)
-    _, dt = segment_geometry(frequencies)
-    oscillatory, memory, shift = circular_layout(signal, n_buffer, dt, 1.0, 2.0 / args.start_frequency)
-    memory_fd = to_frequency_domain(memory, dt, shift, frequencies)
-    oscillatory_fd = to_frequency_domain(oscillatory, dt, shift, frequencies)
+    oscillatory, memory, shift = circular_layout(signal, n_buffer, delta_t, 1.0, 2.0 / args.start_frequency)
+    memory_fd = to_frequency_domain(memory, delta_t, shift, frequencies)
+    oscillatory_fd = to_frequency_domain(oscillatory, delta_t, shift, frequencies)
     psd = psd_values(args.noise, frequencies)
     memory_snr = optimal_snr(memory_fd["plus"], psd, frequencies, args.start_frequency)
     oscillatory_snr = optimal_snr(oscillatory_fd["plus"], psd, frequencies, args.start_frequency)
