@@ -7,17 +7,43 @@ Flux form (Wiseman & Will, PRD 44, R2945 (1991)), r = 1:
 Mode form: ``h_mem_lm = sqrt((l-2)!/(l+2)!) int dt' sum dh_{l'm'} conj(dh_{l''m''})
 oint -2Y_{l'm'} conj(-2Y_{l''m''}) conj(Y_lm) dOmega`` (couplings in :mod:`memory_infer.sphere`).
 
+Sign convention (the one place it is decided). Inputs and outputs are modes in lalsimulation's
+convention: its polarization basis is rotated by 90 degrees from (e_theta, e_phi) (Blanchet et al.,
+CQG 25, 165003 (2008)), so every oscillatory mode has the opposite sign there (leading order
+``h_22 = +8 sqrt(pi/5) eta x e^{-2i Phi}``) while ``|dh/dt|^2`` is the same. The flux form gives the
+memory in the (e_theta, e_phi) basis; it is multiplied by ``LALSIMULATION_SIGN`` = -1 before it meets
+lalsimulation's modes. Checked against lalsimulation's own TaylorT4 memory modes (tests/test_memory.py),
+whose leading order is ``h_mem_20 = -(4/7) sqrt(5 pi / 6) eta x``.
+
+Sampling: the flux is taken from ``finer`` samplings of the late inspiral and merger where the data's
+grid does not resolve them (:mod:`memory_infer.models.refine`); the cumulative memory of each level is
+joined continuously to the one before at the level's ``use_from`` time and read off at the data's times.
+
 The memory accumulated before the first sample (the early inspiral) is not in the modes;
 ``early_inspiral=True`` adds its leading-order value (Favata, PRD 80, 024002 (2009)):
-``h+_mem = 2 eta x sin^2(i) (17 + cos^2 i) / 96`` at the first sample's orbital ``x``.
+``h+_mem = -2 eta x sin^2(i) (17 + cos^2 i) / 96`` (lalsimulation's sign) at the first sample's ``x``.
+It is constant over a segment, so it only moves the zero-frequency bin and never changes ln L.
 """
 from __future__ import annotations
 
+from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
 
 from .sphere import coupling_table, direction_matrix, spin_weighted_harmonic
+
+
+LALSIMULATION_SIGN = -1.0  # flux-form memory (e_theta, e_phi basis) -> lalsimulation's polarization basis
+
+
+@dataclass
+class Sampling:
+    """Modes ``(l, m) -> r h_lm / M`` on one uniform grid ``times`` (t / M), used from ``use_from`` on."""
+
+    times: np.ndarray
+    modes: dict
+    use_from: float = float("-inf")
 
 
 def time_derivative(values: np.ndarray, step: float) -> np.ndarray:
@@ -63,21 +89,30 @@ def default_ell_max(modes) -> int:
 
 
 def memory_modes(modes: dict, times, ell_max: int | None = None, early_inspiral: bool = False,
-                 symmetric_mass_ratio: float | None = None) -> dict:
+                 symmetric_mass_ratio: float | None = None, finer=()) -> dict:
     """Memory modes ``(l, m) -> r h_mem_lm / M`` from oscillatory modes ``(l, m) -> r h_lm / M``.
 
-    ``times`` are the uniform sample times in M. ``ell_max`` defaults to twice the largest input
-    degree, which keeps every coupling (exact mode sum); every m the inputs allow (m = m' - m'')
-    is returned. ``early_inspiral=True`` adds the leading-order memory of the inspiral before the
-    first sample to the (2, 0) and (4, 0) modes, from the (2, 2) frequency at the first sample and
-    ``symmetric_mass_ratio`` (required then).
+    Both in lalsimulation's convention (module docstring): for a quasi-circular inspiral the (2, 0)
+    memory mode decreases. ``times`` are the uniform sample times in M. ``ell_max`` defaults to twice
+    the largest input degree, which keeps every coupling (exact mode sum); every m the inputs allow
+    (m = m' - m'') is returned. ``finer``: :class:`Sampling` levels of the late part at finer steps,
+    whose flux replaces the coarse one from each level's ``use_from`` on. ``early_inspiral=True`` adds
+    the leading-order memory of the inspiral before the first sample to the (2, 0) and (4, 0) modes,
+    from the (2, 2) frequency at the first sample and ``symmetric_mass_ratio`` (required then).
     """
     step = _uniform_step(times)
     keys, stacked = _stack(modes)
     ell_max = default_ell_max(keys) if ell_max is None else int(ell_max)
     output, table = coupling_table(keys, ell_max)
-    rates = _table_rates(table, time_derivative(stacked, step))
-    memory = cumulative_integral(rates, step)
+
+    def cumulative(level_times, level_stack):
+        level_step = _uniform_step(level_times)
+        return LALSIMULATION_SIGN * cumulative_integral(
+            _table_rates(table, time_derivative(level_stack, level_step)), level_step)
+
+    memory = _joined(np.asarray(times, float), cumulative(times, stacked),
+                     [(level.use_from, window_times, cumulative(window_times, window_stack))
+                      for level, window_times, window_stack in _windows(keys, finer)])
     result = {mode: memory[k] for k, mode in enumerate(output)}
     if early_inspiral:
         for mode, value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():
@@ -94,25 +129,86 @@ def _table_rates(table: np.ndarray, derivatives: np.ndarray) -> np.ndarray:
 
 
 def memory_at_direction(modes: dict, times, theta: float, phi: float, early_inspiral: bool = False,
-                        symmetric_mass_ratio: float | None = None) -> np.ndarray:
+                        symmetric_mass_ratio: float | None = None, finer=()) -> np.ndarray:
     """Complex memory strain ``h+_mem - i hx_mem`` (r h / M) towards (theta, phi), every degree kept.
 
-    The hot path: the couplings are contracted with ``-2Y_lm(theta, phi)`` first, so the cost is one
-    small quadratic form per sample, ``h_mem = int sum_ij W_ij dh_i conj(dh_j) dt``.
+    lalsimulation's convention (module docstring). The hot path: the couplings are contracted with
+    ``-2Y_lm(theta, phi)`` first, so the cost is one small quadratic form per sample,
+    ``h_mem = int sum_ij W_ij dh_i conj(dh_j) dt``. ``finer`` as in :func:`memory_modes`.
     """
-    step = _uniform_step(times)
-    keys, stacked = _stack(modes)
+    keys, _ = _stack(modes)
     weights = direction_matrix(keys, theta, phi)
-    derivatives = time_derivative(stacked, step)
-    # elementwise products only, no BLAS: a threaded BLAS may change its summation order with the
-    # thread count, and campaign records must not depend on how a worker was started
-    contracted = (weights[:, :, None] * np.conj(derivatives)[None, :, :]).sum(axis=1)
-    rate = np.sum(derivatives * contracted, axis=0)
-    memory = cumulative_integral(rate, step)
+
+    def cumulative(level_times, stacked):
+        step = _uniform_step(level_times)
+        derivatives = time_derivative(stacked, step)
+        # elementwise products only, no BLAS: a threaded BLAS may change its summation order with the
+        # thread count, and campaign records must not depend on how a worker was started
+        contracted = (weights[:, :, None] * np.conj(derivatives)[None, :, :]).sum(axis=1)
+        rate = np.sum(derivatives * contracted, axis=0)
+        return LALSIMULATION_SIGN * cumulative_integral(rate, step)
+
+    times = np.asarray(times, float)
+    _, stacked = _stack(modes)
+    windows = _windows(keys, finer)
+    if windows:  # the coarse flux is needed only until the first finer level takes over
+        end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3)
+        coarse = cumulative(times[:end], stacked[:, :end])
+        coarse = np.concatenate([coarse, np.full(times.size - end, coarse[-1])])
+    else:
+        coarse = cumulative(times, stacked)
+    memory = _joined(times, coarse, [(level.use_from, window_times, cumulative(window_times, window_stack))
+                                     for level, window_times, window_stack in windows])
     if early_inspiral:
         for (l, m), value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():
             memory = memory + value * spin_weighted_harmonic(-2, l, m, theta, phi)
     return memory
+
+
+def _windows(keys, finer):
+    """``(level, times, stacked modes)`` of each finer level, cut to where it is used (plus a few samples)."""
+    out = []
+    for k, level in enumerate(finer):
+        level_keys, stacked = _stack(level.modes)
+        if level_keys != keys:
+            raise ValueError("every sampling must hold the same modes")
+        level_times = np.asarray(level.times, float)
+        start = max(int(np.searchsorted(level_times, level.use_from)) - 4, 0)
+        end = level_times.size
+        if k + 1 < len(finer):  # the next level takes over there
+            end = min(end, int(np.searchsorted(level_times, finer[k + 1].use_from)) + 3)
+        if end - start < 5:
+            end = min(level_times.size, start + 5)
+        out.append((level, level_times[start:end], stacked[:, start:end]))
+    return out
+
+
+def _interpolate(new_times, times, values):
+    """Linear interpolation along the last axis of complex values (the cumulative memory is smooth)."""
+    values = np.asarray(values)
+    flat = values.reshape(-1, values.shape[-1])
+    out = np.empty((flat.shape[0], np.size(new_times)), dtype=complex)
+    for k, row in enumerate(flat):
+        out[k] = np.interp(new_times, times, row.real) + 1j * np.interp(new_times, times, row.imag)
+    return out.reshape(values.shape[:-1] + (np.size(new_times),))
+
+
+def _joined(times, coarse, levels):
+    """The cumulative memory at ``times`` from the coarse level and finer levels ``(use_from, times, memory)``.
+
+    Each level's memory is shifted to continue the previous one at its ``use_from`` time and replaces it
+    from there on; beyond a level's last sample its final value holds (the plateau).
+    """
+    result = np.array(coarse, dtype=complex, copy=True)
+    previous_times, previous = times, result
+    for use_from, level_times, level_memory in levels:
+        join = np.array([use_from])
+        shifted = level_memory + (_interpolate(join, previous_times, previous)
+                                  - _interpolate(join, level_times, level_memory))
+        after = times >= use_from
+        result[..., after] = _interpolate(times[after], level_times, shifted)
+        previous_times, previous = level_times, shifted
+    return result
 
 
 @lru_cache(maxsize=1)
@@ -120,11 +216,11 @@ def _leading_order_projection():
     """Coefficients c_l with ``h_mem_l0 = c_l eta x`` for the leading-order (2, +-2) memory.
 
     Projects Favata's ``2 sin^2 i (17 + cos^2 i) / 96`` on ``-2Y_l0`` (a polynomial: the
-    Gauss-Legendre rule is exact); only l = 2 and l = 4 are nonzero.
+    Gauss-Legendre rule is exact), times ``LALSIMULATION_SIGN``; only l = 2 and l = 4 are nonzero.
     """
     nodes, weights = np.polynomial.legendre.leggauss(16)
     inclination = np.arccos(nodes)
-    angular = 2 * (1 - nodes ** 2) * (17 + nodes ** 2) / 96
+    angular = LALSIMULATION_SIGN * 2 * (1 - nodes ** 2) * (17 + nodes ** 2) / 96
     return {(l, 0): float(2 * np.pi * np.sum(weights * angular * spin_weighted_harmonic(-2, l, 0, inclination, 0.0).real))
             for l in (2, 4)}
 
@@ -156,7 +252,7 @@ def memory_quadrature(modes: dict, times, theta: float, phi: float, n_theta: int
 
     With e_theta, e_phi of N as the other two axes the kernel ``(mbar.n')^2/(1 - n'.N)`` becomes
     ``(1 + cos th') e^{-2 i ph'} / 2``; Gauss-Legendre in cos th' times a uniform rule in ph'.
-    For tests only.
+    Returned in lalsimulation's convention like the mode sum. For tests only.
     """
     step = _uniform_step(times)
     keys, stacked = _stack(modes)
@@ -178,7 +274,7 @@ def memory_quadrature(modes: dict, times, theta: float, phi: float, n_theta: int
     harmonics = np.array([spin_weighted_harmonic(-2, l, m, source_theta, source_phi) for l, m in keys])
     strain_rate = harmonics.T @ derivatives
     rate = (weights * kernel) @ np.abs(strain_rate) ** 2 / (4 * np.pi)
-    return cumulative_integral(rate, step)
+    return LALSIMULATION_SIGN * cumulative_integral(rate, step)
 
 
 def energy_flux(modes: dict, times) -> np.ndarray:

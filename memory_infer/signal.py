@@ -66,9 +66,10 @@ def time_signal(series: ModeSeries, inclination: float, phase: float,
                 early_inspiral: bool = True, include_memory: bool = True) -> TimeSignal:
     """Oscillatory and memory strain towards the observer, SI units.
 
-    The memory uses every coupled degree (exact mode sum); ``early_inspiral`` adds the
-    leading-order memory of the inspiral before the model's first sample (aligned spins only;
-    for precessing models it is added along the initial orbital angular momentum).
+    The memory uses every coupled degree (exact mode sum) and takes its flux from ``series.finer``
+    where the data's grid does not resolve the merger; ``early_inspiral`` adds the leading-order
+    memory of the inspiral before the model's first sample (for precessing models along the initial
+    orbital angular momentum), a constant that moves only the zero-frequency bin, never ln L.
     """
     theta, phi = observer_angles(inclination, phase)
     oscillatory = mode_sum(series.modes, theta, phi)
@@ -77,7 +78,8 @@ def time_signal(series: ModeSeries, inclination: float, phase: float,
     geometric_times, geometric_modes = series.geometric()
     memory = memory_at_direction(geometric_modes, geometric_times, theta, phi,
                                  early_inspiral=early_inspiral,
-                                 symmetric_mass_ratio=series.symmetric_mass_ratio)
+                                 symmetric_mass_ratio=series.symmetric_mass_ratio,
+                                 finer=series.geometric_finer())
     memory = memory * series.strain_scale
     offset = float(abs(memory[0]))
     return TimeSignal(series.times, oscillatory, memory, offset)
@@ -171,10 +173,10 @@ failure_count = 0  # waveform failures caught inside sampling (counted as zero l
 
 @lru_cache(maxsize=8)
 def _unit_distance_modes(approximant, mass_1, mass_2, delta_t, minimum_frequency, spin_1, spin_2,
-                         reference_frequency, mode_list) -> ModeSeries:
+                         reference_frequency, mode_list, finer_for_memory=True) -> ModeSeries:
     """Modes at 1 Mpc, cached on the intrinsic parameters: distance, inclination and phase reuse them."""
     return generate_modes(approximant, mass_1, mass_2, 1.0, delta_t, minimum_frequency, spin_1, spin_2,
-                          reference_frequency, mode_list)
+                          reference_frequency, mode_list, finer_for_memory=finer_for_memory)
 
 
 def signal_parts(frequency_array, **parameters) -> dict:
@@ -198,7 +200,8 @@ def signal_parts(frequency_array, **parameters) -> dict:
     mode_list = tuple(tuple(int(x) for x in mode) for mode in settings["mode_list"]) if settings["mode_list"] else None
     series = _unit_distance_modes(settings["waveform_approximant"], values["mass_1"], values["mass_2"], delta_t,
                                   float(settings["minimum_frequency"]), tuple(float(x) for x in spin_1),
-                                  tuple(float(x) for x in spin_2), float(settings["reference_frequency"]), mode_list)
+                                  tuple(float(x) for x in spin_2), float(settings["reference_frequency"]), mode_list,
+                                  bool(settings["include_memory"]))
     signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]),
                          bool(settings["include_memory"]))
     start_duration = 2.0 / max(settings["minimum_frequency"], 1.0)

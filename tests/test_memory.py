@@ -20,8 +20,9 @@ def test_leading_order_mode_matches_closed_form(leading_order):
     times, modes, eta, x = leading_order
     memory = memory_modes(modes, times)
     i, j = len(times) // 4, int(0.9 * len(times))
-    # r h_mem_20 / M = (4/7) sqrt(5 pi / 6) eta x: M. Favata, PRD 80, 024002 (2009) (l = 2 projection)
-    expected = (4 / 7) * np.sqrt(5 * np.pi / 6) * eta * (x[j] - x[i])
+    # r h_mem_20 / M = -(4/7) sqrt(5 pi / 6) eta x: M. Favata, PRD 80, 024002 (2009) (l = 2 projection),
+    # negative in lalsimulation's basis (Blanchet et al., CQG 25, 165003 (2008))
+    expected = -(4 / 7) * np.sqrt(5 * np.pi / 6) * eta * (x[j] - x[i])
     assert abs((memory[(2, 0)][j] - memory[(2, 0)][i]).real / expected - 1) < 5e-3
 
 
@@ -30,8 +31,10 @@ def test_leading_order_plus_polarization_matches_closed_form(leading_order, incl
     times, modes, eta, x = leading_order
     memory = memory_at_direction(modes, times, inclination, 0.3)
     i, j = len(times) // 4, int(0.9 * len(times))
-    # h+_mem = (2 eta M x / R) sin^2 i (17 + cos^2 i) / 96: M. Favata, ApJ 696, L159 (2009)
-    expected = 2 * eta * (x[j] - x[i]) * np.sin(inclination) ** 2 * (17 + np.cos(inclination) ** 2) / 96
+    # h+_mem = -(2 eta M x / R) sin^2 i (17 + cos^2 i) / 96 for h22 = +8 sqrt(pi/5) eta x e^{-2i Phi}:
+    # M. Favata, ApJ 696, L159 (2009) and PRD 80, 024002 (2009), in the (e_theta, e_phi) basis with the other
+    # sign; lalsimulation's basis: Blanchet et al., CQG 25, 165003 (2008)
+    expected = -2 * eta * (x[j] - x[i]) * np.sin(inclination) ** 2 * (17 + np.cos(inclination) ** 2) / 96
     accumulated = memory[j] - memory[i]
     assert abs(accumulated.real / expected - 1) < 5e-3
     assert abs(accumulated.imag) < 5e-3 * abs(expected)  # h_x memory vanishes (same reference)
@@ -100,8 +103,9 @@ def test_equal_mass_energy_and_final_memory():
     assert abs(radiated + 0.25 * x0 / 2 - 0.048) < 0.005
     assert radiated < 0.048
     memory = memory_modes(modes, times, ell_max=4, early_inspiral=True, symmetric_mass_ratio=0.25)
-    # final r h_mem_20 / M near 0.1 (numerical-relativity fact, from memory), 20%, early inspiral included
-    assert abs(memory[(2, 0)][-1].real - 0.1) < 0.02
+    # final r h_mem_20 / M near 0.1 in size (numerical-relativity fact, from memory), 20%, early inspiral
+    # included; negative in lalsimulation's basis (Blanchet et al., CQG 25, 165003 (2008))
+    assert abs(memory[(2, 0)][-1].real + 0.1) < 0.02
 
 
 def test_early_inspiral_offset_is_the_leading_order_value(leading_order):
@@ -109,8 +113,8 @@ def test_early_inspiral_offset_is_the_leading_order_value(leading_order):
     offset = early_inspiral_offset(modes, times, eta)
     # x at the first sample from the (2, 2) phase rate equals the analytic x(t) of the model
     assert abs(orbital_velocity_parameter(modes, times) / x[0] - 1) < 1e-3
-    # Favata, PRD 80, 024002 (2009): the (2, 0) value (4/7) sqrt(5 pi / 6) eta x
-    assert abs(offset[(2, 0)] / ((4 / 7) * np.sqrt(5 * np.pi / 6) * eta * x[0]) - 1) < 1e-3
+    # Favata, PRD 80, 024002 (2009): the (2, 0) value -(4/7) sqrt(5 pi / 6) eta x in lalsimulation's basis
+    assert abs(offset[(2, 0)] / (-(4 / 7) * np.sqrt(5 * np.pi / 6) * eta * x[0]) - 1) < 1e-3
     with_offset = memory_modes(modes, times, early_inspiral=True, symmetric_mass_ratio=eta)
     without = memory_modes(modes, times)
     assert np.allclose(with_offset[(2, 0)] - without[(2, 0)], offset[(2, 0)])

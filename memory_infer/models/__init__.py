@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from .series import ModeSeries
 from . import analytic, lal_modes
+from .refine import finer_levels
 
 SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", analytic.NAME)
 DEFAULT_APPROXIMANT = "IMRPhenomTHM"
@@ -16,18 +17,27 @@ DEFAULT_APPROXIMANT = "IMRPhenomTHM"
 def generate_modes(approximant: str, mass_1: float, mass_2: float, luminosity_distance: float,
                    delta_t: float, minimum_frequency: float, spin_1=(0.0, 0.0, 0.0),
                    spin_2=(0.0, 0.0, 0.0), reference_frequency: float | None = None,
-                   mode_list=None) -> ModeSeries:
+                   mode_list=None, finer_for_memory: bool = True) -> ModeSeries:
     """Time-domain modes of one binary (detector-frame masses in solar masses, distance in Mpc).
 
     ``spin_1``/``spin_2`` are dimensionless Cartesian spins in the frame of the orbital angular
     momentum at the reference frequency; ``mode_list`` restricts the modes (lalsimulation mode array).
+    Every model's modes are in lalsimulation's convention. With ``finer_for_memory`` the late inspiral
+    and merger are also sampled as finely as the memory's flux needs (``series.finer``, see
+    :mod:`.refine`); the modes themselves stay at ``delta_t``.
     """
-    if approximant == analytic.NAME:
-        return analytic.leading_order_inspiral(mass_1, mass_2, luminosity_distance, delta_t,
-                                               minimum_frequency)
-    return lal_modes.choose_td_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t,
-                                     minimum_frequency, spin_1, spin_2,
-                                     reference_frequency or minimum_frequency, mode_list)
+    reference_frequency = reference_frequency or minimum_frequency
+
+    def generate(step, start, reference):
+        if approximant == analytic.NAME:
+            return analytic.leading_order_inspiral(mass_1, mass_2, luminosity_distance, step, start)
+        return lal_modes.choose_td_modes(approximant, mass_1, mass_2, luminosity_distance, step, start,
+                                         spin_1, spin_2, reference, mode_list)
+
+    series = generate(delta_t, minimum_frequency, reference_frequency)
+    if finer_for_memory:
+        series.finer = finer_levels(series, generate, minimum_frequency, reference_frequency)
+    return series
 
 
 __all__ = ["ModeSeries", "generate_modes", "SUPPORTED", "DEFAULT_APPROXIMANT"]

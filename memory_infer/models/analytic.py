@@ -1,8 +1,10 @@
 """Leading-order (Newtonian, quadrupole) quasi-circular inspiral in its (2, +-2) modes; for tests.
 
 ``x = tau^(-1/4) / 4``, orbital phase ``phi = -tau^(5/8) / eta``, ``tau = eta (t_c - t) / (5 M)``,
-``r h_22 / M = -8 sqrt(pi/5) eta x e^{-2 i phi}``, ``h_2-2 = conj(h_22)``
-(e.g. Blanchet, Living Rev. Rel. 17, 2 (2014), eqs. 317 and 327, leading order).
+``r h_22 / M = +8 sqrt(pi/5) eta x e^{-2 i phi}``, ``h_2-2 = conj(h_22)``: lalsimulation's
+convention, whose polarization basis is rotated by 90 degrees from (e_theta, e_phi) (Blanchet et al.,
+CQG 25, 165003 (2008)); in the (e_theta, e_phi) basis of e.g. Blanchet, Living Rev. Rel. 17, 2 (2014),
+eqs. 317 and 327, the sign is minus.
 The series ends at x = 1/6 (t = 0 there), abruptly: use it away from its end.
 """
 from __future__ import annotations
@@ -34,7 +36,7 @@ def leading_order_inspiral(mass_1, mass_2, luminosity_distance, delta_t, minimum
     x = tau ** -0.25 / 4
     phase = -tau ** 0.625 / eta
     scale = total * SOLAR_MASS_METRES / (luminosity_distance * MEGAPARSEC_METRES)
-    h22 = -8 * np.sqrt(np.pi / 5) * eta * x * np.exp(-2j * phase) * scale
+    h22 = 8 * np.sqrt(np.pi / 5) * eta * x * np.exp(-2j * phase) * scale
     return ModeSeries(times=times, modes={(2, 2): h22, (2, -2): np.conj(h22)}, total_mass=total,
                       luminosity_distance=luminosity_distance, symmetric_mass_ratio=eta,
                       approximant=NAME)

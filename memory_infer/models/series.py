@@ -1,7 +1,7 @@
 """The container every model adapter returns, with the SI <-> geometric conversion."""
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -15,7 +15,10 @@ class ModeSeries:
     """Modes ``(l, m) -> h_lm`` as SI strain at the source distance, sampled at ``times`` (s).
 
     ``times`` are seconds relative to the model's own peak (t = 0); ``total_mass`` is the
-    detector-frame total mass in solar masses, ``luminosity_distance`` in Mpc.
+    detector-frame total mass in solar masses, ``luminosity_distance`` in Mpc. Modes are in
+    lalsimulation's convention (its leading-order ``h_22 = +8 sqrt(pi/5) eta x e^{-2i Phi}``).
+    ``finer`` holds finer samplings of the late part for the memory's flux (:mod:`.refine`), each
+    used from its ``use_from`` time (s) on.
     """
 
     times: np.ndarray
@@ -25,6 +28,8 @@ class ModeSeries:
     symmetric_mass_ratio: float
     approximant: str
     aligned_spins: bool = True
+    use_from: float = float("-inf")
+    finer: list = field(default_factory=list)
 
     @property
     def delta_t(self) -> float:
@@ -43,3 +48,13 @@ class ModeSeries:
         """``(t / M, {(l, m): r h_lm / M})`` for :func:`memory_infer.memory.memory_modes`."""
         scale = 1.0 / self.strain_scale
         return self.times / self.mass_seconds, {k: v * scale for k, v in self.modes.items()}
+
+    def geometric_finer(self) -> list:
+        """The finer samplings as :class:`memory_infer.memory.Sampling` in geometric units (t / M, r h / M)."""
+        from ..memory import Sampling
+
+        out = []
+        for level in self.finer:
+            times, modes = level.geometric()
+            out.append(Sampling(times=times, modes=modes, use_from=level.use_from / self.mass_seconds))
+        return out
