@@ -130,3 +130,60 @@ def test_derivative_and_integral_are_inverse():
 def test_rejects_nonuniform_times():
     with pytest.raises(ValueError, match="uniformly"):
         memory_modes({(2, 2): np.ones(4), (2, -2): np.ones(4)}, np.array([0, 1, 3, 4.0]))
+
+
+def _taylor_t4_own_modes(amplitude_order, rate=4096.0):
+    """lalsimulation's TaylorT4 modes of 20 + 15 M_sun from 20 Hz, its own memory modes included, r h / M."""
+    lal = pytest.importorskip("lal")
+    lalsim = pytest.importorskip("lalsimulation")
+    params = lal.CreateDict()
+    lalsim.SimInspiralWaveformParamsInsertPNAmplitudeOrder(params, amplitude_order)
+    distance = 100e6 * lal.PC_SI
+    linked = lalsim.SimInspiralChooseTDModes(0.0, 1 / rate, 20 * lal.MSUN_SI, 15 * lal.MSUN_SI, 0, 0, 0, 0, 0, 0,
+                                             20.0, 20.0, distance, params, 5,
+                                             lalsim.GetApproximantFromString("TaylorT4"))
+    modes = {}
+    while linked is not None:
+        modes[(linked.l, linked.m)] = np.array(linked.mode.data.data) / (35 * lal.MRSUN_SI / distance)
+        step = linked.mode.deltaT
+        linked = linked.next
+    times = np.arange(modes[(2, 2)].size) * step / (35 * lal.MTSUN_SI)
+    return times, modes
+
+
+def test_sign_and_size_match_lalsimulation_taylor_t4_memory_modes():
+    # reference library: lalsimulation's TaylorT4 returns its own post-Newtonian memory modes (2, 0) and (4, 0)
+    # (Blanchet et al., CQG 25, 165003 (2008)); ours from the same run's oscillatory modes
+    times, modes = _taylor_t4_own_modes(3)
+    oscillatory = {k: v for k, v in modes.items() if k[1] != 0}
+    ours = memory_modes(oscillatory, times)
+    own_20 = (modes[(2, 0)][-1] - modes[(2, 0)][0]).real
+    own_40 = (modes[(4, 0)][-1] - modes[(4, 0)][0]).real
+    assert own_20 < 0 and ours[(2, 0)][-1].real < 0  # sign: exact
+    assert own_40 < 0 and ours[(4, 0)][-1].real < 0
+    # size within the post-Newtonian truncation measured here: amplitude order 3 gives 0.9% on (2, 0)
+    assert abs(ours[(2, 0)][-1].real / own_20 - 1) < 0.015
+    # lalsimulation's own memory modes are the leading-order formula c_l eta x (Favata, PRD 80, 024002 (2009)),
+    # checked here to 0.6% along the run; ours carries the flux of the 1.5PN-accurate amplitudes, so (4, 0),
+    # whose leading-order coefficient is small, differs by the next order: 17% measured, 20% allowed
+    from memory_infer.memory import _leading_order_projection
+
+    eta = 20 * 15 / 35 ** 2
+    x = (-np.gradient(np.unwrap(np.angle(modes[(2, 2)])), times) / 2) ** (2 / 3)
+    for mode, coefficient in _leading_order_projection().items():
+        assert np.max(np.abs(modes[mode][:-10].real / (coefficient * eta * x[:-10]) - 1)) < 6e-3
+    assert abs(ours[(4, 0)][-1].real / own_40 - 1) < 0.2
+
+
+def test_lalsimulation_leading_order_h22_is_positive_at_the_reference_phase():
+    # reference library: at amplitude order 0 lalsimulation's TaylorT4 h22 at f_ref with phi_ref = 0 is
+    # +8 sqrt(pi/5) eta x (real, positive): the convention our analytic model and memory sign follow
+    times, modes = _taylor_t4_own_modes(0)
+    eta = 20 * 15 / 35 ** 2
+    x0 = (np.pi * 20.0 * 35 * 4.925490947641267e-06) ** (2 / 3)
+    assert abs(modes[(2, 2)][0] / (8 * np.sqrt(np.pi / 5) * eta * x0) - 1) < 1e-3
+    # our analytic model follows the same amplitude law (its sign is written in models/analytic.py)
+    from memory_infer.models.analytic import leading_order_inspiral
+
+    _, analytic_modes = leading_order_inspiral(20.0, 15.0, 100.0, 1 / 4096, 20.0).geometric()
+    assert abs(np.abs(analytic_modes[(2, 2)][0]) / (8 * np.sqrt(np.pi / 5) * eta * x0) - 1) < 1e-3
