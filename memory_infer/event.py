@@ -35,6 +35,7 @@ class EventSetup:
     grid: np.ndarray
     lookup_path: str | None = None
     external_samples: object = None  # checked posterior samples from samples_file, if any
+    notes: list = field(default_factory=list)  # warnings found while preparing (e.g. a segment too short)
 
     def likelihood(self, hypothesis: str, marginalize: bool = True):
         """(likelihood, priors) for a hypothesis, with the configured marginalizations (or none)."""
@@ -88,12 +89,17 @@ def prepare(config: dict) -> EventSetup:
                                                                  if k != "catch_waveform_errors"})
         except MemoryInferError as error:
             raise MemoryInferError(f"the injection cannot be generated: {error}") from None
+        from .signal import segment_note
+
+        note = segment_note(generator.frequency_array, float(data["minimum_frequency"]), **probe,
+                            **{k: v for k, v in arguments.items() if k != "catch_waveform_errors"})
+        notes = [f"injection: {note}"] if note else []
         detectors = simulated_detectors(config, injection, generator)
     else:
         detectors = file_detectors(config)
     priors = build_priors(config, injection)
     setup = EventSetup(config=config, detectors=detectors, generator=generator, priors=priors, injection=injection,
-                       grid=amplitude_grid(config))
+                       grid=amplitude_grid(config), notes=notes if data["kind"] == "simulated" else [])
     if config["evidence"]["samples_file"]:
         from .io import check_samples, read_samples
 
@@ -130,6 +136,7 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventOut
     methods = config["evidence"]["methods"]
     sampler = config["sampler"]
     outcome = EventOutcome(label=config["event"]["label"])
+    outcome.warnings.extend(setup.notes)
     setup.lookup_path = os.path.join(outdir, "runs", "distance_lookup.npz")
     os.makedirs(os.path.join(outdir, "runs"), exist_ok=True)
 

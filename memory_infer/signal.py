@@ -85,6 +85,11 @@ def time_signal(series: ModeSeries, inclination: float, phase: float,
     return TimeSignal(series.times, oscillatory, memory, offset)
 
 
+EARLY_INSPIRAL_EFFECT = ("a constant over the whole segment: it moves only the zero-frequency bin, which the "
+                         "likelihood does not use, so ln L and every Bayes factor are the same with or without it; "
+                         "it changes only the plotted level of the memory")
+
+
 def start_taper(n_samples: int, n_taper: int) -> np.ndarray:
     """Half-Hann rise over the first ``n_taper`` samples (removes the model's abrupt start)."""
     window = np.ones(n_samples)
@@ -124,6 +129,38 @@ def circular_layout(signal: TimeSignal, n_buffer: int, delta_t: float, taper_dur
     fall = 0.5 * (1 + np.cos(np.pi * np.arange(n_taper) / max(n_taper, 1)))
     buffer_memory[after % n_buffer] = memory[0] + (memory[-1] - memory[0]) * fall
     return buffer_oscillatory, buffer_memory, shift
+
+
+def truncated_start_frequency(series: ModeSeries, n_buffer: int, taper_duration: float):
+    """Frequency (Hz) of the (2, 2) mode where :func:`circular_layout` cuts the model's start.
+
+    None when the whole model fits the segment. When the result lies above the analysis's minimum
+    frequency, in-band inspiral is missing from the model (the memory keeps what it accumulated there).
+    """
+    delta_t = series.delta_t
+    n_taper = int(round(taper_duration / delta_t))
+    drop = series.times.size + n_taper - n_buffer
+    if drop <= 0:
+        return None
+    h = series.modes[(2, 2)][drop:drop + 2]
+    return float(abs(np.angle(h[1] * np.conj(h[0]))) / (2 * np.pi * delta_t))
+
+
+def segment_note(frequency_array, minimum_frequency: float, **parameters) -> str | None:
+    """One sentence when the segment is too short to hold the model's in-band inspiral, else None."""
+    n_buffer, delta_t = segment_geometry(frequency_array)
+    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
+    values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
+    _, spin_1, spin_2 = lalsimulation_spins(values, settings["reference_frequency"])
+    series = generate_modes(settings["waveform_approximant"], values["mass_1"], values["mass_2"], 1.0, delta_t,
+                            float(settings["minimum_frequency"]), spin_1, spin_2,
+                            float(settings["reference_frequency"]), settings["mode_list"], finer_for_memory=False)
+    start = truncated_start_frequency(series, n_buffer, float(settings["memory_taper_duration"]))
+    if start is None or start <= minimum_frequency:
+        return None
+    return (f"the {n_buffer * delta_t:g} s segment is too short for this binary: the model's inspiral below "
+            f"{start:.1f} Hz is dropped although the analysis starts at {minimum_frequency:g} Hz (the memory keeps "
+            "what that part accumulated); use a longer segment")
 
 
 def to_frequency_domain(buffer: np.ndarray, delta_t: float, shift: float, frequency_array) -> dict:

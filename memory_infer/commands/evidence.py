@@ -6,6 +6,7 @@ import os
 from ..config import load_evidence_config
 from ..event import CAUTION, copy_config_for_output, prepare, run_event
 from ..io import atomic_path, provenance, write_json
+from ..signal import EARLY_INSPIRAL_EFFECT
 
 
 def add_arguments(parser):
@@ -27,7 +28,8 @@ def build_record(setup, outcome) -> dict:
         "free_amplitude": None if outcome.free_amplitude is None else
         {k: v for k, v in outcome.free_amplitude.items() if k != "samples"},
         "early_inspiral_memory": {"included": bool(config["model"]["early_inspiral_memory"]),
-                                  "method": "leading-order memory accumulated before the model's first sample"},
+                                  "method": "leading-order memory accumulated before the model's first sample",
+                                  "effect": EARLY_INSPIRAL_EFFECT},
         "settings": setup.settings_fingerprint(),
         "warnings": outcome.warnings,
         "waveform_failures": {"count": outcome.waveform_failures,

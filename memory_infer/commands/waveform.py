@@ -9,7 +9,8 @@ from ..detectors import NOISE_CURVES, optimal_snr, psd_values
 from ..errors import MemoryInferError
 from ..io import atomic_path
 from ..models import DEFAULT_APPROXIMANT, SUPPORTED, generate_modes
-from ..signal import circular_layout, time_signal, to_frequency_domain
+from ..signal import (EARLY_INSPIRAL_EFFECT, circular_layout, time_signal, to_frequency_domain,
+                      truncated_start_frequency)
 
 
 def add_arguments(parser):
@@ -70,6 +71,13 @@ def run(args) -> int:
           f"from {args.start_frequency:g} Hz, plus polarization only (antenna response F+ = 1, Fx = 0); "
           f"method: noise-weighted inner product on a {args.segment:g} s segment, numerical error below 1% "
           "(segment-length and taper checks in the test suite)")
+    cut = truncated_start_frequency(series, n_buffer, 1.0)
+    if cut is not None and cut > args.start_frequency:
+        print(f"warning: the {args.segment:g} s segment is too short for this binary: its inspiral below {cut:.1f} Hz "
+              f"is left out of the spectrum and the SNR (the memory keeps what that part accumulated); "
+              "use a longer --segment")
+    if not args.no_early_inspiral:
+        print(f"the early-inspiral memory (leading order, before the model's first sample) is {EARLY_INSPIRAL_EFFECT}")
     print(f"wrote {table_path} and {figure_path}")
     return 0
 
