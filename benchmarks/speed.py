@@ -9,6 +9,7 @@ import numpy as np
 logging.getLogger("bilby").setLevel(logging.ERROR)
 
 DURATION, RATE, START = 4.0, 2048.0, 1e9
+MEMORY_DURATION = 8.0  # s, segment of the memory-cost rows (HL, 2048 Hz)
 POINT = dict(mass_1=36.0, mass_2=29.0, luminosity_distance=440.0, a_1=0.3, a_2=0.1, tilt_1=0.0, tilt_2=0.0,
              phi_12=0.0, phi_jl=0.0, theta_jn=1.0, phase=0.4, ra=1.2, dec=-0.4, psi=0.7, geocent_time=START + 2.0)
 
@@ -25,37 +26,71 @@ def per_call(function, repeats: int, rounds: int = 3) -> float:
     return best
 
 
-def memory_vs_quadrature():
-    from memory_infer.memory import memory_at_direction, memory_quadrature
+LIGHT, HEAVY = (10.0, 8.0), (36.0, 29.0)  # 18 and 65 solar masses, detector frame
+
+
+def memory_vs_modes(masses):
+    """Memory computation (finer samplings of the merger plus the flux integral) over mode generation alone."""
+    from memory_infer.memory import memory_at_direction
     from memory_infer.models import generate_modes
 
-    times, modes = generate_modes("IMRPhenomTHM", 45.0, 15.0, 100.0, 1 / 4096, 20.0).geometric()
-    fast = per_call(lambda i: memory_at_direction(modes, times, 1.0 + 1e-3 * i, 0.5), 50)
-    slow = per_call(lambda i: memory_quadrature(modes, times, 1.0 + 1e-3 * i, 0.5), 3, rounds=2)
-    a, b = memory_at_direction(modes, times, 1.0, 0.5), memory_quadrature(modes, times, 1.0, 0.5)
-    accuracy = np.max(np.abs(a - b)) / np.max(np.abs(b))
-    return slow / fast, f"both agree to {accuracy:.1e}; quadrature 24x48 nodes, {len(times)} samples"
+    def modes_alone(i):
+        return generate_modes("IMRPhenomTHM", masses[0] + 1e-4 * i, masses[1], 100.0, 1 / RATE, 20.0,
+                              finer_for_memory=False)
+
+    def modes_and_memory(i):
+        series = generate_modes("IMRPhenomTHM", masses[0] + 1e-4 * i, masses[1], 100.0, 1 / RATE, 20.0)
+        times, modes = series.geometric()
+        memory_at_direction(modes, times, 1.0, 0.5, finer=series.geometric_finer())
+        return series
+
+    t_modes = per_call(modes_alone, 20)
+    t_both = per_call(modes_and_memory, 20)
+    series = modes_and_memory(0)
+    levels = ", ".join(f"{1 / level.delta_t:.0f}" for level in series.finer) or "none"
+    finer = sum(level.times.size for level in series.finer)
+    return ((t_both - t_modes) / t_modes,
+            f"{(t_both - t_modes) * 1e3:.2f} ms vs {t_modes * 1e3:.2f} ms; {series.times.size} samples at {RATE:g} Hz, "
+            f"finer levels at {levels} Hz ({finer} samples)")
 
 
-def _detectors():
+def _detectors(duration=DURATION):
     import bilby
 
     detectors = bilby.gw.detector.InterferometerList(["H1", "L1"])
-    detectors.set_strain_data_from_power_spectral_densities(RATE, DURATION, START)
+    detectors.set_strain_data_from_power_spectral_densities(RATE, duration, START)
     for detector in detectors:
         detector.minimum_frequency = 20.0
     return detectors
 
 
-def _likelihood(detectors, model, arguments):
+def _likelihood(detectors, model, arguments, duration=DURATION):
     import bilby
 
-    generator = bilby.gw.WaveformGenerator(duration=DURATION, sampling_frequency=RATE, start_time=START,
+    generator = bilby.gw.WaveformGenerator(duration=duration, sampling_frequency=RATE, start_time=START,
                                            frequency_domain_source_model=model, waveform_arguments=arguments)
     return bilby.gw.GravitationalWaveTransient(detectors, generator)
 
 
-def likelihood_ratios():
+def memory_likelihood_cost(masses):
+    """Memory likelihood over the same likelihood without memory (HL, 8 s, 2048 Hz)."""
+    from memory_infer.signal import memory_binary_black_hole
+
+    detectors = _detectors(MEMORY_DURATION)
+    base = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)
+    with_memory = _likelihood(detectors, memory_binary_black_hole, base, MEMORY_DURATION)
+    without = _likelihood(detectors, memory_binary_black_hole, dict(base, include_memory=False), MEMORY_DURATION)
+    point = dict(POINT, mass_1=masses[0], mass_2=masses[1], a_1=0.0, a_2=0.0, geocent_time=START + 6.0)
+
+    def call(likelihood):
+        return lambda i: likelihood.log_likelihood_ratio(dict(point, mass_1=masses[0] + 1e-4 * i, memory_amplitude=1.0))
+
+    t_memory, t_without = per_call(call(with_memory), 30), per_call(call(without), 30)
+    return t_memory / t_without, f"{t_memory * 1e3:.2f} ms vs {t_without * 1e3:.2f} ms; 8 s, H1+L1"
+
+
+def bilby_comparison():
+    """Memory likelihood over bilby's standard frequency-domain likelihood with IMRPhenomXHM (4 s, HL)."""
     import bilby
 
     from memory_infer.signal import memory_binary_black_hole
@@ -63,7 +98,6 @@ def likelihood_ratios():
     detectors = _detectors()
     base = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)
     with_memory = _likelihood(detectors, memory_binary_black_hole, base)
-    without = _likelihood(detectors, memory_binary_black_hole, dict(base, include_memory=False))
     standard = _likelihood(detectors, bilby.gw.source.lal_binary_black_hole,
                            dict(waveform_approximant="IMRPhenomXHM", minimum_frequency=20.0, reference_frequency=20.0))
 
@@ -71,11 +105,8 @@ def likelihood_ratios():
         return lambda i: likelihood.log_likelihood_ratio(dict(POINT, mass_1=36.0 + 1e-4 * i, **extra))
 
     t_memory = per_call(call(with_memory, {"memory_amplitude": 1.0}), 60)
-    t_without = per_call(call(without, {"memory_amplitude": 1.0}), 60)
     t_standard = per_call(call(standard, {}), 60)
-    note = f"{t_memory * 1e3:.2f} ms vs {t_without * 1e3:.2f} ms; 4 s, 2 detectors"
-    note_standard = f"{t_memory * 1e3:.2f} ms vs {t_standard * 1e3:.2f} ms (IMRPhenomXHM, frequency domain)"
-    return (t_memory / t_without, note), (t_memory / t_standard, note_standard)
+    return t_memory / t_standard, f"{t_memory * 1e3:.2f} ms vs {t_standard * 1e3:.2f} ms (IMRPhenomXHM, 4 s, H1+L1)"
 
 
 def reweighting_throughput():
@@ -116,11 +147,14 @@ def main():
     tuned = tune_allocator()
     print(f"allocator tuned for reuse of large temporaries: {tuned} (applies to every row alike)")
     rows = []
-    ratio, detail = memory_vs_quadrature()
-    rows.append(("fast memory vs quadrature (x faster)", ratio, 500, "higher", detail))
-    (ratio_a, note_a), (ratio_b, note_b) = likelihood_ratios()
-    rows.append(("memory likelihood / same model without memory", ratio_a, 1.10, "lower", note_a))
-    rows.append(("memory likelihood / bilby IMRPhenomXHM likelihood", ratio_b, 2.0, "lower", note_b))
+    for label, masses in (("18 Msun", LIGHT), ("65 Msun", HEAVY)):
+        ratio, detail = memory_vs_modes(masses)
+        rows.append((f"memory computation / mode generation, {label}", ratio, 0.25, "lower", detail))
+    for label, masses in (("18 Msun", LIGHT), ("65 Msun", HEAVY)):
+        ratio, detail = memory_likelihood_cost(masses)
+        rows.append((f"memory likelihood / without memory, {label}", ratio, 1.25, "lower", detail))
+    ratio, detail = bilby_comparison()
+    rows.append(("memory likelihood / bilby IMRPhenomXHM likelihood", ratio, 2.0, "lower", detail))
     rate, note = reweighting_throughput()
     rows.append(("reweighting, samples per second per core", rate, 200, "higher", note))
     rate, note = campaign_rate()

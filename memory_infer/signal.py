@@ -146,7 +146,7 @@ def truncated_start_frequency(series: ModeSeries, n_buffer: int, taper_duration:
     return float(abs(np.angle(h[1] * np.conj(h[0]))) / (2 * np.pi * delta_t))
 
 
-def segment_note(frequency_array, minimum_frequency: float, **parameters) -> str | None:
+def segment_note(frequency_array, band_start: float, **parameters) -> str | None:
     """One sentence when the segment is too short to hold the model's in-band inspiral, else None."""
     n_buffer, delta_t = segment_geometry(frequency_array)
     settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
@@ -156,10 +156,10 @@ def segment_note(frequency_array, minimum_frequency: float, **parameters) -> str
                             float(settings["minimum_frequency"]), spin_1, spin_2,
                             float(settings["reference_frequency"]), settings["mode_list"], finer_for_memory=False)
     start = truncated_start_frequency(series, n_buffer, float(settings["memory_taper_duration"]))
-    if start is None or start <= minimum_frequency:
+    if start is None or start <= band_start:
         return None
     return (f"the {n_buffer * delta_t:g} s segment is too short for this binary: the model's inspiral below "
-            f"{start:.1f} Hz is dropped although the analysis starts at {minimum_frequency:g} Hz (the memory keeps "
+            f"{start:.1f} Hz is dropped although the analysis starts at {band_start:g} Hz (the memory keeps "
             "what that part accumulated); use a longer segment")
 
 
