@@ -27,7 +27,8 @@ CAMPAIGN_SCHEMA = {
     "recovery": {"free_parameters": (list, ["phase", "psi"]), "live_points": (int, 50), "accepted_walks": (int, 10),
                  "minimum_effective_samples": (NUMBER, 30.0)},
     "cluster": {"kind": (str, "local"), "scheduler_address": (str, None), "jobs": (int, 2), "cores": (int, 1),
-                "memory": (str, "2GB"), "walltime": (str, "02:00:00"), "queue": (str, None)},
+                "memory": (str, "2GB"), "walltime": (str, "02:00:00"), "queue": (str, None),
+                "job_logs": (str, None)},
 }
 METHODS = ("fast", "reweighting", "nested")
 FREE_PARAMETERS = ("phase", "psi", "luminosity_distance", "theta_jn", "geocent_time")
@@ -166,7 +167,11 @@ class DaskExecutor:
         self.client, self.cluster = client, cluster
 
     @classmethod
-    def from_config(cls, section: dict, address: str | None = None):
+    def from_config(cls, section: dict, address: str | None = None, log_folder: str | None = None):
+        """Connect to ``address``, or start ``section['jobs']`` batch jobs of one Dask worker each.
+
+        Job logs go to ``section['job_logs']`` or else ``log_folder`` (the batch system's default otherwise).
+        """
         from dask.distributed import Client
 
         if address or section["kind"] == "address":
@@ -177,7 +182,12 @@ class DaskExecutor:
         import dask_jobqueue
 
         kind = {"slurm": dask_jobqueue.SLURMCluster, "htcondor": dask_jobqueue.HTCondorCluster}[section["kind"]]
-        options = dict(cores=section["cores"], memory=section["memory"], walltime=section["walltime"])
+        options = dict(cores=section["cores"], memory=section["memory"], walltime=section["walltime"],
+                       job_name="memory-infer")
+        logs = section["job_logs"] or log_folder
+        if logs:
+            os.makedirs(logs, exist_ok=True)
+            options["log_directory"] = logs
         if section["queue"] and section["kind"] == "slurm":
             options["queue"] = section["queue"]
         if section["kind"] == "htcondor":

@@ -18,7 +18,8 @@ def add_arguments(parser):
 
 def make_executor(args, config):
     if args.scheduler or config["cluster"]["kind"] != "local":
-        return DaskExecutor.from_config(config["cluster"], args.scheduler), 256
+        logs = os.path.join(os.path.abspath(args.outdir), "work", "job-logs")
+        return DaskExecutor.from_config(config["cluster"], args.scheduler, logs), 256
     if args.workers < 1:
         from ..errors import MemoryInferError
 
