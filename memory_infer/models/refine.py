@@ -3,7 +3,7 @@
 The memory integrates ``|dh/dt|^2``. A fourth-order difference errs by about ``(omega dt)^4 / 30`` in
 the derivative, so modes sampled at the data's rate lose the flux of a light binary's merger and
 ringdown, which ring near or above the data's Nyquist frequency (SPEC section 3). Here the late part is
-generated again at steps halved level by level: each level is used from the first sample at which the
+generated again at steps divided by four level by level: each level is used from the first sample at which the
 previous one no longer resolves the dominant (2, +-2) mode (phase step above ``PHASE_STEP_LIMIT``), and
 it starts a little earlier (at ``START_FRACTION`` of that mode's frequency there). The needed step thus
 follows from the binary itself: its mass sets where the inspiral outruns the grid and its ringdown
@@ -31,6 +31,7 @@ PHASE_STEP_LIMIT = 0.3  # rad per sample of the (2, +-2) mode: derivative error 
 START_FRACTION = 0.9  # a level starts at 0.9 of the frequency where it is first used (about 0.3 tau earlier)
 QUIET_AMPLITUDE = 1e-3  # samples where the (2, +-2) mode is below this fraction of its peak carry no flux
 MAX_LEVELS = 8  # levels at most
+LEVEL_FACTOR = 4  # each level's step is a quarter of the one before: fewer model calls, each call's set-up dominates
 PRECESSING_STEP = 0.35  # in M: resolves a (2, 2) ringdown up to M omega = 0.85 within PHASE_STEP_LIMIT
 
 
@@ -101,7 +102,7 @@ def finer_levels(series: ModeSeries, generate, minimum_frequency: float, referen
         if failure is None:
             return levels
         join_time, join_frequency = failure
-        delta_t = current.delta_t / 2
+        delta_t = current.delta_t / LEVEL_FACTOR
         if not series.aligned_spins:  # full length each time: jump straight to a step of about 0.35 M
             while delta_t > PRECESSING_STEP * series.mass_seconds:
                 delta_t /= 2
