@@ -136,7 +136,7 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     ``-2Y_lm(theta, phi)`` first, so the cost is one small quadratic form per sample,
     ``h_mem = int sum_ij W_ij dh_i conj(dh_j) dt``. ``finer`` as in :func:`memory_modes`.
     """
-    keys, _ = _stack(modes)
+    keys, stacked = _stack(modes)
     weights = direction_matrix(keys, theta, phi)
 
     def cumulative(level_times, stacked):
@@ -149,7 +149,6 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
         return LALSIMULATION_SIGN * cumulative_integral(rate, step)
 
     times = np.asarray(times, float)
-    _, stacked = _stack(modes)
     windows = _windows(keys, finer)
     if windows:  # the coarse flux is needed only until the first finer level takes over
         end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3)
