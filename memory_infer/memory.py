@@ -110,9 +110,7 @@ def memory_modes(modes: dict, times, ell_max: int | None = None, early_inspiral:
         return LALSIMULATION_SIGN * cumulative_integral(
             _table_rates(table, time_derivative(level_stack, level_step)), level_step)
 
-    memory = _joined(np.asarray(times, float), cumulative(times, stacked),
-                     [(level.use_from, window_times, cumulative(window_times, window_stack))
-                      for level, window_times, window_stack in _windows(keys, finer)])
+    memory = _levels_memory(np.asarray(times, float), stacked, keys, finer, cumulative)
     result = {mode: memory[k] for k, mode in enumerate(output)}
     if early_inspiral:
         for mode, value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():
@@ -148,20 +146,28 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
         rate = np.sum(derivatives * contracted, axis=0)
         return LALSIMULATION_SIGN * cumulative_integral(rate, step)
 
-    times = np.asarray(times, float)
-    windows = _windows(keys, finer)
-    if windows:  # the coarse flux is needed only until the first finer level takes over
-        end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3)
-        coarse = cumulative(times[:end], stacked[:, :end])
-        coarse = np.concatenate([coarse, np.full(times.size - end, coarse[-1])])
-    else:
-        coarse = cumulative(times, stacked)
-    memory = _joined(times, coarse, [(level.use_from, window_times, cumulative(window_times, window_stack))
-                                     for level, window_times, window_stack in windows])
+    memory = _levels_memory(np.asarray(times, float), stacked, keys, finer, cumulative)
     if early_inspiral:
         for (l, m), value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():
             memory = memory + value * spin_weighted_harmonic(-2, l, m, theta, phi)
     return memory
+
+
+def _levels_memory(times, stacked, keys, finer, cumulative):
+    """Cumulative memory at ``times`` from the coarse modes and the ``finer`` levels.
+
+    ``cumulative(level_times, level_stack)`` integrates one level's flux (last axis is time). The coarse
+    flux is integrated only until the first finer level takes over; each level only where it is used.
+    """
+    windows = _windows(keys, finer)
+    if windows:
+        end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3)
+        coarse = cumulative(times[:end], stacked[..., :end])
+        coarse = np.concatenate([coarse, np.repeat(coarse[..., -1:], times.size - end, axis=-1)], axis=-1)
+    else:
+        coarse = cumulative(times, stacked)
+    return _joined(times, coarse, [(level.use_from, window_times, cumulative(window_times, window_stack))
+                                   for level, window_times, window_stack in windows])
 
 
 def _windows(keys, finer):

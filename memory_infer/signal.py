@@ -148,17 +148,12 @@ def truncated_start_frequency(series: ModeSeries, n_buffer: int, taper_duration:
 
 def segment_note(frequency_array, band_start: float, **parameters) -> str | None:
     """One sentence when the segment is too short to hold the model's in-band inspiral, else None."""
-    n_buffer, delta_t = segment_geometry(frequency_array)
-    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
-    values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
-    _, spin_1, spin_2 = lalsimulation_spins(values, settings["reference_frequency"])
-    series = generate_modes(settings["waveform_approximant"], values["mass_1"], values["mass_2"], 1.0, delta_t,
-                            float(settings["minimum_frequency"]), spin_1, spin_2,
-                            float(settings["reference_frequency"]), settings["mode_list"], finer_for_memory=False)
+    n_buffer, _ = segment_geometry(frequency_array)
+    settings, _, _, series = _source(frequency_array, parameters)
     start = truncated_start_frequency(series, n_buffer, float(settings["memory_taper_duration"]))
     if start is None or start <= band_start:
         return None
-    return (f"the {n_buffer * delta_t:g} s segment is too short for this binary: the model's inspiral below "
+    return (f"the {n_buffer * series.delta_t:g} s segment is too short for this binary: the model's inspiral below "
             f"{start:.1f} Hz is dropped although the analysis starts at {band_start:g} Hz (the memory keeps "
             "what that part accumulated); use a longer segment")
 
@@ -216,6 +211,20 @@ def _unit_distance_modes(approximant, mass_1, mass_2, delta_t, minimum_frequency
                           reference_frequency, mode_list, finer_for_memory=finer_for_memory)
 
 
+def _source(frequency_array, parameters):
+    """(settings, values, inclination, modes at 1 Mpc) for bilby's parameters; the modes are cached."""
+    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
+    values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
+    _, delta_t = segment_geometry(frequency_array)
+    inclination, spin_1, spin_2 = lalsimulation_spins(values, settings["reference_frequency"])
+    mode_list = tuple(tuple(int(x) for x in mode) for mode in settings["mode_list"]) if settings["mode_list"] else None
+    series = _unit_distance_modes(settings["waveform_approximant"], values["mass_1"], values["mass_2"], delta_t,
+                                  float(settings["minimum_frequency"]), tuple(float(x) for x in spin_1),
+                                  tuple(float(x) for x in spin_2), float(settings["reference_frequency"]), mode_list,
+                                  bool(settings["include_memory"]))
+    return settings, values, inclination, series
+
+
 def signal_parts(frequency_array, **parameters) -> dict:
     """Frequency-domain oscillatory (``plus``, ``cross``) and memory (``memory_plus``, ``memory_cross``)
     parts for bilby's binary-black-hole parameters.
@@ -233,12 +242,7 @@ def signal_parts(frequency_array, **parameters) -> dict:
     if not values["luminosity_distance"] > 0:
         raise WaveformError("the luminosity distance must be positive")
     n_buffer, delta_t = segment_geometry(frequency_array)
-    inclination, spin_1, spin_2 = lalsimulation_spins(values, settings["reference_frequency"])
-    mode_list = tuple(tuple(int(x) for x in mode) for mode in settings["mode_list"]) if settings["mode_list"] else None
-    series = _unit_distance_modes(settings["waveform_approximant"], values["mass_1"], values["mass_2"], delta_t,
-                                  float(settings["minimum_frequency"]), tuple(float(x) for x in spin_1),
-                                  tuple(float(x) for x in spin_2), float(settings["reference_frequency"]), mode_list,
-                                  bool(settings["include_memory"]))
+    settings, values, inclination, series = _source(frequency_array, parameters)
     signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]),
                          bool(settings["include_memory"]))
     start_duration = 2.0 / max(settings["minimum_frequency"], 1.0)

@@ -18,6 +18,7 @@ so the fine level is generated from the original start and reference frequencies
 """
 from __future__ import annotations
 
+import dataclasses
 import logging
 
 import numpy as np
@@ -84,10 +85,7 @@ def rotate_onto(fine: ModeSeries, coarse: ModeSeries, time: float) -> ModeSeries
         errors = [abs(np.angle(np.exp(1j * (start - key[1] * a - target)))) for a in candidates]
         alpha = candidates[int(np.argmin(errors))]
     modes = {(l, m): h * np.exp(-1j * m * alpha) for (l, m), h in fine.modes.items()}
-    return ModeSeries(times=fine.times, modes=modes, total_mass=fine.total_mass,
-                      luminosity_distance=fine.luminosity_distance,
-                      symmetric_mass_ratio=fine.symmetric_mass_ratio, approximant=fine.approximant,
-                      aligned_spins=fine.aligned_spins, use_from=fine.use_from)
+    return dataclasses.replace(fine, modes=modes)
 
 
 def finer_levels(series: ModeSeries, generate, minimum_frequency: float, reference_frequency: float) -> list:
