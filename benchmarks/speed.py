@@ -31,8 +31,8 @@ LIGHT, HEAVY = (10.0, 8.0), (36.0, 29.0)  # 18 and 65 solar masses, detector fra
 
 def memory_vs_modes(masses):
     """Memory computation (finer samplings of the merger plus the flux integral) over mode generation alone."""
-    from memory_infer.memory import memory_at_direction
-    from memory_infer.models import generate_modes
+    from memory_infer.waveform.memory import memory_at_direction
+    from memory_infer.waveform.models import generate_modes
 
     def modes_alone(i):
         return generate_modes("IMRPhenomTHM", masses[0] + 1e-4 * i, masses[1], 100.0, 1 / RATE, 20.0,
@@ -67,14 +67,20 @@ def _detectors(duration=DURATION):
 def _likelihood(detectors, model, arguments, duration=DURATION):
     import bilby
 
-    generator = bilby.gw.WaveformGenerator(duration=duration, sampling_frequency=RATE, start_time=START,
-                                           frequency_domain_source_model=model, waveform_arguments=arguments)
+    from memory_infer.waveform.generator import waveform_generator
+    from memory_infer.waveform.source import memory_binary_black_hole
+
+    if model is memory_binary_black_hole:  # our generator, with its own caches, as the likelihood uses it
+        generator = waveform_generator(duration, RATE, START, arguments)
+    else:
+        generator = bilby.gw.WaveformGenerator(duration=duration, sampling_frequency=RATE, start_time=START,
+                                               frequency_domain_source_model=model, waveform_arguments=arguments)
     return bilby.gw.GravitationalWaveTransient(detectors, generator)
 
 
 def memory_likelihood_cost(masses):
     """Memory likelihood over the same likelihood without memory (HL, 8 s, 2048 Hz)."""
-    from memory_infer.signal import memory_binary_black_hole
+    from memory_infer.waveform.source import memory_binary_black_hole
 
     detectors = _detectors(MEMORY_DURATION)
     base = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)
@@ -93,7 +99,7 @@ def bilby_comparison():
     """Memory likelihood over bilby's standard frequency-domain likelihood with IMRPhenomXHM (4 s, HL)."""
     import bilby
 
-    from memory_infer.signal import memory_binary_black_hole
+    from memory_infer.waveform.source import memory_binary_black_hole
 
     detectors = _detectors()
     base = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)
@@ -112,8 +118,9 @@ def bilby_comparison():
 def reweighting_throughput():
     import pandas as pd
 
-    from memory_infer.evidence import DEFAULT_GRID, log_likelihood_grid
-    from memory_infer.likelihood import MemoryTransient, waveform_generator
+    from memory_infer.inference.methods.reweighting import log_likelihood_grid
+    from memory_infer.inputs.config import grid_with_hypotheses
+    from memory_infer import MemoryTransient, waveform_generator
 
     detectors = _detectors()
     generator = waveform_generator(DURATION, RATE, START, dict(waveform_approximant="IMRPhenomTHM",
@@ -124,11 +131,12 @@ def reweighting_throughput():
     samples = pd.DataFrame([dict(POINT, mass_1=36.0 + rng.normal(0, 0.5), mass_2=29.0 + rng.normal(0, 0.5),
                                  phase=rng.uniform(0, 6.28), luminosity_distance=rng.uniform(300, 600))
                             for _ in range(n)])
-    log_likelihood_grid(likelihood, samples.iloc[:5], DEFAULT_GRID)
+    grid = grid_with_hypotheses(-4.0, 4.0, 81)
+    log_likelihood_grid(likelihood, samples.iloc[:5], grid)
     start = time.perf_counter()
-    log_likelihood_grid(likelihood, samples, DEFAULT_GRID)
+    log_likelihood_grid(likelihood, samples, grid)
     rate = n / (time.perf_counter() - start)
-    return rate, f"{n} samples, one core, {len(DEFAULT_GRID)} amplitudes each, 4 s, H1+L1"
+    return rate, f"{n} samples, one core, {len(grid)} amplitudes each, 4 s, H1+L1"
 
 
 def table(rows):
@@ -142,7 +150,7 @@ def table(rows):
 
 
 def main():
-    from memory_infer.performance import tune_allocator
+    from memory_infer.common.performance import tune_allocator
 
     tuned = tune_allocator()
     print(f"allocator tuned for reuse of large temporaries: {tuned} (applies to every row alike)")
@@ -176,7 +184,9 @@ def campaign_rate(count: int = 400, make_executor=None):
     import os
     import tempfile
 
-    from memory_infer.campaign import ProcessExecutor, RecordStore, execute, fingerprint, load_campaign_config, plan
+    from memory_infer.campaign.config import fingerprint, load_campaign_config, plan
+    from memory_infer.campaign.executors import ProcessExecutor, execute
+    from memory_infer.campaign.store import RecordStore
 
     here = os.path.dirname(os.path.abspath(__file__))
     with tempfile.TemporaryDirectory() as folder:
@@ -213,7 +223,7 @@ def slurm_overhead(count: int = 400):
 
     if shutil.which("sinfo") is None or subprocess.run(["sinfo", "-h"], capture_output=True).returncode != 0:
         return None, "not measured: no Slurm here (python3 scripts/local_slurm.py up starts one)"
-    from memory_infer.campaign import DaskExecutor
+    from memory_infer.campaign.executors import DaskExecutor
 
     section = {"kind": "slurm", "scheduler_address": None, "jobs": 2, "cores": 1, "memory": "2GB",
                "walltime": "00:30:00", "queue": None, "job_logs": None}

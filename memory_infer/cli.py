@@ -5,7 +5,7 @@ import argparse
 import logging
 import sys
 
-from .errors import MemoryInferError
+from .common.errors import MemoryInferError
 
 COMMANDS = {
     "waveform": "one binary's strain and memory: table, figure and memory-only SNR",
@@ -13,6 +13,7 @@ COMMANDS = {
     "combine": "catalog combination of per-event results, with its report",
     "campaign": "injection-recovery campaign: distributions, forecasts, calibration",
     "rank": "events ranked by memory-only SNR, to choose which to analyse first",
+    "report": "rebuild a report from its result file alone (evidence.json, catalog.json or campaign.json)",
     "demo": "the built-in invented scenario, end to end",
 }
 
@@ -33,13 +34,30 @@ def _module(name):
     return importlib.import_module(f".commands.{name}", __package__)
 
 
+class PlainLines(logging.Handler):
+    """Each library message as one printed line (on whatever standard output is current)."""
+
+    def emit(self, record):
+        print(self.format(record), flush=True)
+
+
+def show_library_messages() -> None:
+    """Library modules log to the "memory_infer" logger; the command line shows them as plain lines."""
+    logger = logging.getLogger("memory_infer")
+    if not any(isinstance(h, PlainLines) for h in logger.handlers):
+        logger.addHandler(PlainLines())
+    logger.setLevel(logging.INFO)
+    logger.propagate = False
+
+
 def main(argv=None) -> int:
-    from .performance import tune_allocator
+    from .common.performance import tune_allocator
 
     tune_allocator()
     import bilby  # noqa: F401  (its import sets its logger to INFO; quieten it afterwards)
 
     logging.getLogger("bilby").setLevel(logging.WARNING)
+    show_library_messages()
     args = build_parser().parse_args(argv)
     try:
         return _module(args.command).run(args)

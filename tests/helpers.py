@@ -1,5 +1,7 @@
 """Small configurations and data for tests (short segments, few parameters)."""
+import json
 import os
+import sqlite3
 
 BASE_EVENT = """
 [event]
@@ -66,3 +68,59 @@ def event_config(directory, name="event.toml", label="test-event", detectors='["
     with open(path, "w") as handle:
         handle.write(text)
     return path
+
+
+# ---------------------------------------------------------------- campaigns
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+INJECTIONS = os.path.join(os.path.dirname(HERE), "injections")
+
+
+def campaign_config(tmp_path, name="campaign.toml", count=40, network="ce", noise="gaussian", amplitude="1.0",
+                    method="fast", injections="bbh_population.toml", detection_snr=8.0, extra=""):
+    text = f"""
+[campaign]
+label = "test-campaign"
+injections = "{os.path.join(INJECTIONS, injections)}"
+count = {count}
+seed = 5
+network = "{network}"
+noise = "{noise}"
+injected_amplitude = {amplitude}
+method = "{method}"
+detection_snr = {detection_snr}
+bootstrap = 200
+[data]
+duration = 4.0
+sampling_rate = 1024.0
+minimum_frequency = 20.0
+{extra}
+"""
+    path = tmp_path / name
+    path.write_text(text)
+    return str(path)
+
+
+def stored(outdir):
+    with sqlite3.connect(os.path.join(outdir, "records.sqlite")) as connection:
+        rows = connection.execute("SELECT id, record FROM records ORDER BY id").fetchall()
+    return {i: {k: v for k, v in json.loads(r).items() if k != "seconds"} for i, r in rows}
+
+
+def run_store(config_path, outdir, executor, window):
+    from memory_infer.campaign.config import fingerprint, load_campaign_config, plan
+    from memory_infer.campaign.executors import execute
+    from memory_infer.campaign.store import RecordStore
+
+    config = load_campaign_config(config_path)
+    tasks = plan(config)
+    for task in tasks:
+        task["settings"]["workdir"] = str(outdir)
+    os.makedirs(outdir, exist_ok=True)
+    store = RecordStore(os.path.join(outdir, "records.sqlite"), fingerprint(tasks))
+    try:
+        execute(tasks, store, executor, progress=False, window=window)
+    finally:
+        executor.close()
+        store.close()
+    return stored(outdir)

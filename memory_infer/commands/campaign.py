@@ -3,9 +3,14 @@ from __future__ import annotations
 
 import os
 
-from ..campaign import (DaskExecutor, InlineExecutor, ProcessExecutor, RecordStore, execute, fingerprint,
-                        load_campaign_config, plan)
-from ..io import atomic_path, provenance, write_json
+from ..campaign.config import fingerprint, load_campaign_config, plan
+from ..campaign.executors import DaskExecutor, InlineExecutor, ProcessExecutor, execute
+from ..campaign.store import RecordStore
+from ..campaign.summary import summarize
+from ..common.errors import MemoryInferError
+from ..common.writing import atomic_path, provenance, write_text
+from ..reports.campaign import campaign_page, count_text
+from ..results.campaign import CampaignSummary
 
 
 def add_arguments(parser):
@@ -21,8 +26,6 @@ def make_executor(args, config):
         logs = os.path.join(os.path.abspath(args.outdir), "work", "job-logs")
         return DaskExecutor.from_config(config["cluster"], args.scheduler, logs), 256
     if args.workers < 1:
-        from ..errors import MemoryInferError
-
         raise MemoryInferError("--workers must be at least 1")
     if args.workers == 1:
         return InlineExecutor(), 1
@@ -44,28 +47,20 @@ def run(args) -> int:
         executor.close()
     records = store.records()
     store.close()
-    from ..campaign_report import campaign_page
-    from ..campaign_summary import summarize
-
     summary = summarize(records, config)
     clean = {k: v for k, v in config.items() if not k.startswith("_")}
-    summary["provenance"] = provenance(clean, config["campaign"]["seed"])
-    summary["caution"] = ("Forecasts assume stationary Gaussian noise, the stated population and waveform model; "
-                          "fast ln BF at the true parameters ignore parameter uncertainty.")
+    summary.provenance = provenance(clean, config["campaign"]["seed"])
+    summary = summary.reloaded()
     import pandas as pd
 
     with atomic_path(os.path.join(args.outdir, "injections.csv")) as temporary:
         pd.DataFrame(records).to_csv(temporary, index=False)
-    write_json(os.path.join(args.outdir, "campaign.json"), summary)
-    with atomic_path(os.path.join(args.outdir, "report.html")) as temporary:
-        with open(temporary, "w") as handle:
-            handle.write(campaign_page(summary, records))
-    threshold = summary["events_to_threshold"]
-    print(f"{summary['n_injections']} injections, {summary['n_failed']} failed, {summary['n_detected']} detected; "
-          f"mean ln BF+ per detected event {summary['ln_bf']['mean']}")
-    from ..campaign_report import _count
-
-    print(f"events to ln BF = {threshold['threshold']:g}: median {_count(threshold['median'])} "
-          f"(90%: {_count(threshold['lower_90'])} to {_count(threshold['upper_90'])})")
+    summary.save(os.path.join(args.outdir, CampaignSummary.FILE))
+    write_text(os.path.join(args.outdir, "report.html"), campaign_page(summary))
+    threshold = summary.events_to_threshold
+    print(f"{summary.n_injections} injections, {summary.n_failed} failed, {summary.n_detected} detected; "
+          f"mean ln BF+ per detected event {summary.ln_bf['mean']}")
+    print(f"events to ln BF = {threshold['threshold']:g}: median {count_text(threshold['median'])} "
+          f"(90%: {count_text(threshold['lower_90'])} to {count_text(threshold['upper_90'])})")
     print(f"wrote {args.outdir}/campaign.json, injections.csv and report.html")
     return 0

@@ -3,9 +3,10 @@ from __future__ import annotations
 
 import os
 
-from ..combine import combine, find_records, load_record
-from ..event import CAUTION
-from ..io import atomic_path, provenance, write_json
+from ..catalog.combine import combine, find_records, load_record
+from ..common.writing import atomic_path, provenance, write_text
+from ..reports.catalog import catalog_page
+from ..results.catalog import CatalogResult
 
 
 def add_arguments(parser):
@@ -14,27 +15,23 @@ def add_arguments(parser):
 
 
 def run(args) -> int:
-    records = [load_record(path) for path in find_records(args.results)]
-    result = combine(records)
-    result["caution"] = CAUTION
-    result["provenance"] = provenance({"inputs": [r["_source"] for r in records]}, None)
-    from ..catalog_report import catalog_page
-
+    paths = find_records(args.results)
+    result = combine([load_record(path) for path in paths], sources=paths)
+    result.provenance = provenance({"inputs": paths}, None)
+    result = result.reloaded()
     page = catalog_page(result)
     import pandas as pd
 
     os.makedirs(args.outdir, exist_ok=True)
-    write_json(os.path.join(args.outdir, "catalog.json"), result)
+    result.save(os.path.join(args.outdir, CatalogResult.FILE))
     with atomic_path(os.path.join(args.outdir, "events.csv")) as temporary:
-        pd.DataFrame(result["events"]).to_csv(temporary, index=False)
-    with atomic_path(os.path.join(args.outdir, "report.html")) as temporary:
-        with open(temporary, "w") as handle:
-            handle.write(page)
-    c = result["consistent_sign"]
+        pd.DataFrame(result.events).to_csv(temporary, index=False)
+    write_text(os.path.join(args.outdir, "report.html"), page)
+    c = result.consistent_sign
     error = "n/a" if c["ln_bf_err"] is None else f"{c['ln_bf_err']:.2f}"
-    print(f"catalog of {result['n_events']} events: consistent-sign ln BF = {c['ln_bf']:.2f} ± {error}; "
-          f"wrong sign {result['wrong_sign']['ln_bf']:.2f}; sign-agnostic {result['sign_agnostic']['ln_bf']:.2f}")
-    for item in result["dropped"]:
+    print(f"catalog of {result.n_events} events: consistent-sign ln BF = {c['ln_bf']:.2f} ± {error}; "
+          f"wrong sign {result.wrong_sign['ln_bf']:.2f}; sign-agnostic {result.sign_agnostic['ln_bf']:.2f}")
+    for item in result.dropped:
         print(f"dropped {item['label']}: {item['reason']}")
     print(f"wrote {args.outdir}/catalog.json, events.csv and report.html")
     return 0

@@ -144,29 +144,25 @@ def run(args) -> int:
 
 
 def _index_page(outdir, labels) -> str:
-    import json
-
-    from ..io import atomic_path
-    from ..report import page, table
+    from ..common.writing import write_text
+    from ..reports.html import page, table
+    from ..results.cautions import INVENTED
+    from ..results.event import EventResult
 
     rows = []
     for label in labels:
-        record = json.load(open(os.path.join(outdir, "events", label, "evidence.json")))
-        headline, sign = record["headline"] or {}, record["sign"] or {}
+        result = EventResult.load(os.path.join(outdir, "events", label, EventResult.FILE))
+        headline = result.headline or {}
         error = headline.get("ln_bf_err")
         rows.append((label, f"{headline.get('ln_bf', float('nan')):.2f}" + ("" if error is None else f" ± {error:.2f}"),
-                     f"{sign.get('ln_bf_sign', float('nan')):.2f}", f"{record['memory_snr']['value']:.2f}",
-                     f"events/{label}/report.html"))
+                     f"{result.sign.ln_bf_sign if result.sign else float('nan'):.2f}",
+                     f"{result.memory_snr['value']:.2f}", f"events/{label}/report.html"))
     links = "".join(f"<li><a href='{html.escape(target)}'>{html.escape(name)}</a></li>" for name, target in
                     [("catalog report", "catalog/report.html"), ("campaign report", "campaign/report.html")]
                     + [(f"event {label}", f"events/{label}/report.html") for label in labels])
     body = table(["event", "ln BF (memory vs none)", "sign ln BF", "memory SNR", "report"], rows)
     text = page("memory_infer demo: an invented catalog", [("Reports", f"<ul>{links}</ul>"), ("Events", body)],
-                "Every event, label and number in this demo is invented and simulated. " +
-                "A Bayes factor is evidence under the stated models and noise assumptions, not a detection claim; "
-                "glitches, calibration and waveform systematics must be checked before any claim.")
+                INVENTED)
     path = os.path.join(outdir, "index.html")
-    with atomic_path(path) as temporary:
-        with open(temporary, "w") as handle:
-            handle.write(text)
+    write_text(path, text)
     return path

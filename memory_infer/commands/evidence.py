@@ -3,10 +3,12 @@ from __future__ import annotations
 
 import os
 
-from ..config import load_evidence_config
-from ..event import CAUTION, copy_config_for_output, prepare, run_event
-from ..io import atomic_path, provenance, write_json
-from ..signal import EARLY_INSPIRAL_EFFECT
+from ..common.writing import provenance, write_text
+from ..inference.runner import run_event
+from ..inference.setup import prepare
+from ..inputs.config import load_evidence_config
+from ..reports.event import event_page
+from ..results.event import EventResult
 
 
 def add_arguments(parser):
@@ -16,27 +18,8 @@ def add_arguments(parser):
     parser.add_argument("--verbose", action="store_true", help="show bilby's and dynesty's log messages")
 
 
-def build_record(setup, outcome) -> dict:
-    config = setup.config
-    return {
-        "event": outcome.label,
-        "headline": outcome.headline,
-        "methods": [m.to_dict() for m in outcome.methods],
-        "sign": outcome.sign,
-        "memory_snr": outcome.memory_snr,
-        "amplitude_curve": outcome.amplitude_curve,
-        "free_amplitude": None if outcome.free_amplitude is None else
-        {k: v for k, v in outcome.free_amplitude.items() if k != "samples"},
-        "early_inspiral_memory": {"included": bool(config["model"]["early_inspiral_memory"]),
-                                  "method": "leading-order memory accumulated before the model's first sample",
-                                  "effect": EARLY_INSPIRAL_EFFECT},
-        "settings": setup.settings_fingerprint(),
-        "warnings": outcome.warnings,
-        "waveform_failures": {"count": outcome.waveform_failures,
-                              "treatment": "a failed waveform counts as zero likelihood (ln L = -inf)"},
-        "caution": CAUTION,
-        "provenance": provenance(copy_config_for_output(config), config["sampler"]["seed"]),
-    }
+def clean_config(config: dict) -> dict:
+    return {k: v for k, v in config.items() if not k.startswith("_")}
 
 
 def run(args) -> int:
@@ -47,20 +30,17 @@ def run(args) -> int:
     config = load_evidence_config(args.config)
     setup = prepare(config)  # every input checked before anything is written
     os.makedirs(args.outdir, exist_ok=True)
-    outcome = run_event(setup, args.outdir, progress=not args.quiet)
-    record = build_record(setup, outcome)
-    from ..report import event_page
-
-    page = event_page(setup, outcome, record)
-    write_json(os.path.join(args.outdir, "evidence.json"), record)
-    with atomic_path(os.path.join(args.outdir, "report.html")) as temporary:
-        with open(temporary, "w") as handle:
-            handle.write(page)
-    headline = record["headline"]
+    result = run_event(setup, args.outdir, progress=not getattr(args, "quiet", False))
+    result.provenance = provenance(clean_config(config), config["sampler"]["seed"])
+    result = result.reloaded()  # the report sees exactly what the file holds
+    page = event_page(result)
+    result.save(os.path.join(args.outdir, EventResult.FILE))
+    write_text(os.path.join(args.outdir, "report.html"), page)
+    headline = result.headline
     if headline:
         error = "n/a" if headline["ln_bf_err"] is None else f"{headline['ln_bf_err']:.2f}"
-        print(f"{outcome.label}: ln BF (memory vs none) = {headline['ln_bf']:.2f} ± {error} by {headline['method']}")
-    for warning in outcome.warnings:
+        print(f"{result.event}: ln BF (memory vs none) = {headline['ln_bf']:.2f} ± {error} by {headline['method']}")
+    for warning in result.warnings:
         print(f"warning: {warning}")
-    print(f"wrote {os.path.join(args.outdir, 'evidence.json')} and {os.path.join(args.outdir, 'report.html')}")
+    print(f"wrote {os.path.join(args.outdir, EventResult.FILE)} and {os.path.join(args.outdir, 'report.html')}")
     return 0

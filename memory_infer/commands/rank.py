@@ -16,11 +16,11 @@ def add_arguments(parser):
 
 def memory_snr(source: dict, network: str, duration: float, minimum_frequency: float) -> float:
     """Optimal network SNR of the memory alone, zero noise (noise-weighted inner product)."""
-    from ..injection import cached_detectors, cached_generator
-    from ..likelihood import MemoryTransient
+    from ..campaign.injection import cached_detectors, cached_generator
+    from ..inference.likelihood import MemoryTransient
 
     generator = cached_generator(duration, 2048.0, "IMRPhenomTHM", minimum_frequency)
-    detectors = cached_detectors(network, minimum_frequency)
+    detectors = cached_detectors(network, minimum_frequency, duration, 2048.0)
     start = source["geocent_time"] - duration + 2.0
     detectors.set_strain_data_from_zero_noise(2048.0, duration, start)
     generator.start_time = start
@@ -33,9 +33,9 @@ def memory_snr(source: dict, network: str, duration: float, minimum_frequency: f
 def run(args) -> int:
     import pandas as pd
 
-    from ..detectors import network
-    from ..io import atomic_path
-    from ..population import read_table
+    from ..common.writing import atomic_path
+    from ..inputs.detectors import network
+    from ..inputs.population import read_table
 
     network(args.network)
     sources = read_table(args.table, 1_000_000_002.0)

@@ -5,12 +5,12 @@ import os
 
 import numpy as np
 
-from ..detectors import NOISE_CURVES, optimal_snr, psd_values
-from ..errors import MemoryInferError
-from ..io import atomic_path
-from ..models import DEFAULT_APPROXIMANT, SUPPORTED, generate_modes
-from ..signal import (EARLY_INSPIRAL_EFFECT, circular_layout, time_signal, to_frequency_domain,
-                      truncated_start_frequency)
+from ..common.errors import MemoryInferError
+from ..common.writing import atomic_path
+from ..inputs.detectors import NOISE_CURVES, optimal_snr, psd_values
+from ..waveform.models import DEFAULT_APPROXIMANT, SUPPORTED, generate_modes
+from ..waveform.source import (EARLY_INSPIRAL_EFFECT, circular_layout, time_signal, to_frequency_domain,
+                               truncated_start_frequency)
 
 
 def add_arguments(parser):

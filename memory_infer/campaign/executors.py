@@ -1,0 +1,126 @@
+"""Where a campaign's injections run: in this process, in local processes, or on Dask (a given scheduler,
+or Slurm/HTCondor jobs through dask-jobqueue), with a bounded window of submitted tasks."""
+from __future__ import annotations
+
+import concurrent.futures
+import os
+
+from ..common.errors import MemoryInferError
+from .store import RecordStore
+
+
+class InlineExecutor:
+    """Runs each task at submission, in this process (one worker)."""
+
+    def submit(self, function, task):
+        future = concurrent.futures.Future()
+        try:
+            future.set_result(function(task))
+        except BaseException as error:  # pragma: no cover - run_injection catches its own errors
+            future.set_exception(error)
+        return future
+
+    @staticmethod
+    def as_completed(futures):
+        return iter(list(futures))
+
+    def close(self):
+        pass
+
+
+class ProcessExecutor:
+    def __init__(self, workers: int):
+        import multiprocessing
+
+        self.pool = concurrent.futures.ProcessPoolExecutor(max_workers=workers,
+                                                           mp_context=multiprocessing.get_context("fork"))
+
+    def submit(self, function, task):
+        return self.pool.submit(function, task)
+
+    @staticmethod
+    def as_completed(futures):
+        return concurrent.futures.as_completed(futures)
+
+    def close(self):
+        self.pool.shutdown(cancel_futures=True)
+
+
+class DaskExecutor:
+    """A ``dask.distributed`` client: a given scheduler, or a dask-jobqueue Slurm/HTCondor cluster."""
+
+    def __init__(self, client, cluster=None):
+        self.client, self.cluster = client, cluster
+
+    @classmethod
+    def from_config(cls, section: dict, address: str | None = None, log_folder: str | None = None):
+        """Connect to ``address``, or start ``section['jobs']`` batch jobs of one Dask worker each.
+
+        Job logs go to ``section['job_logs']`` or else ``log_folder`` (the batch system's default otherwise).
+        """
+        from dask.distributed import Client
+
+        if address or section["kind"] == "address":
+            target = address or section["scheduler_address"]
+            if not target:
+                raise MemoryInferError("a Dask cluster of kind 'address' needs 'scheduler_address'")
+            return cls(Client(target))
+        import dask_jobqueue
+
+        kind = {"slurm": dask_jobqueue.SLURMCluster, "htcondor": dask_jobqueue.HTCondorCluster}[section["kind"]]
+        options = dict(cores=section["cores"], memory=section["memory"], walltime=section["walltime"],
+                       job_name="memory-infer")
+        logs = section["job_logs"] or log_folder
+        if logs:
+            os.makedirs(logs, exist_ok=True)
+            options["log_directory"] = logs
+        if section["queue"] and section["kind"] == "slurm":
+            options["queue"] = section["queue"]
+        if section["kind"] == "htcondor":
+            options.pop("walltime")
+            options["disk"] = section["memory"]
+        cluster = kind(**options)
+        cluster.scale(jobs=section["jobs"])
+        return cls(Client(cluster), cluster)
+
+    def submit(self, function, task):
+        return self.client.submit(function, task, pure=False)
+
+    @staticmethod
+    def as_completed(futures):
+        from dask.distributed import as_completed
+
+        return as_completed(futures)
+
+    def close(self):
+        self.client.close()
+        if self.cluster is not None:
+            self.cluster.close()
+
+
+def execute(tasks, store: RecordStore, executor, progress: bool = True, window: int = 64) -> int:
+    """Submit what is not yet stored, in a bounded window; store each record as it finishes."""
+    from tqdm import tqdm
+
+    from .injection import run_injection
+
+    done = store.done()
+    todo = [t for t in tasks if t["index"] not in done]
+    bar = tqdm(total=len(tasks), initial=len(done), desc="injections", unit="inj", disable=not progress,
+               smoothing=0.05)
+    pending, position, written = set(), 0, 0
+    try:
+        while position < len(todo) or pending:
+            while position < len(todo) and len(pending) < window:
+                pending.add(executor.submit(run_injection, todo[position]))
+                position += 1
+            for future in executor.as_completed(list(pending)):
+                pending.discard(future)
+                store.write(future.result())
+                written += 1
+                bar.update(1)
+                if position < len(todo):
+                    break  # top the window up again
+    finally:
+        bar.close()
+    return written

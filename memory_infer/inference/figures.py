@@ -1,0 +1,55 @@
+"""The data behind an event's figures, computed once at run time and stored in the result, so a report
+can be redrawn from the result file alone."""
+from __future__ import annotations
+
+import numpy as np
+
+WINDOW = (-0.25, 0.1)  # s around the merger at the geocentre
+SPECTRUM_POINTS = 600  # log-spaced frequencies kept for the spectrum figure
+
+
+def _polarizations(generator, point):
+    oscillatory, memory = generator.parts(point, raise_errors=True)
+    with_memory = {k: oscillatory[k] + memory[k] for k in oscillatory}
+    return oscillatory, memory, with_memory
+
+
+def whitened_series(detectors, generator, point) -> dict:
+    """Whitened data and the model with (A = 1) and without memory per detector, around the merger."""
+    oscillatory, _, with_memory = _polarizations(generator, point)
+    out = {}
+    for detector in detectors:
+        mask = detector.frequency_mask
+        asd = np.sqrt(detector.power_spectral_density_array)
+        times = detector.time_array - point["geocent_time"]
+
+        def whiten(series):
+            white = np.zeros_like(series)
+            white[mask] = series[mask] / asd[mask]
+            return np.fft.irfft(white, n=len(times)) * np.sqrt(2 / detector.sampling_frequency) * detector.sampling_frequency
+
+        keep = (times > WINDOW[0]) & (times < WINDOW[1])
+        out[detector.name] = {
+            "time": times[keep].tolist(),
+            "data": whiten(detector.frequency_domain_strain)[keep].tolist(),
+            "model_without_memory": whiten(detector.get_detector_response(oscillatory, point))[keep].tolist(),
+            "model_with_memory": whiten(detector.get_detector_response(with_memory, point))[keep].tolist(),
+        }
+    return out
+
+
+def memory_spectrum(detectors, generator, point, minimum_frequency: float) -> dict:
+    """Each detector's memory response 2 sqrt(f) |h(f)| and noise ASD on log-spaced frequencies."""
+    _, memory, _ = _polarizations(generator, point)
+    out = {"minimum_frequency": float(minimum_frequency), "detectors": {}}
+    for detector in detectors:
+        f = detector.frequency_array
+        positive = np.flatnonzero(f > 0)
+        pick = positive[np.unique(np.geomspace(1, positive.size, SPECTRUM_POINTS).astype(int) - 1)]
+        response = detector.get_detector_response(memory, point)[pick]
+        psd = detector.power_spectral_density_array[pick]
+        asd = np.where(np.isfinite(psd), np.sqrt(np.abs(psd)), np.nan)
+        out["detectors"][detector.name] = {"frequency": f[pick].tolist(),
+                                           "memory": (2 * np.sqrt(f[pick]) * np.abs(response)).tolist(),
+                                           "asd": [None if not np.isfinite(a) else float(a) for a in asd]}
+    return out

@@ -1,0 +1,134 @@
+"""The memory likelihood: bilby's ``GravitationalWaveTransient`` with the memory source model.
+
+The memory amplitude A enters linearly, so at one parameter point five noise-weighted inner
+products give ln L(A) for every A (SPEC section 5):
+``<d,h(A)> = <d,h_osc> + A <d,h_mem>``,
+``<h(A),h(A)> = <h_osc,h_osc> + 2A <h_osc,h_mem> + A^2 <h_mem,h_mem>``;
+with time marginalization the ``<d,h>`` time series are linear in A in the same way, and bilby's
+distance and time marginalizations are functions of exactly these combinations.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import bilby
+import numpy as np
+
+from ..common.errors import MemoryInferError
+from ..inputs.config import PHASE_REFUSAL
+
+
+@dataclass
+class InnerProducts:
+    """The five products summed over detectors (time series of <d,h> when time is marginalized)."""
+
+    d_osc: complex
+    d_mem: complex
+    osc_osc: float
+    osc_mem: float
+    mem_mem: float
+    d_osc_series: np.ndarray | None = None
+    d_mem_series: np.ndarray | None = None
+
+
+class MemoryTransient(bilby.gw.GravitationalWaveTransient):
+    """``GravitationalWaveTransient`` for the memory model, with ln L(A) for many A at one point."""
+
+    def __init__(self, interferometers, waveform_generator, priors=None, distance_marginalization=False,
+                 time_marginalization=False, phase_marginalization=False, **kwargs):
+        if phase_marginalization:
+            raise MemoryInferError(PHASE_REFUSAL)
+        if kwargs.get("calibration_marginalization"):
+            raise MemoryInferError("calibration marginalization is not supported with the memory likelihood")
+        if (distance_marginalization or time_marginalization) and priors is None:
+            raise MemoryInferError("distance or time marginalization needs the prior to marginalize over")
+        super().__init__(interferometers, waveform_generator, priors=priors,
+                         distance_marginalization=distance_marginalization,
+                         time_marginalization=time_marginalization, phase_marginalization=False, **kwargs)
+
+    def _polarization_parts(self, parameters):
+        """(oscillatory, memory) polarizations: handed over by the memory generator, or for another
+        generator around the memory model rebuilt as (A = 1) - (A = 0)."""
+        if hasattr(self.waveform_generator, "parts"):
+            return self.waveform_generator.parts(parameters)
+        base = dict(parameters, memory_amplitude=0.0)
+        oscillatory = self.waveform_generator.frequency_domain_strain(base)
+        if oscillatory is None:
+            return None, None
+        oscillatory = {k: v.copy() for k, v in oscillatory.items()}
+        with_memory = self.waveform_generator.frequency_domain_strain(dict(base, memory_amplitude=1.0))
+        memory = {k: with_memory[k] - oscillatory[k] for k in oscillatory}
+        return oscillatory, memory
+
+    def inner_products(self, parameters) -> InnerProducts | None:
+        """The five products at one point (None when the waveform failed)."""
+        parameters = dict(parameters)
+        oscillatory, memory = self._polarization_parts(parameters)
+        if oscillatory is None:
+            return None
+        if self.time_marginalization and self.jitter_time:
+            parameters["geocent_time"] += parameters["time_jitter"]
+        parameters.update(self.get_sky_frame_parameters(parameters))
+        total = InnerProducts(0j, 0j, 0.0, 0.0, 0.0)
+        duration = self.waveform_generator.duration
+        for detector in self.interferometers:
+            s_osc = detector.get_detector_response(oscillatory, parameters)
+            s_mem = detector.get_detector_response(memory, parameters)
+            mask = detector.frequency_mask
+            psd = detector.power_spectral_density_array
+            strain = detector.frequency_domain_strain
+            total.d_osc += detector.inner_product(s_osc)
+            total.d_mem += detector.inner_product(s_mem)
+            total.osc_osc += float(np.real(bilby.gw.utils.noise_weighted_inner_product(
+                s_osc[mask], s_osc[mask], psd[mask], duration)))
+            total.osc_mem += float(np.real(bilby.gw.utils.noise_weighted_inner_product(
+                s_osc[mask], s_mem[mask], psd[mask], duration)))
+            total.mem_mem += float(np.real(bilby.gw.utils.noise_weighted_inner_product(
+                s_mem[mask], s_mem[mask], psd[mask], duration)))
+            if self.time_marginalization:
+                weight = 4 / duration * strain.conjugate()[:-1] / psd[:-1]
+                series_osc = np.fft.fft(s_osc[:-1] * weight)
+                series_mem = np.fft.fft(s_mem[:-1] * weight)
+                total.d_osc_series = series_osc if total.d_osc_series is None else total.d_osc_series + series_osc
+                total.d_mem_series = series_mem if total.d_mem_series is None else total.d_mem_series + series_mem
+        return total
+
+    def log_likelihood_ratio_curve(self, parameters, amplitudes) -> np.ndarray:
+        """ln L(A) - ln L_noise for every A in ``amplitudes`` at one point, from five inner products."""
+        amplitudes = np.atleast_1d(np.asarray(amplitudes, dtype=float))
+        products = self.inner_products(parameters)
+        if products is None:
+            return np.full(amplitudes.shape, -np.inf)
+        return self.curve_from_products(products, parameters, amplitudes)
+
+    def curve_from_products(self, products: InnerProducts, parameters, amplitudes) -> np.ndarray:
+        parameters = dict(parameters)
+        if self.time_marginalization and self.jitter_time:
+            parameters["geocent_time"] += parameters["time_jitter"]
+        amplitudes = np.asarray(amplitudes, dtype=float)
+        d_inner_h = products.d_osc + amplitudes * products.d_mem
+        h_inner_h = products.osc_osc + 2 * amplitudes * products.osc_mem + amplitudes ** 2 * products.mem_mem
+        if not self.time_marginalization:  # both closed forms take arrays of A at once
+            if self.distance_marginalization:
+                return np.real(self.distance_marginalized_likelihood(d_inner_h, h_inner_h, parameters=parameters))
+            return np.real(d_inner_h) - h_inner_h / 2
+        out = np.empty(len(amplitudes))
+        for k, amplitude in enumerate(amplitudes):
+            snrs = self._CalculatedSNRs(
+                d_inner_h=products.d_osc + amplitude * products.d_mem,
+                optimal_snr_squared=products.osc_osc + 2 * amplitude * products.osc_mem
+                + amplitude ** 2 * products.mem_mem)
+            if self.time_marginalization:
+                snrs.d_inner_h_array = products.d_osc_series + amplitude * products.d_mem_series
+            out[k] = float(np.real(self.compute_log_likelihood_from_snrs(snrs, parameters=parameters)))
+        return out
+
+
+def fixed_point_log_ratio(products: InnerProducts) -> float:
+    """Fixed-parameter ``ln Lambda = <d - h_osc, h_mem> - <h_mem, h_mem> / 2`` (SPEC section 5.3)."""
+    return float(np.real(products.d_mem) - products.osc_mem - products.mem_mem / 2)
+
+
+def memory_snr(products: InnerProducts) -> float:
+    """Optimal network SNR of the memory alone, ``sqrt(<h_mem, h_mem>)``."""
+    return float(np.sqrt(max(products.mem_mem, 0.0)))

@@ -1,0 +1,47 @@
+"""Bilby's standard source parameters and the physical checks every input goes through."""
+from __future__ import annotations
+
+import numpy as np
+
+from ..common.errors import MemoryInferError
+
+SOURCE_PARAMETERS = ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "tilt_1", "tilt_2", "phi_12",
+                     "phi_jl", "theta_jn", "phase", "ra", "dec", "psi", "geocent_time")
+ZERO_DEFAULTS = {"a_1": 0.0, "a_2": 0.0, "tilt_1": 0.0, "tilt_2": 0.0, "phi_12": 0.0, "phi_jl": 0.0}
+
+
+def check_physical(values: dict, where: str) -> None:
+    """One sentence for the first unphysical value among bilby's standard parameters."""
+    rules = [
+        ("mass_1", lambda v: v > 0, "must be positive"), ("mass_2", lambda v: v > 0, "must be positive"),
+        ("luminosity_distance", lambda v: v > 0, "must be positive"),
+        ("a_1", lambda v: 0 <= v <= 1, "must lie between 0 and 1"), ("a_2", lambda v: 0 <= v <= 1, "must lie between 0 and 1"),
+        ("theta_jn", lambda v: 0 <= v <= np.pi, "must lie between 0 and pi"),
+        ("tilt_1", lambda v: 0 <= v <= np.pi, "must lie between 0 and pi"),
+        ("tilt_2", lambda v: 0 <= v <= np.pi, "must lie between 0 and pi"),
+        ("dec", lambda v: -np.pi / 2 <= v <= np.pi / 2, "must lie between -pi/2 and pi/2"),
+        ("mass_ratio", lambda v: 0 < v <= 1, "must lie in (0, 1]"), ("chirp_mass", lambda v: v > 0, "must be positive"),
+    ]
+    for key, rule, text in rules:
+        if key in values:
+            value = np.asarray(values[key], dtype=float)
+            if not np.all(np.isfinite(value)):
+                raise MemoryInferError(f"'{key}' in {where} is not a finite number")
+            if not np.all(rule(value)):
+                raise MemoryInferError(f"'{key}' in {where} {text}")
+    if "mass_1" in values and "mass_2" in values:
+        if np.any(np.asarray(values["mass_2"]) > np.asarray(values["mass_1"]) * (1 + 1e-12)):
+            raise MemoryInferError(f"'mass_2' in {where} exceeds 'mass_1' (bilby orders the masses)")
+
+
+def check_samples(frame, required, where: str):
+    """Missing columns, non-finite values and unphysical values each get one sentence."""
+    missing = [name for name in required if name not in frame.columns]
+    if missing:
+        raise MemoryInferError(f"{where} lack the column{'s' if len(missing) > 1 else ''} {', '.join(repr(m) for m in missing)}")
+    numeric = frame[[c for c in required]].to_numpy(dtype=float)
+    if not np.all(np.isfinite(numeric)):
+        raise MemoryInferError(f"{where} contain NaN or infinite values")
+    check_physical({c: frame[c].to_numpy(dtype=float) for c in frame.columns
+                    if c in ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "theta_jn", "tilt_1", "tilt_2",
+                             "dec", "mass_ratio", "chirp_mass")}, where)

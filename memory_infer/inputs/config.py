@@ -1,0 +1,140 @@
+"""Run configurations: TOML read with the standard library, checked key by key against a schema.
+
+Every problem is one sentence naming the section and key; unknown keys are errors (a typo must
+not silently fall back to a default).
+"""
+from __future__ import annotations
+
+import copy
+import os
+import tomllib
+
+from ..common.errors import MemoryInferError
+
+NUMBER = (int, float)
+ANY = object
+
+# section -> key -> (type or tuple of types, default); ``REQUIRED`` marks keys without default
+REQUIRED = object()
+EVIDENCE_SCHEMA = {
+    "event": {"label": (str, REQUIRED)},
+    "data": {
+        "kind": (str, "simulated"), "detectors": (list, ["H1", "L1"]), "noise_curve": (str, "ligo-design"),
+        "noise_curves": (dict, {}), "noise": (str, "gaussian"), "seed": (int, 1), "duration": (NUMBER, 4.0),
+        "sampling_rate": (NUMBER, 2048.0), "start_time": (NUMBER, 1_000_000_000.0),
+        "minimum_frequency": (NUMBER, 20.0), "maximum_frequency": (NUMBER, None), "files": (dict, {}),
+        "window_roll_off": (NUMBER, 0.2),
+    },
+    "injection": {"*": (NUMBER, None)},
+    "model": {
+        "approximant": (str, "IMRPhenomTHM"), "reference_frequency": (NUMBER, 20.0),
+        "minimum_frequency": (NUMBER, None), "early_inspiral_memory": (bool, True),
+        "memory_taper": (NUMBER, 1.0), "modes": (list, None),
+    },
+    "priors": {"*": (ANY, None)},
+    "likelihood": {"distance_marginalization": (bool, False), "time_marginalization": (bool, False),
+                   "phase_marginalization": (bool, False)},
+    "sampler": {"live_points": (int, 200), "accepted_walks": (int, 30), "pool": (int, 1), "seed": (int, 1),
+                "checkpoint_seconds": (NUMBER, 60.0), "progress": (bool, True)},
+    "evidence": {
+        "methods": (list, ["nested", "reweighting", "fast"]),
+        "nested_hypotheses": (list, ["memory", "none", "flipped", "free"]),
+        "reweight_from": (list, ["none", "memory"]), "samples_file": (str, None),
+        "samples_amplitude": (NUMBER, 0.0), "amplitude_grid": (list, [-4.0, 4.0, 81]),
+        "free_amplitude_limits": (list, [-5.0, 5.0]), "minimum_effective_samples": (NUMBER, 50.0),
+        "max_reweight_samples": (int, 2000),
+    },
+}
+PHASE_REFUSAL = ("analytic phase marginalization is not valid with memory and higher modes (the memory "
+                 "does not change by an overall phase); sample the phase instead")
+
+
+def _type_name(kind) -> str:
+    if kind is NUMBER:
+        return "a number"
+    return {str: "a string", int: "a whole number", bool: "true or false", list: "a list",
+            dict: "a table"}.get(kind, "a value")
+
+
+def load_toml(path: str) -> dict:
+    if not os.path.isfile(path):
+        raise MemoryInferError(f"configuration file '{path}' does not exist")
+    try:
+        with open(path, "rb") as handle:
+            return tomllib.load(handle)
+    except tomllib.TOMLDecodeError as error:
+        raise MemoryInferError(f"configuration file '{path}' is not valid TOML ({error})") from None
+
+
+def apply_schema(raw: dict, schema: dict, source: str) -> dict:
+    """Fill defaults and check types; returns a new dict with every section of ``schema``."""
+    for section in raw:
+        if section not in schema:
+            raise MemoryInferError(f"unknown section [{section}] in {source}; known: {', '.join(schema)}")
+    config = {}
+    for section, keys in schema.items():
+        given = raw.get(section, {})
+        if not isinstance(given, dict):
+            raise MemoryInferError(f"[{section}] in {source} must be a table")
+        values = {}
+        for key, value in given.items():
+            spec = keys.get(key, keys.get("*"))
+            if spec is None:
+                raise MemoryInferError(f"unknown key '{key}' in [{section}] of {source}")
+            kind = spec[0]
+            if kind is not ANY:
+                ok = isinstance(value, kind) and not (kind in (NUMBER, int) and isinstance(value, bool))
+                if kind is NUMBER and isinstance(value, bool):
+                    ok = False
+                if not ok:
+                    raise MemoryInferError(f"key '{key}' in [{section}] of {source} must be {_type_name(kind)}")
+            values[key] = value
+        for key, (_, default) in keys.items():
+            if key == "*" or key in values:
+                continue
+            if default is REQUIRED:
+                raise MemoryInferError(f"key '{key}' is missing from [{section}] of {source}")
+            values[key] = copy.deepcopy(default)
+        config[section] = values
+    return config
+
+
+def load_evidence_config(path: str) -> dict:
+    """The per-event configuration with defaults filled in and checked."""
+    config = apply_schema(load_toml(path), EVIDENCE_SCHEMA, os.path.basename(path))
+    config["_directory"] = os.path.dirname(os.path.abspath(path))
+    data, evidence = config["data"], config["evidence"]
+    if data["kind"] not in ("simulated", "files"):
+        raise MemoryInferError("key 'kind' in [data] must be 'simulated' or 'files'")
+    if data["noise"] not in ("gaussian", "zero"):
+        raise MemoryInferError("key 'noise' in [data] must be 'gaussian' or 'zero'")
+    for key in ("duration", "sampling_rate", "minimum_frequency"):
+        if not data[key] > 0:
+            raise MemoryInferError(f"key '{key}' in [data] must be positive")
+    if data["kind"] == "simulated" and not config["injection"]:
+        raise MemoryInferError("simulated data need an [injection] section with the source parameters")
+    if data["kind"] == "files" and not data["files"]:
+        raise MemoryInferError("data of kind 'files' need a [data.files.DETECTOR] table per detector")
+    grid = evidence["amplitude_grid"]
+    if len(grid) != 3 or not grid[0] < -1 or not grid[1] > 1 or int(grid[2]) < 3:
+        raise MemoryInferError("key 'amplitude_grid' in [evidence] must be [minimum below -1, maximum above 1, points]")
+    limits = evidence["free_amplitude_limits"]
+    if len(limits) != 2 or not limits[0] < 0 < limits[1]:
+        raise MemoryInferError("key 'free_amplitude_limits' in [evidence] must be [negative, positive]")
+    if config["likelihood"]["phase_marginalization"]:
+        raise MemoryInferError(PHASE_REFUSAL)
+    return config
+
+
+def amplitude_grid(config: dict):
+    """The evidence grid of A, always holding -1, 0 and 1 exactly."""
+    low, high, points = config["evidence"]["amplitude_grid"]
+    return grid_with_hypotheses(low, high, points)
+
+
+def grid_with_hypotheses(low, high, points):
+    """A uniform grid of A from ``low`` to ``high`` that also holds -1, 0 and 1 exactly."""
+    import numpy as np
+
+    grid = np.linspace(float(low), float(high), int(points))
+    return np.unique(np.round(np.concatenate([grid, [-1.0, 0.0, 1.0]]), 12))

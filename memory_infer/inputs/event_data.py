@@ -1,0 +1,213 @@
+"""One event's data and priors from a configuration: simulated or read from files, checked on entry."""
+from __future__ import annotations
+
+import logging
+import os
+
+import numpy as np
+
+from ..common.errors import MemoryInferError
+from .checks import SOURCE_PARAMETERS, ZERO_DEFAULTS, check_physical
+from .detectors import NOISE_CURVES, noise_curve_path
+
+logger = logging.getLogger("memory_infer")
+
+
+def waveform_arguments(config: dict) -> dict:
+    model, data = config["model"], config["data"]
+    arguments = {
+        "waveform_approximant": model["approximant"],
+        "reference_frequency": float(model["reference_frequency"]),
+        "minimum_frequency": float(model["minimum_frequency"] or data["minimum_frequency"]),
+        "early_inspiral_memory": bool(model["early_inspiral_memory"]),
+        "memory_taper_duration": float(model["memory_taper"]),
+        "catch_waveform_errors": True,
+    }
+    if model["modes"]:
+        arguments["mode_list"] = [tuple(int(x) for x in mode) for mode in model["modes"]]
+    return arguments
+
+
+def injection_parameters(config: dict) -> dict:
+    """Injection values with zero spins by default, memory_amplitude 1 by default, checked."""
+    data = config["data"]
+    values = dict(ZERO_DEFAULTS, memory_amplitude=1.0)
+    values["geocent_time"] = data["start_time"] + (data["duration"] - 2.0 if data["duration"] > 3 else data["duration"] / 2)
+    values.update({k: float(v) for k, v in config["injection"].items()})
+    for key in SOURCE_PARAMETERS:
+        if key not in values:
+            raise MemoryInferError(f"the [injection] section needs '{key}'")
+    check_physical(values, "the injection")
+    return values
+
+
+# ---------------------------------------------------------------- priors
+
+def _prior(name: str, spec, injection: dict | None):
+    import bilby
+
+    prior = bilby.core.prior
+    if isinstance(spec, bool) or not isinstance(spec, (int, float, dict)):
+        raise MemoryInferError(f"prior for '{name}' must be a number (fixed) or a table with a 'kind'")
+    if isinstance(spec, (int, float)):
+        return prior.DeltaFunction(float(spec), name=name)
+    kind = spec.get("kind")
+    try:
+        low, high = float(spec.get("minimum", np.nan)), float(spec.get("maximum", np.nan))
+        if kind == "fixed_at_injection":
+            if injection is None or name not in injection:
+                raise MemoryInferError(f"prior for '{name}' is fixed at the injection, but there is no injection value")
+            return prior.DeltaFunction(injection[name], name=name)
+        if not (np.isfinite(low) and np.isfinite(high) and low < high):
+            raise MemoryInferError(f"prior for '{name}' needs finite 'minimum' below 'maximum'")
+        if kind == "uniform":
+            return prior.Uniform(low, high, name=name)
+        if kind == "periodic":
+            return prior.Uniform(low, high, name=name, boundary="periodic")
+        if kind == "sine":
+            return prior.Sine(minimum=low, maximum=high, name=name)
+        if kind == "cosine":
+            return prior.Cosine(minimum=low, maximum=high, name=name)
+        if kind == "power_law":
+            return prior.PowerLaw(float(spec.get("alpha", 2.0)), low, high, name=name)
+        if kind == "comoving_volume":
+            return bilby.gw.prior.UniformSourceFrame(minimum=low, maximum=high, name=name)
+        if kind == "log_uniform":
+            return prior.LogUniform(low, high, name=name)
+    except (TypeError, ValueError) as error:
+        raise MemoryInferError(f"prior for '{name}' could not be built ({error})") from None
+    raise MemoryInferError(f"prior kind '{kind}' for '{name}' is unknown; use uniform, periodic, sine, cosine, "
+                           "power_law, comoving_volume, log_uniform or fixed_at_injection")
+
+
+def build_priors(config: dict, injection: dict | None):
+    """bilby priors: configured ones, the rest fixed at the injection (simulated data only)."""
+    import bilby
+
+    priors = bilby.core.prior.PriorDict()
+    specs = dict(config["priors"])
+    if "memory_amplitude" in specs:
+        raise MemoryInferError("the memory amplitude's prior is set by the hypotheses, not in [priors]")
+    for name, spec in specs.items():
+        priors[name] = _prior(name, spec, injection)
+    has_masses = ("mass_1" in priors and "mass_2" in priors) or ("chirp_mass" in priors and "mass_ratio" in priors)
+    for name in SOURCE_PARAMETERS:
+        if name in priors or (name in ("mass_1", "mass_2") and has_masses):
+            continue
+        if injection is not None and name in injection:
+            priors[name] = bilby.core.prior.DeltaFunction(injection[name], name=name)
+        elif name in ZERO_DEFAULTS:
+            priors[name] = bilby.core.prior.DeltaFunction(0.0, name=name)
+        else:
+            raise MemoryInferError(f"parameter '{name}' has no prior in [priors] and no injection value")
+    if "chirp_mass" in priors and "mass_1" not in priors:
+        priors["mass_1"] = bilby.core.prior.Constraint(1, 1000, name="mass_1")
+        priors["mass_2"] = bilby.core.prior.Constraint(1, 1000, name="mass_2")
+    return priors
+
+
+# ---------------------------------------------------------------- detector data
+
+def _psd_for(name: str, detector: str, data: dict):
+    import bilby
+
+    curve = data["noise_curves"].get(detector, data["noise_curve"])
+    if curve not in NOISE_CURVES:
+        raise MemoryInferError(f"unknown noise curve '{curve}' for {detector}; choose one of {', '.join(NOISE_CURVES)}")
+    return bilby.gw.detector.PowerSpectralDensity(asd_file=noise_curve_path(curve))
+
+
+def _empty_detectors(names):
+    import bilby
+
+    try:
+        return bilby.gw.detector.InterferometerList(list(names))
+    except (ValueError, KeyError, OSError):
+        raise MemoryInferError(f"unknown detector among {', '.join(map(str, names))}; use bilby names such as H1, "
+                               "L1, V1, K1, ET, CE") from None
+
+
+def simulated_detectors(config: dict, injection: dict, generator):
+    """Gaussian (seeded) or zero noise from the named curves, with the injection added."""
+    import bilby
+
+    data = config["data"]
+    detectors = _empty_detectors(data["detectors"])
+    for detector in detectors:
+        detector.power_spectral_density = _psd_for(detector.name, detector.name, data)
+        detector.minimum_frequency = float(data["minimum_frequency"])
+        if data["maximum_frequency"]:
+            detector.maximum_frequency = float(data["maximum_frequency"])
+    bilby.core.utils.random.seed(int(data["seed"]))
+    if data["noise"] == "zero":
+        detectors.set_strain_data_from_zero_noise(data["sampling_rate"], data["duration"], data["start_time"])
+    else:
+        detectors.set_strain_data_from_power_spectral_densities(data["sampling_rate"], data["duration"],
+                                                                data["start_time"])
+    detectors.inject_signal(waveform_generator=generator, parameters=injection, raise_error=False)
+    return detectors
+
+
+def file_detectors(config: dict):
+    """Strain and PSD per detector from files named in ``[data.files.NAME]``."""
+    data = config["data"]
+    return detectors_from_files(data["files"], float(data["sampling_rate"]), float(data["duration"]),
+                                float(data["start_time"]), float(data["minimum_frequency"]),
+                                data["maximum_frequency"], float(data["window_roll_off"]),
+                                config.get("_directory", "."))
+
+
+def detectors_from_files(files: dict, sampling_rate: float, duration: float, start_time: float,
+                         minimum_frequency: float, maximum_frequency: float | None = None, roll_off: float = 0.2,
+                         directory: str = "."):
+    """bilby interferometers with strain and PSD read from files, checked against the segment.
+
+    ``files`` maps a detector name to ``{"strain": path, "psd": path}`` (or ``"psd_from_strain"``: off-source
+    strain for Welch's method, with optional ``welch_segment``, ``welch_overlap``, and ``channel`` for frames);
+    relative paths are taken from ``directory``.
+    """
+    import bilby
+
+    from .readers import read_psd, read_strain, welch_psd
+
+    base = directory
+    names = list(files)
+    detectors = _empty_detectors(names)
+    rate, duration, start = float(sampling_rate), float(duration), float(start_time)
+    for detector in detectors:
+        entry = files[detector.name]
+        if not isinstance(entry, dict) or "strain" not in entry:
+            raise MemoryInferError(f"[data.files.{detector.name}] needs a 'strain' file")
+        path = os.path.join(base, entry["strain"])
+        strain, file_rate, file_start = read_strain(path, entry.get("channel"))
+        if abs(file_rate - rate) > 1e-6 * rate:
+            raise MemoryInferError(f"strain file '{entry['strain']}' is sampled at {file_rate:g} Hz, but the "
+                                   f"configuration says {rate:g} Hz")
+        if abs(strain.size / rate - duration) > 0.5 / rate:
+            raise MemoryInferError(f"strain file '{entry['strain']}' holds {strain.size / rate:g} s, but the "
+                                   f"configuration says {duration:g} s")
+        if abs(file_start - start) > 0.5 / rate:
+            raise MemoryInferError(f"strain file '{entry['strain']}' starts at {file_start:.6f}, but the "
+                                   f"configuration says {start:.6f}")
+        detector.strain_data.roll_off = float(roll_off)
+        detector.strain_data.set_from_time_domain_strain(strain, sampling_frequency=rate, duration=duration,
+                                                         start_time=start)
+        if "psd" in entry:
+            frequencies, psd = read_psd(os.path.join(base, entry["psd"]))
+        elif "psd_from_strain" in entry:
+            frequencies, psd, note = welch_psd(os.path.join(base, entry["psd_from_strain"]), rate,
+                                               float(entry.get("welch_segment", 4.0)),
+                                               float(entry.get("welch_overlap", 0.5)), entry.get("channel"))
+            logger.info("%s: %s", detector.name, note)
+        else:
+            raise MemoryInferError(f"[data.files.{detector.name}] needs a 'psd' file or 'psd_from_strain'")
+        detector.power_spectral_density = bilby.gw.detector.PowerSpectralDensity(
+            frequency_array=frequencies, psd_array=psd)
+        detector.minimum_frequency = float(minimum_frequency)
+        if maximum_frequency:
+            detector.maximum_frequency = float(maximum_frequency)
+        band = detector.power_spectral_density_array[detector.frequency_mask]
+        if not np.all(np.isfinite(band)) or np.any(band <= 0):
+            raise MemoryInferError(f"the PSD for {detector.name} does not cover the analysis band "
+                                   f"{detector.minimum_frequency:g}-{detector.maximum_frequency:g} Hz")
+    return detectors

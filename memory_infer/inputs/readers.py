@@ -1,0 +1,141 @@
+"""Files in: strain, PSDs and posterior samples, each checked on entry (one sentence per problem)."""
+from __future__ import annotations
+
+import json
+import os
+
+import numpy as np
+
+from ..common.errors import MemoryInferError
+
+
+# ---------------------------------------------------------------- inputs, checked on entry
+
+def _fail(message: str):
+    raise MemoryInferError(message)
+
+
+def _exists(path: str, what: str):
+    if not os.path.isfile(path):
+        _fail(f"{what} file '{path}' does not exist")
+
+
+def read_strain(path: str, channel: str | None = None):
+    """(strain, sampling rate, start time) from HDF5 (dataset 'strain', attributes 'start_time' and
+    'sampling_rate'), two-column text (time, strain), or a frame file with the optional gwpy reader."""
+    _exists(path, "strain")
+    name = os.path.basename(path)
+    if path.endswith(".gwf"):
+        try:
+            from gwpy.timeseries import TimeSeries
+        except ImportError:
+            _fail("reading frame files needs the optional gwpy reader: pip install 'memory_infer[frames]'")
+        if not channel:
+            _fail(f"frame file '{name}' needs a 'channel' in its [data.files] entry")
+        series = TimeSeries.read(path, channel)
+        strain, rate, start = np.asarray(series.value, float), float(series.sample_rate.value), float(series.t0.value)
+    elif path.endswith((".h5", ".hdf5", ".hdf")):
+        import h5py
+
+        try:
+            with h5py.File(path, "r") as handle:
+                if "strain" not in handle:
+                    _fail(f"HDF5 strain file '{name}' has no dataset 'strain'")
+                dataset = handle["strain"]
+                strain = np.asarray(dataset[()], dtype=float)
+                attributes = dict(dataset.attrs) | dict(handle.attrs)
+        except OSError:
+            _fail(f"strain file '{name}' is not a readable HDF5 file")
+        for key in ("start_time", "sampling_rate"):
+            if key not in attributes:
+                _fail(f"HDF5 strain file '{name}' lacks the attribute '{key}'")
+        rate, start = float(attributes["sampling_rate"]), float(attributes["start_time"])
+    else:
+        table = _read_columns(path, "strain", 2)
+        times, strain = table[:, 0], table[:, 1]
+        steps = np.diff(times)
+        if steps.size < 1 or np.any(steps <= 0) or np.ptp(steps) > 1e-6 * np.mean(steps):
+            _fail(f"strain file '{name}' is not uniformly sampled in time")
+        rate, start = 1.0 / float(np.mean(steps)), float(times[0])
+    if strain.ndim != 1 or strain.size < 16:
+        _fail(f"strain file '{name}' holds no usable strain series")
+    if not np.all(np.isfinite(strain)):
+        _fail(f"strain file '{name}' contains NaN or infinite samples")
+    return strain, rate, start
+
+
+def _read_columns(path: str, what: str, columns: int) -> np.ndarray:
+    name = os.path.basename(path)
+    try:
+        table = np.loadtxt(path, ndmin=2)
+    except ValueError:
+        _fail(f"{what} file '{name}' is not plain numeric text")
+    if table.shape[1] != columns:
+        _fail(f"{what} file '{name}' must have {columns} columns, found {table.shape[1]}")
+    if not np.all(np.isfinite(table)):
+        _fail(f"{what} file '{name}' contains NaN or infinite values")
+    return table
+
+
+def read_psd(path: str):
+    """(frequencies, PSD) from two-column text; every value must be finite and positive."""
+    _exists(path, "PSD")
+    table = _read_columns(path, "PSD", 2)
+    if np.any(table[:, 1] <= 0):
+        _fail(f"PSD file '{os.path.basename(path)}' has non-positive values")
+    if np.any(np.diff(table[:, 0]) <= 0):
+        _fail(f"PSD file '{os.path.basename(path)}' has frequencies that do not increase")
+    return table[:, 0], table[:, 1]
+
+
+def welch_psd(path: str, sampling_rate: float, segment: float, overlap: float, channel=None):
+    """PSD of off-source strain by Welch's method (scipy.signal.welch, Hann window)."""
+    from scipy.signal import welch
+
+    strain, rate, _ = read_strain(path, channel)
+    if abs(rate - sampling_rate) > 1e-6 * sampling_rate:
+        _fail(f"off-source strain '{os.path.basename(path)}' is sampled at {rate:g} Hz, not {sampling_rate:g} Hz")
+    per_segment = int(round(segment * rate))
+    if per_segment > strain.size or not 0 <= overlap < 1:
+        _fail(f"off-source strain '{os.path.basename(path)}' is shorter than one {segment:g} s Welch segment, "
+              "or the overlap is outside [0, 1)")
+    frequencies, psd = welch(strain, fs=rate, nperseg=per_segment, noverlap=int(overlap * per_segment))
+    keep = (frequencies > 0) & (psd > 0)
+    count = 1 + (strain.size - per_segment) // max(1, per_segment - int(overlap * per_segment))
+    note = (f"PSD by Welch's method: {segment:g} s Hann segments, {overlap:.0%} overlap, {count} averages "
+            f"from {strain.size / rate:g} s of off-source strain")
+    return frequencies[keep], psd[keep], note
+
+
+def read_samples(path: str):
+    """Posterior samples as a pandas DataFrame from CSV, JSON (bilby result or a plain table) or HDF5."""
+    import pandas as pd
+
+    _exists(path, "posterior samples")
+    name = os.path.basename(path)
+    try:
+        if path.endswith(".csv"):
+            frame = pd.read_csv(path)
+        elif path.endswith(".json"):
+            with open(path) as handle:
+                content = json.load(handle)
+            if isinstance(content, dict) and "posterior" in content:
+                content = content["posterior"]
+                content = content.get("content", content) if isinstance(content, dict) else content
+            frame = pd.DataFrame(content)
+        elif path.endswith((".h5", ".hdf5", ".hdf")):
+            import h5py
+
+            with h5py.File(path, "r") as handle:
+                group = handle["posterior"] if "posterior" in handle else handle
+                if isinstance(group, h5py.Dataset):
+                    frame = pd.DataFrame(group[()])
+                else:
+                    frame = pd.DataFrame({k: np.asarray(v[()]) for k, v in group.items() if isinstance(v, h5py.Dataset)})
+        else:
+            _fail(f"posterior samples file '{name}' must end in .csv, .json or .h5")
+    except (ValueError, OSError, KeyError, json.JSONDecodeError):
+        _fail(f"posterior samples file '{name}' could not be read as a table")
+    if frame.empty:
+        _fail(f"posterior samples file '{name}' holds no samples")
+    return frame

@@ -1,0 +1,1 @@
+"""Stage 7, reports: self-contained HTML pages drawn from result files alone."""

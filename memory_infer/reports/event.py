@@ -1,0 +1,122 @@
+"""The per-event page, drawn from an :class:`~memory_infer.results.event.EventResult` alone."""
+from __future__ import annotations
+
+import html
+
+import numpy as np
+
+from ..results.estimates import normalized_density
+from ..results.event import EventResult
+from .html import figure_to_html, new_figure, number, page, table
+
+
+def whitened_figure(whitened: dict) -> str:
+    """Whitened data with the model with and without memory, per detector, around the merger."""
+    fig, axes = new_figure(len(whitened), 1, figsize=(8, 2.4 * len(whitened)), squeeze=False)
+    for axis, (name, series) in zip(axes[:, 0], whitened.items()):
+        axis.plot(series["time"], series["data"], color="0.7", lw=0.7, label="whitened data")
+        axis.plot(series["time"], series["model_without_memory"], color="C0", lw=1.0, label="model, no memory")
+        axis.plot(series["time"], series["model_with_memory"], color="C3", lw=1.0, ls="--",
+                  label="model with memory (A = 1)")
+        axis.set_ylabel(name)
+        axis.legend(fontsize=7, loc="upper left")
+    axes[-1, 0].set_xlabel("time from merger at geocentre [s]")
+    return figure_to_html(fig, "whitened data and models")
+
+
+def memory_spectrum_figure(spectrum: dict) -> str:
+    fig, axis = new_figure(figsize=(8, 4))
+    for index, (name, series) in enumerate(spectrum["detectors"].items()):
+        f = np.asarray(series["frequency"])
+        axis.loglog(f, series["memory"], color=f"C{index}", label=f"{name} memory 2√f|h̃|")
+        asd = np.array([np.nan if a is None else a for a in series["asd"]], dtype=float)
+        good = np.isfinite(asd)
+        axis.loglog(f[good], asd[good], color=f"C{index}", lw=0.8, ls=":", label=f"{name} ASD")
+    axis.axvline(spectrum["minimum_frequency"], color="0.5", ls="--", lw=0.8)
+    axis.set_xlabel("frequency [Hz]")
+    axis.set_ylabel("[1/√Hz]")
+    axis.legend(fontsize=7)
+    return figure_to_html(fig, "memory spectrum and noise")
+
+
+def amplitude_figure(result: EventResult) -> str:
+    limits = result.figures.get("free_amplitude_limits") or result.settings.get("free_amplitude_limits", [-5, 5])
+    fig, axis = new_figure(figsize=(7, 3.5))
+    drawn = False
+    if result.free_amplitude and result.free_amplitude.get("samples"):
+        axis.hist(result.free_amplitude["samples"], bins=40, density=True, alpha=0.5, color="C2",
+                  label="nested sampling, A free")
+        drawn = True
+    if result.amplitude_curve:
+        grid = np.asarray(result.amplitude_curve.amplitudes)
+        ln = np.asarray(result.amplitude_curve.ln_mean_ratio)
+        inside = (grid >= limits[0]) & (grid <= limits[1])
+        axis.plot(grid[inside], normalized_density(grid[inside], ln[inside]), color="C3",
+                  label="reweighting: ⟨L(A)/L(0)⟩, uniform prior")
+        drawn = True
+    axis.axvline(1.0, color="k", lw=0.8, ls="--", label="general relativity (A = 1)")
+    axis.axvline(0.0, color="0.5", lw=0.8, ls=":")
+    axis.set_xlabel("memory amplitude A")
+    axis.set_ylabel("posterior density")
+    axis.legend(fontsize=7)
+    if not drawn:
+        axis.text(0.5, 0.5, "no free-amplitude run or reweighting", transform=axis.transAxes, ha="center")
+    return figure_to_html(fig, "posterior of the memory amplitude")
+
+
+def weights_figure(weights: dict) -> str:
+    fig, axis = new_figure(figsize=(7, 3.2))
+    if not weights:
+        axis.text(0.5, 0.5, "no reweighting in this run", transform=axis.transAxes, ha="center")
+    for name, log_weights in weights.items():
+        lw = np.asarray(log_weights, dtype=float)
+        lw = lw[np.isfinite(lw)]
+        if lw.size:
+            axis.hist((lw - lw.max()) / np.log(10), bins=40, histtype="step", label=name)
+    axis.set_xlabel("log10 of the importance weight relative to the largest")
+    axis.set_ylabel("samples")
+    if weights:
+        axis.legend(fontsize=7)
+    return figure_to_html(fig, "importance weights")
+
+
+def event_page(result: EventResult) -> str:
+    """The per-event report: numbers with errors and methods, then the figures."""
+    rows = [(m.method, f"{m.numerator} vs {m.denominator}", number(m.ln_bf, m.ln_bf_err),
+             "" if m.effective_sample_size is None else f"{m.effective_sample_size:.0f} of {m.number_of_samples}",
+             "yes" if m.reliable else "NO", m.note) for m in result.methods]
+    sections = [("Bayes factors", table(["method", "hypotheses", "ln BF ± error", "effective samples", "usable", "note"], rows))]
+    headline = result.headline
+    if headline:
+        sections[0] = (sections[0][0], f"<p>Headline: ln BF (memory vs none) = <b>{number(headline['ln_bf'], headline['ln_bf_err'])}</b> "
+                       f"by {html.escape(headline['method'])}. Rule: {html.escape(headline['rule'])}.</p>" + sections[0][1])
+    sign = result.sign
+    if sign:
+        sections.append(("Sign of the memory", table(
+            ["ln BF₊ (A=+1 vs 0)", "ln BF₋ (A=−1 vs 0)", "sign ln BF (+ vs −)", "posterior weight A > 0", "method"],
+            [(number(sign.ln_bf_plus, sign.ln_bf_plus_err), number(sign.ln_bf_minus, sign.ln_bf_minus_err),
+              number(sign.ln_bf_sign, sign.ln_bf_sign_err), f"{sign.weight_plus:.3f}", sign.method)])
+            + f"<p>{html.escape(sign.note)}</p>"))
+    snr = result.memory_snr
+    if snr:
+        sections.append(("Memory signal-to-noise ratio", f"<p>{snr['value']:.3f} at {html.escape(snr['point'])}; "
+                         f"{html.escape(snr['method'])}. Expected ln BF for a perfectly known signal: ρ²/2 = "
+                         f"{snr['value'] ** 2 / 2:.3f} (Finn, PRD 46, 5236 (1992)).</p>"))
+    free = result.free_amplitude
+    if free:
+        sections.append(("Memory amplitude, A free", f"<p>median {free['median']:.2f}, 90% interval "
+                         f"[{free['lower_90']:.2f}, {free['upper_90']:.2f}] ({html.escape(free['method'])})</p>"))
+    if result.warnings:
+        sections.append(("Warnings", "".join(f"<p class='warn'>{html.escape(w)}</p>" for w in result.warnings)))
+    figures = result.figures
+    if figures.get("whitened"):
+        sections.append((f"Whitened data and model at {snr['point'] if snr else 'the reference point'}",
+                         whitened_figure(figures["whitened"])))
+    if figures.get("spectrum"):
+        sections.append(("Memory spectrum against each detector's noise", memory_spectrum_figure(figures["spectrum"])))
+    sections.append(("Posterior of the memory amplitude", amplitude_figure(result)))
+    sections.append(("Importance weights", weights_figure(figures.get("weights") or {})))
+    prov = result.provenance or {"versions": {}, "seed": None, "command": []}
+    sections.append(("Provenance", table(["package", "version"], sorted(prov["versions"].items()))
+                     + f"<p>seed {prov['seed']}; command <code>{html.escape(' '.join(prov['command']))}</code></p>"))
+    return page(f"Memory evidence for {result.event}", sections, result.caution)

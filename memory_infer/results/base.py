@@ -1,0 +1,90 @@
+"""The file layer shared by every result: a schema block, JSON in and out, atomic saving."""
+from __future__ import annotations
+
+import dataclasses
+import json
+from typing import ClassVar
+
+from ..common.errors import MemoryInferError
+from ..common.writing import JSONEncoder, read_json, write_json
+
+SCHEMA_VERSION = 1
+
+
+class ResultFile:
+    """Mixin for result dataclasses: ``to_json``/``from_json``, ``save``/``load``.
+
+    ``KIND`` names the result ("event", "catalog", "campaign"); ``NESTED`` maps a field to the
+    dataclass (or ``(list, dataclass)``) its JSON is read back into.
+    """
+
+    KIND: ClassVar[str] = ""
+    FILE: ClassVar[str] = ""
+    NESTED: ClassVar[dict] = {}
+
+    def to_json(self) -> dict:
+        out = {"schema": {"kind": self.KIND, "version": SCHEMA_VERSION}}
+        for item in dataclasses.fields(self):
+            out[item.name] = _plain(getattr(self, item.name))
+        return out
+
+    @classmethod
+    def from_json(cls, data: dict, where: str = "the result"):
+        if not isinstance(data, dict):
+            raise MemoryInferError(f"{where} is not a JSON object")
+        schema = data.get("schema") or {"kind": cls.KIND, "version": SCHEMA_VERSION}
+        if schema.get("kind") != cls.KIND:
+            raise MemoryInferError(f"{where} holds a {schema.get('kind')} result, not a {cls.KIND} result")
+        if int(schema.get("version", 0)) > SCHEMA_VERSION:
+            raise MemoryInferError(f"{where} was written by a newer memory_infer (schema {schema['version']}); "
+                                   "update memory_infer to read it")
+        values = {}
+        for item in dataclasses.fields(cls):
+            if item.name not in data:
+                continue
+            value = data[item.name]
+            kind = cls.NESTED.get(item.name)
+            if value is not None and kind is not None:
+                if isinstance(kind, tuple):
+                    value = [kind[1].from_dict(v) for v in value]
+                else:
+                    value = kind.from_dict(value)
+            values[item.name] = value
+        try:
+            return cls(**values)
+        except TypeError as error:
+            raise MemoryInferError(f"{where} lacks a required field ({error})") from None
+
+    def reloaded(self):
+        """This result as its file will hold it (through JSON text), so a page drawn from it at run time
+        equals one drawn later from the file."""
+        return type(self).from_json(json.loads(json.dumps(self.to_json(), cls=JSONEncoder, allow_nan=True)))
+
+    def save(self, path: str) -> None:
+        write_json(path, self.to_json())
+
+    @classmethod
+    def load(cls, path: str):
+        return cls.from_json(read_json(path, f"{cls.KIND} result"), f"'{path}'")
+
+
+def _plain(value):
+    if dataclasses.is_dataclass(value):
+        return {k: _plain(v) for k, v in dataclasses.asdict(value).items()}
+    if isinstance(value, dict):
+        return {k: _plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_plain(v) for v in value]
+    return value
+
+
+def result_kind(path: str) -> str:
+    """The kind named in a result file's schema block ("event", "catalog" or "campaign")."""
+    data = read_json(path, "result file")
+    kind = (data.get("schema") or {}).get("kind")
+    if kind is None:
+        kind = "event" if "methods" in data else "catalog" if "consistent_sign" in data else \
+            "campaign" if "events_to_threshold" in data else None
+    if kind is None:
+        raise MemoryInferError(f"'{path}' is not a result written by memory-infer")
+    return kind

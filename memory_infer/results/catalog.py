@@ -1,0 +1,30 @@
+"""The catalog result: what ``memory-infer combine`` writes as catalog.json."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from .base import ResultFile
+from .cautions import EVIDENCE
+
+
+@dataclass
+class CatalogResult(ResultFile):
+    """Catalog sums with their errors, the shared-amplitude posterior, per-event entries and bookkeeping."""
+
+    KIND = "catalog"
+    FILE = "catalog.json"
+
+    consistent_sign: dict
+    wrong_sign: dict
+    sign_agnostic: dict
+    amplitude: dict
+    events: list = field(default_factory=list)
+    ranking: list = field(default_factory=list)
+    cumulative_ln_bf_plus: list = field(default_factory=list)
+    cumulative_ln_bf_plus_err: list = field(default_factory=list)
+    dropped: list = field(default_factory=list)
+    expected_vs_observed: dict = field(default_factory=dict)
+    method_rule: str = ""
+    n_events: int = 0
+    caution: str = EVIDENCE
+    provenance: dict | None = None

@@ -1,0 +1,148 @@
+"""Evidence estimates, amplitude curves and sign summaries, and the one rule that prefers an estimate.
+
+Every number carries its error (None where the method has none, with the reason in ``note``) and the
+method that produced it.
+"""
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+
+from ..common.errors import MemoryInferError
+
+FAMILIES = ("nested", "reweighting", "two-point", "fixed-point")
+PREFERENCE = ("nested", "reweighting", "two-point")  # the one order every stage uses
+RULE = ("nested sampling if run; else reliable reweighting with the most effective samples; "
+        "else the two-point approximation")
+
+
+class _FromDict:
+    @classmethod
+    def from_dict(cls, data: dict):
+        names = {f.name for f in dataclasses.fields(cls)}
+        return cls(**{k: v for k, v in data.items() if k in names})
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+def _family_from_name(method: str) -> str:
+    for prefix, family in (("nested", "nested"), ("importance", "reweighting"), ("two-point", "two-point"),
+                           ("fixed-parameter", "fixed-point")):
+        if method.startswith(prefix):
+            return family
+    return ""
+
+
+@dataclass
+class EvidenceEstimate(_FromDict):
+    """One ln Bayes factor with its error and how it was made.
+
+    ``family`` is one of ``FAMILIES``; ``sample_set`` names the posterior samples a reweighting used
+    and ``base_amplitude`` the A they were drawn under.
+    """
+
+    method: str
+    ln_bf: float
+    ln_bf_err: float | None
+    numerator: str = "memory"
+    denominator: str = "none"
+    effective_sample_size: float | None = None
+    number_of_samples: int | None = None
+    reliable: bool = True
+    note: str = ""
+    family: str = ""
+    sample_set: str | None = None
+    base_amplitude: float | None = None
+
+    def __post_init__(self):
+        if not self.family:
+            self.family = _family_from_name(self.method)
+        if self.family == "reweighting" and self.base_amplitude is None and "from the A = " in self.method:
+            text = self.method.split("from the A = ", 1)[1].split()[0]
+            self.base_amplitude = float(text)
+
+
+def grid_index(grid, value: float, exact: bool = True) -> int:
+    """Index of ``value`` on an amplitude grid; with ``exact`` the grid must hold it (to 1e-9)."""
+    grid = np.asarray(grid, dtype=float)
+    index = int(np.argmin(np.abs(grid - value)))
+    if exact and abs(grid[index] - value) > 1e-9:
+        raise MemoryInferError(f"the amplitude grid does not contain {value:g}")
+    return index
+
+
+def normalized_density(grid, ln_values) -> np.ndarray:
+    """A density on ``grid`` proportional to ``exp(ln_values)``, normalized by the trapezoid rule."""
+    grid, ln_values = np.asarray(grid, dtype=float), np.asarray(ln_values, dtype=float)
+    density = np.exp(ln_values - np.max(ln_values))
+    return density / np.trapezoid(density, grid)
+
+
+def cumulative_distribution(grid, density) -> np.ndarray:
+    """The CDF of a density on ``grid`` (trapezoids), ending at exactly 1."""
+    cdf = np.concatenate([[0], np.cumsum(0.5 * (density[1:] + density[:-1]) * np.diff(grid))])
+    return cdf / cdf[-1]
+
+
+@dataclass
+class AmplitudeCurve(_FromDict):
+    """``ln <L(A)/L(a0)>`` over posterior samples drawn under A = a0, on a grid of A."""
+
+    amplitudes: list
+    ln_mean_ratio: list
+    ln_mean_ratio_err: list
+    effective_sample_size: list
+    base_amplitude: float
+    number_of_samples: int
+    method: str = "importance reweighting of posterior samples"
+
+    def at(self, amplitude: float):
+        """(ln ratio, error, effective samples) at one grid value."""
+        index = grid_index(self.amplitudes, amplitude)
+        return self.ln_mean_ratio[index], self.ln_mean_ratio_err[index], self.effective_sample_size[index]
+
+
+@dataclass
+class SignSummary(_FromDict):
+    """Per-event sign bookkeeping (SPEC section 6)."""
+
+    ln_bf_plus: float
+    ln_bf_plus_err: float | None
+    ln_bf_minus: float
+    ln_bf_minus_err: float | None
+    ln_bf_sign: float
+    ln_bf_sign_err: float | None
+    weight_plus: float
+    method: str
+    note: str = field(default="")
+
+
+def preferred(methods, numerators=("memory",)) -> dict | None:
+    """The preferred estimates of ``numerators`` against 'none', all from one family and one sample set.
+
+    The rule (``RULE``): families in the order of ``PREFERENCE``; only reliable estimates; among
+    reweighting sample sets that hold every numerator, the one whose first numerator has the most
+    effective samples. Returns ``{numerator: estimate}`` or None when no family has them all.
+    """
+    for family in PREFERENCE:
+        groups = {}
+        for estimate in methods:
+            if estimate.family == family and estimate.denominator == "none" and estimate.reliable \
+                    and estimate.numerator in numerators:
+                groups.setdefault(estimate.sample_set, {}).setdefault(estimate.numerator, estimate)
+        complete = [g for g in groups.values() if all(n in g for n in numerators)]
+        if complete:
+            return max(complete, key=lambda g: g[numerators[0]].effective_sample_size or 0.0)
+    return None
+
+
+def headline(methods) -> dict | None:
+    """The event's headline ln BF (memory vs none) by ``RULE``."""
+    chosen = preferred(methods, ("memory",))
+    if chosen is None:
+        return None
+    estimate = chosen["memory"]
+    return {"ln_bf": estimate.ln_bf, "ln_bf_err": estimate.ln_bf_err, "method": estimate.method, "rule": RULE}

@@ -1,0 +1,40 @@
+"""One event's result: what ``memory-infer evidence`` writes as evidence.json and every later stage reads."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from .base import ResultFile
+from .cautions import EVIDENCE
+from .estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, headline
+
+
+@dataclass
+class EventResult(ResultFile):
+    """Bayes factors of one event with their errors and methods, and the data its report draws.
+
+    ``figures`` holds the figures' data (whitened data and models, memory spectrum, importance
+    weights), so the report is rebuilt from this result alone.
+    """
+
+    KIND = "event"
+    FILE = "evidence.json"
+    NESTED = {"methods": (list, EvidenceEstimate), "sign": SignSummary, "amplitude_curve": AmplitudeCurve}
+
+    event: str
+    headline: dict | None = None
+    methods: list = field(default_factory=list)
+    sign: SignSummary | None = None
+    memory_snr: dict | None = None
+    amplitude_curve: AmplitudeCurve | None = None
+    free_amplitude: dict | None = None
+    early_inspiral_memory: dict | None = None
+    settings: dict = field(default_factory=dict)
+    warnings: list = field(default_factory=list)
+    waveform_failures: dict = field(default_factory=lambda: {"count": 0, "treatment": ""})
+    caution: str = EVIDENCE
+    provenance: dict | None = None
+    figures: dict = field(default_factory=dict)
+
+    def choose_headline(self) -> None:
+        """Set ``headline`` by the one rule (:func:`memory_infer.results.estimates.headline`)."""
+        self.headline = headline(self.methods)

@@ -1,0 +1,306 @@
+"""From modes to detector-ready polarizations: mode sum, memory, and the frequency domain.
+
+Frame (pinned by tests/test_signal.py against ``SimInspiralChooseTDWaveform``): modes are generated
+at phi_ref = 0 and summed at polar angle = inclination and azimuth ``pi/2 - phase``.
+
+Frequency domain (SPEC section 4): the peak sits at t = 0 of a circular buffer of the segment's
+length, the inspiral wraps to the buffer's end, and the memory plateau after the ringdown is
+brought back to its pre-inspiral value by a raised-cosine taper of ``taper_duration`` seconds, so
+the permanent step has no wrap-around jump and its taper's spectrum lies below the band.
+"""
+from __future__ import annotations
+
+import logging
+from collections import OrderedDict
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+import numpy as np
+
+from ..common.errors import WaveformError
+from .memory import memory_at_direction
+from .models import DEFAULT_APPROXIMANT, ModeSeries, generate_modes
+from .sphere import HarmonicSet
+
+logger = logging.getLogger("memory_infer")
+
+DEFAULT_TAPER_DURATION = 1.0  # s, memory taper after the ringdown
+MINIMUM_TAPER_DURATION = 0.1  # s, below this the taper leaks into the band
+
+
+def observer_angles(inclination: float, phase: float):
+    """(theta, phi) of the observer in the modes' frame: ``(inclination, pi/2 - phase)``."""
+    return float(inclination), float(np.pi / 2 - phase)
+
+
+@lru_cache(maxsize=64)
+def _harmonic_set(modes: tuple) -> HarmonicSet:
+    return HarmonicSet(modes)
+
+
+def mode_sum(modes: dict, theta: float, phi: float) -> np.ndarray:
+    """``h_plus - i h_cross = sum_lm h_lm -2Y_lm(theta, phi)``."""
+    keys = tuple(modes)
+    harmonics = _harmonic_set(keys)(theta, phi)
+    total = np.zeros(len(next(iter(modes.values()))), dtype=complex)
+    for weight, key in zip(harmonics, keys):
+        total += weight * modes[key]
+    return total
+
+
+@dataclass
+class TimeSignal:
+    """Complex strains ``h+ - i hx`` (SI) of the oscillatory signal and of the memory, at ``times`` (s)."""
+
+    times: np.ndarray
+    oscillatory: np.ndarray
+    memory: np.ndarray
+    early_inspiral_memory: float  # |memory| offset added for the inspiral before the first sample
+
+    def polarizations(self, memory_amplitude: float = 1.0) -> dict:
+        total = self.oscillatory + memory_amplitude * self.memory
+        return {"plus": total.real, "cross": -total.imag}
+
+
+def time_signal(series: ModeSeries, inclination: float, phase: float,
+                early_inspiral: bool = True, include_memory: bool = True) -> TimeSignal:
+    """Oscillatory and memory strain towards the observer, SI units.
+
+    The memory uses every coupled degree (exact mode sum) and takes its flux from ``series.finer``
+    where the data's grid does not resolve the merger; ``early_inspiral`` adds the leading-order
+    memory of the inspiral before the model's first sample (for precessing models along the initial
+    orbital angular momentum), a constant that moves only the zero-frequency bin, never ln L.
+    """
+    theta, phi = observer_angles(inclination, phase)
+    oscillatory = mode_sum(series.modes, theta, phi)
+    if not include_memory:
+        return TimeSignal(series.times, oscillatory, np.zeros(series.times.size, complex), 0.0)
+    geometric_times, geometric_modes = series.geometric()
+    memory = memory_at_direction(geometric_modes, geometric_times, theta, phi,
+                                 early_inspiral=early_inspiral,
+                                 symmetric_mass_ratio=series.symmetric_mass_ratio,
+                                 finer=series.geometric_finer())
+    memory = memory * series.strain_scale
+    offset = float(abs(memory[0]))
+    return TimeSignal(series.times, oscillatory, memory, offset)
+
+
+EARLY_INSPIRAL_EFFECT = ("a constant over the whole segment: it moves only the zero-frequency bin, which the "
+                         "likelihood does not use, so ln L and every Bayes factor are the same with or without it; "
+                         "it changes only the plotted level of the memory")
+
+
+def start_taper(n_samples: int, n_taper: int) -> np.ndarray:
+    """Half-Hann rise over the first ``n_taper`` samples (removes the model's abrupt start)."""
+    window = np.ones(n_samples)
+    n_taper = min(n_taper, n_samples)
+    if n_taper > 1:
+        window[:n_taper] = 0.5 * (1 - np.cos(np.pi * np.arange(n_taper) / n_taper))
+    return window
+
+
+def circular_layout(signal: TimeSignal, n_buffer: int, delta_t: float, taper_duration: float,
+                    start_taper_duration: float):
+    """Lay the signal on a circular buffer, peak at index 0; returns (oscillatory, memory, shift).
+
+    ``shift`` is the time of buffer index 0 relative to the peak (|shift| <= delta_t / 2).
+    If the model is longer than the buffer allows, its earliest inspiral is dropped: the memory
+    keeps all it accumulated there, since it is integrated before truncation.
+    """
+    times, oscillatory, memory = signal.times, signal.oscillatory, signal.memory
+    n_taper = int(round(taper_duration / delta_t))
+    spare = n_buffer - times.size - n_taper  # samples left over
+    if spare < 0:
+        drop = -spare
+        if -times[0] / delta_t - drop < int(round(MINIMUM_TAPER_DURATION / delta_t)):
+            raise WaveformError(
+                f"the segment of {n_buffer * delta_t:g} s is too short for this signal and a "
+                f"{taper_duration:g} s memory taper; use a longer segment or a shorter taper")
+        times, oscillatory, memory = times[drop:], oscillatory[drop:], memory[drop:]
+    oscillatory = oscillatory * start_taper(times.size, int(round(start_taper_duration / delta_t)))
+    peak_index = int(round(-times[0] / delta_t))
+    shift = float(times[0] + peak_index * delta_t)
+    buffer_oscillatory = np.zeros(n_buffer, dtype=complex)
+    buffer_memory = np.full(n_buffer, memory[0], dtype=complex)
+    index = (np.arange(times.size) - peak_index) % n_buffer
+    buffer_oscillatory[index] = oscillatory
+    buffer_memory[index] = memory
+    after = (times.size - peak_index) + np.arange(n_taper)
+    fall = 0.5 * (1 + np.cos(np.pi * np.arange(n_taper) / max(n_taper, 1)))
+    buffer_memory[after % n_buffer] = memory[0] + (memory[-1] - memory[0]) * fall
+    return buffer_oscillatory, buffer_memory, shift
+
+
+def truncated_start_frequency(series: ModeSeries, n_buffer: int, taper_duration: float):
+    """Frequency (Hz) of the (2, 2) mode where :func:`circular_layout` cuts the model's start.
+
+    None when the whole model fits the segment. When the result lies above the analysis's minimum
+    frequency, in-band inspiral is missing from the model (the memory keeps what it accumulated there).
+    """
+    delta_t = series.delta_t
+    n_taper = int(round(taper_duration / delta_t))
+    drop = series.times.size + n_taper - n_buffer
+    if drop <= 0:
+        return None
+    h = series.modes[(2, 2)][drop:drop + 2]
+    return float(abs(np.angle(h[1] * np.conj(h[0]))) / (2 * np.pi * delta_t))
+
+
+def segment_note(frequency_array, band_start: float, cache: SourceCache | None = None, **parameters) -> str | None:
+    """One sentence when the segment is too short to hold the model's in-band inspiral, else None."""
+    n_buffer, _ = segment_geometry(frequency_array)
+    settings, _, _, series = _source(frequency_array, parameters, cache)
+    start = truncated_start_frequency(series, n_buffer, float(settings["memory_taper_duration"]))
+    if start is None or start <= band_start:
+        return None
+    return (f"the {n_buffer * series.delta_t:g} s segment is too short for this binary: the model's inspiral below "
+            f"{start:.1f} Hz is dropped although the analysis starts at {band_start:g} Hz (the memory keeps "
+            "what that part accumulated); use a longer segment")
+
+
+def to_frequency_domain(buffer: np.ndarray, delta_t: float, shift: float, frequency_array) -> dict:
+    """One-sided transform ``h(f) = dt * FFT`` of a complex ``h+ - i hx`` buffer, as plus and cross."""
+    phase = np.exp(-2j * np.pi * frequency_array * shift) * delta_t
+    plus = np.fft.rfft(buffer.real) * phase
+    cross = -np.fft.rfft(buffer.imag) * phase
+    return {"plus": plus, "cross": cross}
+
+
+def segment_geometry(frequency_array):
+    """(n_buffer, delta_t) of the time segment behind a one-sided frequency array from 0 Hz."""
+    frequency_array = np.asarray(frequency_array)
+    if frequency_array[0] != 0 or frequency_array.size < 3:
+        raise WaveformError("the frequency array must start at 0 Hz with uniform spacing")
+    n_buffer = 2 * (frequency_array.size - 1)
+    delta_t = 1.0 / (2 * frequency_array[-1])
+    return n_buffer, delta_t
+
+
+def lalsimulation_spins(parameters: dict, reference_frequency: float):
+    """(inclination, spin_1, spin_2) in lalsimulation's frame from bilby's spin angles."""
+    from bilby.gw.conversion import bilby_to_lalsimulation_spins
+
+    a_1, a_2 = parameters.get("a_1", 0.0), parameters.get("a_2", 0.0)
+    tilt_1, tilt_2 = parameters.get("tilt_1", 0.0), parameters.get("tilt_2", 0.0)
+    if np.allclose(np.sin([tilt_1, tilt_2]), 0) or (a_1 == 0 and a_2 == 0):
+        return (parameters["theta_jn"], (0.0, 0.0, a_1 * np.cos(tilt_1)), (0.0, 0.0, a_2 * np.cos(tilt_2)))
+    from bilby.core.utils import solar_mass
+
+    iota, s1x, s1y, s1z, s2x, s2y, s2z = bilby_to_lalsimulation_spins(
+        theta_jn=parameters["theta_jn"], phi_jl=parameters.get("phi_jl", 0.0), tilt_1=tilt_1, tilt_2=tilt_2,
+        phi_12=parameters.get("phi_12", 0.0), a_1=a_1, a_2=a_2, mass_1=parameters["mass_1"] * solar_mass,
+        mass_2=parameters["mass_2"] * solar_mass, reference_frequency=reference_frequency,
+        phase=parameters["phase"])
+    return iota, (s1x, s1y, s1z), (s2x, s2y, s2z)
+
+
+_INTRINSIC = ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "tilt_1", "tilt_2", "phi_12",
+              "phi_jl", "theta_jn", "phase")
+_SETTINGS = {"waveform_approximant": DEFAULT_APPROXIMANT, "reference_frequency": 20.0,
+             "minimum_frequency": 20.0, "memory_taper_duration": DEFAULT_TAPER_DURATION,
+             "early_inspiral_memory": True, "mode_list": None, "include_memory": True}
+
+
+@dataclass
+class SourceCache:
+    """Recent results of one waveform generator: modes at 1 Mpc keyed on the intrinsic parameters
+    (distance only rescales, angles only re-sum) and frequency-domain parts keyed on every parameter
+    (varying only the memory amplitude costs nothing). Owned by one generator, never shared."""
+
+    modes_size: int = 8
+    parts_size: int = 4
+    modes: OrderedDict = field(default_factory=OrderedDict)
+    parts: OrderedDict = field(default_factory=OrderedDict)
+
+    @staticmethod
+    def _recall(table: OrderedDict, key, make, size: int):
+        if key in table:
+            table.move_to_end(key)
+            return table[key]
+        value = make()
+        table[key] = value
+        if len(table) > size:
+            table.popitem(last=False)
+        return value
+
+
+def _unit_distance_modes(approximant, mass_1, mass_2, delta_t, minimum_frequency, spin_1, spin_2,
+                         reference_frequency, mode_list, finer_for_memory=True) -> ModeSeries:
+    """Modes at 1 Mpc: distance, inclination and phase reuse them."""
+    return generate_modes(approximant, mass_1, mass_2, 1.0, delta_t, minimum_frequency, spin_1, spin_2,
+                          reference_frequency, mode_list, finer_for_memory=finer_for_memory)
+
+
+def _source(frequency_array, parameters, cache: SourceCache | None = None):
+    """(settings, values, inclination, modes at 1 Mpc) for bilby's parameters; the modes come from ``cache``."""
+    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
+    values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
+    _, delta_t = segment_geometry(frequency_array)
+    inclination, spin_1, spin_2 = lalsimulation_spins(values, settings["reference_frequency"])
+    mode_list = tuple(tuple(int(x) for x in mode) for mode in settings["mode_list"]) if settings["mode_list"] else None
+    arguments = (settings["waveform_approximant"], values["mass_1"], values["mass_2"], delta_t,
+                 float(settings["minimum_frequency"]), tuple(float(x) for x in spin_1),
+                 tuple(float(x) for x in spin_2), float(settings["reference_frequency"]), mode_list,
+                 bool(settings["include_memory"]))
+    if cache is None:
+        series = _unit_distance_modes(*arguments)
+    else:
+        series = cache._recall(cache.modes, arguments, lambda: _unit_distance_modes(*arguments), cache.modes_size)
+    return settings, values, inclination, series
+
+
+def signal_parts(frequency_array, cache: SourceCache | None = None, **parameters) -> dict:
+    """Frequency-domain oscillatory (``plus``, ``cross``) and memory (``memory_plus``, ``memory_cross``)
+    parts for bilby's binary-black-hole parameters.
+
+    With a ``cache`` (one per generator) the last few results and modes are reused.
+    """
+    if cache is None:
+        return _parts(frequency_array, parameters, None)
+    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
+    values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
+    key = (tuple(values.values()), tuple((k, str(v)) for k, v in settings.items()),
+           frequency_array.size, float(frequency_array[-1]))
+    return cache._recall(cache.parts, key, lambda: _parts(frequency_array, parameters, cache), cache.parts_size)
+
+
+def _parts(frequency_array, parameters, cache):
+    if not float(parameters.get("luminosity_distance", 0.0)) > 0:
+        raise WaveformError("the luminosity distance must be positive")
+    n_buffer, delta_t = segment_geometry(frequency_array)
+    settings, values, inclination, series = _source(frequency_array, parameters, cache)
+    signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]),
+                         bool(settings["include_memory"]))
+    start_duration = 2.0 / max(settings["minimum_frequency"], 1.0)
+    oscillatory, memory, shift = circular_layout(signal, n_buffer, delta_t,
+                                                 float(settings["memory_taper_duration"]), start_duration)
+    scale = 1.0 / values["luminosity_distance"]
+    osc = to_frequency_domain(oscillatory * scale, delta_t, shift, frequency_array)
+    if settings["include_memory"]:
+        mem = to_frequency_domain(memory * scale, delta_t, shift, frequency_array)
+    else:
+        mem = {"plus": np.zeros_like(osc["plus"]), "cross": np.zeros_like(osc["cross"])}
+    return {"plus": osc["plus"], "cross": osc["cross"], "memory_plus": mem["plus"], "memory_cross": mem["cross"]}
+
+
+def memory_binary_black_hole(frequency_array, mass_1, mass_2, luminosity_distance, a_1, tilt_1, phi_12,
+                             a_2, tilt_2, phi_jl, theta_jn, phase, memory_amplitude=1.0, **waveform_kwargs):
+    """bilby frequency-domain source model: oscillatory signal plus ``memory_amplitude`` x memory.
+
+    ``memory_amplitude`` = 1 is general relativity, 0 no memory, -1 the flipped sign. Waveform
+    arguments: ``waveform_approximant`` (default IMRPhenomTHM), ``reference_frequency``,
+    ``minimum_frequency``, ``memory_taper_duration`` (s), ``early_inspiral_memory`` (bool),
+    ``mode_list`` (list of (l, m)), ``include_memory`` (False skips the memory altogether). Use it in ``bilby.gw.WaveformGenerator``.
+    """
+    parameters = dict(mass_1=mass_1, mass_2=mass_2, luminosity_distance=luminosity_distance, a_1=a_1,
+                      tilt_1=tilt_1, phi_12=phi_12, a_2=a_2, tilt_2=tilt_2, phi_jl=phi_jl,
+                      theta_jn=theta_jn, phase=phase, **waveform_kwargs)
+    try:
+        parts = signal_parts(np.asarray(frequency_array), **parameters)
+    except WaveformError as error:
+        if waveform_kwargs.get("catch_waveform_errors", False):
+            logger.debug("waveform failed, likelihood set to zero: %s", error)
+            return None
+        raise
+    return {"plus": parts["plus"] + memory_amplitude * parts["memory_plus"],
+            "cross": parts["cross"] + memory_amplitude * parts["memory_cross"]}

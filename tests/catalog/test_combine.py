@@ -1,0 +1,103 @@
+import json
+
+import numpy as np
+import pytest
+from scipy.stats import norm
+
+from memory_infer.catalog.combine import combine
+from memory_infer.common.errors import MemoryInferError
+
+from helpers import event_config
+
+GRID = np.linspace(-5, 5, 2001)
+SETTINGS = {"amplitude_grid": GRID.tolist(), "early_inspiral_memory": True, "free_amplitude_limits": [-5.0, 5.0]}
+
+
+def record(label, plus, minus, plus_err=0.2, minus_err=0.3, curve=None, settings=None, method="nested sampling"):
+    methods = [
+        {"method": f"{method} (dynesty through bilby)", "numerator": "memory", "denominator": "none", "ln_bf": plus,
+         "ln_bf_err": plus_err, "reliable": True, "effective_sample_size": None},
+        {"method": f"{method} (dynesty through bilby)", "numerator": "flipped", "denominator": "none", "ln_bf": minus,
+         "ln_bf_err": minus_err, "reliable": True, "effective_sample_size": None},
+    ]
+    return {"event": label, "methods": methods, "amplitude_curve": curve, "settings": settings or SETTINGS,
+            "memory_snr": {"value": 1.0}, "_source": f"{label}.json"}
+
+
+def gaussian_curve(centre, width):
+    ln = -0.5 * ((GRID - centre) / width) ** 2 + 0.5 * (centre / width) ** 2
+    return {"amplitudes": GRID.tolist(), "ln_mean_ratio": ln.tolist(), "ln_mean_ratio_err": [0.0] * GRID.size,
+            "effective_sample_size": [1000.0] * GRID.size, "base_amplitude": 0.0, "number_of_samples": 1000}
+
+
+def test_catalog_posterior_is_the_inverse_variance_weighted_gaussian():
+    # textbook result: a product of Gaussians in A is a Gaussian with inverse-variance weights
+    centres, widths = np.array([0.4, 1.5, 1.1]), np.array([0.8, 1.2, 0.6])
+    records = [record(f"e{i}", 0.1, -0.1, curve=gaussian_curve(c, w)) for i, (c, w) in enumerate(zip(centres, widths))]
+    result = combine(records).to_json()["amplitude"]
+    precision = np.sum(1 / widths ** 2)
+    mean, sigma = np.sum(centres / widths ** 2) / precision, precision ** -0.5
+    assert result["median"] == pytest.approx(mean, abs=1e-3)
+    assert result["lower_90"] == pytest.approx(mean - norm.ppf(0.95) * sigma, abs=1e-3)
+    assert result["upper_90"] == pytest.approx(mean + norm.ppf(0.95) * sigma, abs=1e-3)
+    expected_ratio = norm.pdf(0, mean, sigma) / (norm.cdf(5, mean, sigma) - norm.cdf(-5, mean, sigma)) * 10
+    assert result["density_ratio_at_zero"] == pytest.approx(expected_ratio, rel=1e-3)
+
+
+def test_three_sums_and_quadrature_errors():
+    plus, minus = np.array([1.2, -0.3, 0.8]), np.array([-0.5, 0.4, -1.1])
+    errors_p, errors_m = np.array([0.2, 0.1, 0.3]), np.array([0.25, 0.15, 0.05])
+    records = [record(f"e{i}", p, m, ep, em) for i, (p, m, ep, em) in enumerate(zip(plus, minus, errors_p, errors_m))]
+    result = combine(records).to_json()
+    assert result["consistent_sign"]["ln_bf"] == pytest.approx(plus.sum(), abs=1e-12)
+    assert result["wrong_sign"]["ln_bf"] == pytest.approx(minus.sum(), abs=1e-12)
+    agnostic = np.log((np.exp(plus) + np.exp(minus)) / 2).sum()
+    assert result["sign_agnostic"]["ln_bf"] == pytest.approx(agnostic, abs=1e-12)
+    assert result["consistent_sign"]["ln_bf_err"] == pytest.approx(np.sqrt(np.sum(errors_p ** 2)), abs=1e-12)
+    assert result["wrong_sign"]["ln_bf_err"] == pytest.approx(np.sqrt(np.sum(errors_m ** 2)), abs=1e-12)
+    assert result["ranking"] == ["e0", "e2", "e1"]
+    assert result["cumulative_ln_bf_plus"] == pytest.approx([1.2, 2.0, 1.7])
+
+
+def test_duplicates_and_mixed_settings_are_dropped_with_reasons():
+    other = dict(SETTINGS, early_inspiral_memory=False)
+    records = [record("a", 1.0, -1.0), record("b", 0.5, -0.5), record("a", 3.0, -3.0), record("c", 2.0, 0.0, settings=other)]
+    result = combine(records).to_json()
+    dropped = {d["label"]: d["reason"] for d in result["dropped"]}
+    assert dropped["a"].startswith("duplicated event label 'a'")
+    assert dropped["c"] == "settings differ from the rest of the catalog: early_inspiral_memory"
+    assert result["consistent_sign"]["ln_bf"] == pytest.approx(1.5)
+    assert result["n_events"] == 2
+
+
+def test_unreliable_reweighting_is_dropped_and_nothing_usable_is_an_error():
+    bad = {"event": "z", "settings": SETTINGS, "methods": [
+        {"method": "importance reweighting from the A = 0 posterior", "numerator": "memory", "denominator": "none",
+         "ln_bf": 5.0, "ln_bf_err": 3.0, "reliable": False, "effective_sample_size": 2.0}]}
+    with pytest.raises(MemoryInferError, match="too few effective samples"):
+        combine([bad])
+    result = combine([bad, record("ok", 0.3, -0.3)]).to_json()
+    assert result["dropped"][0]["reason"] == "too few effective samples (2.0)"
+
+
+@pytest.mark.slow
+def test_end_to_end_catalog_from_evidence_runs(tmp_path):
+    from memory_infer.cli import main
+
+    folders = []
+    for index, (distance, amplitude) in enumerate([(1500.0, 1.0), (2500.0, 1.0), (2000.0, 0.0)]):
+        config = event_config(tmp_path, name=f"e{index}.toml", label=f"event-{index}", distance=distance,
+                              amplitude=amplitude, hypotheses='["none"]', live_points=40, noise="gaussian",
+                              seed=20 + index, evidence_extra="minimum_effective_samples = 20")
+        outdir = tmp_path / f"event-{index}"
+        assert main(["evidence", config, "--outdir", str(outdir), "--quiet"]) == 0
+        folders.append(str(outdir))
+    assert main(["combine", *folders, "--outdir", str(tmp_path / "catalog")]) == 0
+    result = json.loads((tmp_path / "catalog" / "catalog.json").read_text())
+    assert result["n_events"] == 3 and not result["dropped"]
+    for key in ("consistent_sign", "wrong_sign", "sign_agnostic"):
+        assert set(result[key]) >= {"ln_bf", "ln_bf_err"}
+    assert {"median", "lower_90", "upper_90", "density_ratio_at_zero"} <= set(result["amplitude"])
+    assert result["amplitude"]["events"] == 3
+    assert all(e["method"] == "importance reweighting" for e in result["events"])
+    assert (tmp_path / "catalog" / "events.csv").exists() and (tmp_path / "catalog" / "report.html").exists()

@@ -1,0 +1,248 @@
+"""Bad input: one clear sentence, a non-zero exit, and nothing written (DEVELOPERS.md, SPEC section 8)."""
+import os
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from memory_infer.cli import main
+
+from helpers import event_config
+
+RATE, DURATION, START = 1024.0, 4.0, 1e9
+
+
+def write_strain(path, values=None, rate=RATE, duration=DURATION, start=START):
+    n = int(rate * duration)
+    times = start + np.arange(n) / rate
+    values = np.random.default_rng(0).normal(0, 1e-22, n) if values is None else values
+    np.savetxt(path, np.column_stack([times, values]))
+
+
+def write_psd(path, values=None):
+    f = np.linspace(1, 512, 600)
+    values = np.full(f.size, 1e-46) if values is None else values
+    np.savetxt(path, np.column_stack([f, values]))
+
+
+def files_config(tmp_path, strain="H1.txt", psd="H1_psd.txt", extra=""):
+    text = f"""
+[event]
+label = "files-event"
+[data]
+kind = "files"
+duration = {DURATION}
+sampling_rate = {RATE}
+start_time = {START}
+[data.files.H1]
+strain = "{strain}"
+psd = "{psd}"
+[priors]
+mass_1 = 36.0
+mass_2 = 29.0
+luminosity_distance = {{ kind = "uniform", minimum = 100.0, maximum = 2000.0 }}
+theta_jn = 1.0
+phase = 0.5
+ra = 1.0
+dec = 0.2
+psi = 0.3
+geocent_time = 1000000002.0
+[evidence]
+methods = ["reweighting"]
+{extra}
+"""
+    path = tmp_path / "files.toml"
+    path.write_text(text)
+    return str(path)
+
+
+def run_and_capture(capsys, argv, outdir):
+    code = main(argv)
+    captured = capsys.readouterr()
+    lines = [line for line in captured.err.strip().splitlines() if line.strip()]
+    assert code != 0
+    assert len(lines) == 1, captured.err
+    assert "Traceback" not in captured.err
+    assert not os.path.exists(outdir), "nothing may be written for bad input"
+    return lines[0]
+
+
+def evidence_case(tmp_path, capsys, config):
+    outdir = str(tmp_path / "out")
+    return run_and_capture(capsys, ["evidence", config, "--outdir", outdir], outdir)
+
+
+def test_nan_strain(tmp_path, capsys):
+    values = np.random.default_rng(0).normal(0, 1e-22, int(RATE * DURATION))
+    values[100] = np.nan
+    write_strain(tmp_path / "H1.txt", values)
+    write_psd(tmp_path / "H1_psd.txt")
+    message = evidence_case(tmp_path, capsys, files_config(tmp_path))
+    assert message == "memory-infer evidence: strain file 'H1.txt' contains NaN or infinite values."
+
+
+def test_non_positive_psd(tmp_path, capsys):
+    write_strain(tmp_path / "H1.txt")
+    values = np.full(600, 1e-46)
+    values[10] = 0.0
+    write_psd(tmp_path / "H1_psd.txt", values)
+    message = evidence_case(tmp_path, capsys, files_config(tmp_path))
+    assert message == "memory-infer evidence: PSD file 'H1_psd.txt' has non-positive values."
+
+
+def test_wrong_sampling_rate(tmp_path, capsys):
+    write_strain(tmp_path / "H1.txt", np.zeros(int(2048 * DURATION)), rate=2048.0)
+    write_psd(tmp_path / "H1_psd.txt")
+    message = evidence_case(tmp_path, capsys, files_config(tmp_path))
+    assert message == ("memory-infer evidence: strain file 'H1.txt' is sampled at 2048 Hz, but the configuration "
+                       "says 1024 Hz.")
+
+
+def test_wrong_duration(tmp_path, capsys):
+    write_strain(tmp_path / "H1.txt", np.zeros(int(RATE * 2)), duration=2.0)
+    write_psd(tmp_path / "H1_psd.txt")
+    message = evidence_case(tmp_path, capsys, files_config(tmp_path))
+    assert message == "memory-infer evidence: strain file 'H1.txt' holds 2 s, but the configuration says 4 s."
+
+
+def test_missing_sample_columns(tmp_path, capsys):
+    write_strain(tmp_path / "H1.txt")
+    write_psd(tmp_path / "H1_psd.txt")
+    pd.DataFrame({"phase": [0.1, 0.2]}).to_csv(tmp_path / "samples.csv", index=False)
+    config = files_config(tmp_path, extra='samples_file = "samples.csv"')
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == ("memory-infer evidence: posterior samples in 'samples.csv' lack the column "
+                       "'luminosity_distance'.")
+
+
+def test_nan_samples(tmp_path, capsys):
+    write_strain(tmp_path / "H1.txt")
+    write_psd(tmp_path / "H1_psd.txt")
+    pd.DataFrame({"luminosity_distance": [400.0, np.nan]}).to_csv(tmp_path / "samples.csv", index=False)
+    message = evidence_case(tmp_path, capsys, files_config(tmp_path, extra='samples_file = "samples.csv"'))
+    assert message == "memory-infer evidence: posterior samples in 'samples.csv' contain NaN or infinite values."
+
+
+def test_unphysical_samples(tmp_path, capsys):
+    write_strain(tmp_path / "H1.txt")
+    write_psd(tmp_path / "H1_psd.txt")
+    pd.DataFrame({"luminosity_distance": [400.0, -3.0]}).to_csv(tmp_path / "samples.csv", index=False)
+    message = evidence_case(tmp_path, capsys, files_config(tmp_path, extra='samples_file = "samples.csv"'))
+    assert message == "memory-infer evidence: 'luminosity_distance' in posterior samples in 'samples.csv' must be positive."
+
+
+def test_phase_marginalization_with_memory(tmp_path, capsys):
+    config = event_config(tmp_path, likelihood="phase_marginalization = true")
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == ("memory-infer evidence: analytic phase marginalization is not valid with memory and higher "
+                       "modes (the memory does not change by an overall phase); sample the phase instead.")
+
+
+def test_missing_configuration(tmp_path, capsys):
+    message = evidence_case(tmp_path, capsys, str(tmp_path / "nope.toml"))
+    assert message == f"memory-infer evidence: configuration file '{tmp_path / 'nope.toml'}' does not exist."
+
+
+def test_invalid_toml(tmp_path, capsys):
+    path = tmp_path / "broken.toml"
+    path.write_text("[event\nlabel = 3")
+    message = evidence_case(tmp_path, capsys, str(path))
+    assert message.startswith(f"memory-infer evidence: configuration file '{path}' is not valid TOML (")
+
+
+def test_unknown_key(tmp_path, capsys):
+    config = event_config(tmp_path, likelihood="distance_marginalisation = true")
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == "memory-infer evidence: unknown key 'distance_marginalisation' in [likelihood] of event.toml."
+
+
+def test_wrong_type(tmp_path, capsys):
+    config = event_config(tmp_path, evidence_extra='minimum_effective_samples = "many"')
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == "memory-infer evidence: key 'minimum_effective_samples' in [evidence] of event.toml must be a number."
+
+
+def test_unknown_noise_curve(tmp_path, capsys):
+    config = event_config(tmp_path, noise_curve="ligo-o9")
+    message = evidence_case(tmp_path, capsys, config)
+    assert message.startswith("memory-infer evidence: unknown noise curve 'ligo-o9' for CE; choose one of ligo-o4,")
+
+
+def test_unknown_detector(tmp_path, capsys):
+    config = event_config(tmp_path, detectors='["X9"]')
+    message = evidence_case(tmp_path, capsys, config)
+    assert message.startswith("memory-infer evidence: unknown detector among X9;")
+
+
+def test_surrogate_model_unavailable(tmp_path, capsys):
+    config = event_config(tmp_path)
+    text = open(config).read().replace('approximant = "IMRPhenomTHM"', 'approximant = "NRSur7dq4"')
+    open(config, "w").write(text)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == ("memory-infer evidence: the injection cannot be generated: waveform model 'NRSur7dq4' needs "
+                       "lalsimulation's downloadable data files (surrogate or ROM tables), which are not available "
+                       "on this machine; use IMRPhenomTHM or IMRPhenomTPHM instead.")
+
+
+def test_unphysical_injection(tmp_path, capsys):
+    config = event_config(tmp_path, distance=-5.0)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == "memory-infer evidence: 'luminosity_distance' in the injection must be positive."
+
+
+def test_unknown_prior_kind(tmp_path, capsys):
+    config = event_config(tmp_path, priors='phase = { kind = "triangle", minimum = 0.0, maximum = 1.0 }')
+    message = evidence_case(tmp_path, capsys, config)
+    assert message.startswith("memory-infer evidence: prior kind 'triangle' for 'phase' is unknown;")
+
+
+def test_psd_not_covering_band(tmp_path, capsys):
+    write_strain(tmp_path / "H1.txt")
+    f = np.linspace(100, 512, 300)
+    np.savetxt(tmp_path / "H1_psd.txt", np.column_stack([f, np.full(f.size, 1e-46)]))
+    message = evidence_case(tmp_path, capsys, files_config(tmp_path))
+    assert message == "memory-infer evidence: the PSD for H1 does not cover the analysis band 20-512 Hz."
+
+
+@pytest.mark.parametrize("arguments, expected", [
+    (["--distance", "-1"], "memory-infer waveform: the distance must be positive."),
+    (["--inclination", "4"], "memory-infer waveform: the inclination must lie between 0 and pi."),
+    (["--model", "NoSuchModel"], "memory-infer waveform: unknown waveform model 'NoSuchModel'; try IMRPhenomTHM, "
+                                 "IMRPhenomTPHM, SEOBNRv4PHM or TaylorT4."),
+])
+def test_waveform_bad_input(tmp_path, capsys, arguments, expected):
+    outdir = str(tmp_path / "wave")
+    assert run_and_capture(capsys, ["waveform", *arguments, "--outdir", outdir], outdir) == expected
+
+
+def test_files_and_outside_samples_run_end_to_end(tmp_path, capsys):
+    """Strain and PSD from files plus posterior samples from elsewhere: reweighting runs and reports."""
+    import json
+
+    import bilby
+
+    from memory_infer.waveform.generator import waveform_generator
+
+    generator = waveform_generator(DURATION, RATE, START, dict(waveform_approximant="IMRPhenomTHM",
+                                                              minimum_frequency=20.0, reference_frequency=20.0))
+    detectors = bilby.gw.detector.InterferometerList(["H1"])
+    detectors.set_strain_data_from_zero_noise(RATE, DURATION, START)
+    truth = dict(mass_1=36.0, mass_2=29.0, luminosity_distance=400.0, a_1=0.0, a_2=0.0, tilt_1=0.0, tilt_2=0.0,
+                 phi_12=0.0, phi_jl=0.0, theta_jn=1.0, phase=0.5, ra=1.0, dec=0.2, psi=0.3,
+                 geocent_time=START + 2.0, memory_amplitude=1.0)
+    detectors.inject_signal(waveform_generator=generator, parameters=truth)
+    write_strain(tmp_path / "H1.txt", detectors[0].strain_data.time_domain_strain)
+    psd = detectors[0].power_spectral_density
+    f = np.linspace(15, 512, 2000)
+    np.savetxt(tmp_path / "H1_psd.txt", np.column_stack([f, psd.power_spectral_density_interpolated(f)]))
+    pd.DataFrame({"luminosity_distance": np.random.default_rng(3).normal(400, 20, 300)}).to_csv(
+        tmp_path / "samples.csv", index=False)
+    config = files_config(tmp_path, extra='samples_file = "samples.csv"\nmethods = ["reweighting", "fast"]')
+    config_text = open(config).read().replace('methods = ["reweighting"]\n', "")
+    open(config, "w").write(config_text)
+    assert main(["evidence", config, "--outdir", str(tmp_path / "out"), "--quiet"]) == 0
+    record = json.loads((tmp_path / "out" / "evidence.json").read_text())
+    reweighted = [m for m in record["methods"] if m["method"].startswith("importance")]
+    assert reweighted and all(m["effective_sample_size"] > 50 for m in reweighted)
+    assert record["memory_snr"]["value"] > 0
+    assert (tmp_path / "out" / "report.html").exists()

@@ -1,0 +1,139 @@
+import json
+import os
+
+import bilby
+import numpy as np
+import pytest
+
+from memory_infer.inference.methods.fast import fast_estimates, sign_partner
+from memory_infer.inference.methods.nested import run_nested
+from memory_infer.inference.methods.reweighting import (amplitude_curve, mean_ratio as _mean_ratio, reweighting_estimate,
+                                                        sign_from_curve)
+from memory_infer import MemoryTransient, waveform_generator
+
+from helpers import event_config
+
+
+class GaussianLikelihood(bilby.core.likelihood.Likelihood):
+    def __init__(self):
+        super().__init__(parameters={"x": 0.0, "y": 0.0})
+
+    def log_likelihood(self, parameters=None):
+        p = parameters or self.parameters
+        return -0.5 * ((p["x"] - 0.3) ** 2 + (p["y"] + 0.2) ** 2) / 0.25 - np.log(2 * np.pi * 0.25)
+
+
+def test_nested_wrapper_recovers_analytic_gaussian_evidence(tmp_path):
+    # textbook integral: a normalized Gaussian well inside a uniform prior on [-3, 3]^2 gives Z = 1/36
+    priors = bilby.core.prior.PriorDict({"x": bilby.core.prior.Uniform(-3, 3, "x"),
+                                         "y": bilby.core.prior.Uniform(-3, 3, "y")})
+    result = run_nested(GaussianLikelihood(), priors, "gauss", str(tmp_path), live_points=150, accepted_walks=15,
+                        seed=11, progress=False)
+    assert abs(result.log_evidence - np.log(1 / 36)) < 3 * result.log_evidence_err
+    assert 0.02 < result.log_evidence_err < 0.5
+
+
+def test_mean_ratio_matches_direct_sums():
+    # common practice, no source: importance-sampling mean, effective sample size (sum w)^2 / sum w^2
+    rng = np.random.default_rng(1)
+    log_w = rng.normal(0.0, 0.5, 5000) - 700.0  # far below float range: log-space must cope
+    ln_mean, error, ess = _mean_ratio(log_w)
+    w = np.exp(log_w + 700.0)
+    assert ln_mean == pytest.approx(np.log(w.mean()) - 700.0, abs=1e-12)
+    assert ess == pytest.approx(w.sum() ** 2 / np.sum(w ** 2), rel=1e-12)
+    assert error == pytest.approx(w.std(ddof=1) / np.sqrt(w.size) / w.mean(), rel=1e-12)
+
+
+def test_reweighting_both_directions_and_collapse_flag():
+    grid = np.array([-1.0, 0.0, 1.0])
+    rng = np.random.default_rng(2)
+    table = np.column_stack([rng.normal(0, 0.1, 4000), np.zeros(4000), rng.normal(0.5, 0.1, 4000)])
+    forward = reweighting_estimate(table, grid, 0.0, 1.0, 0.0)
+    backward = reweighting_estimate(table, grid, 1.0, 1.0, 0.0)
+    # with a Gaussian log weight of mean mu and spread s: ln E[w] = mu + s^2/2, -ln E[1/w] = mu - s^2/2
+    assert forward.ln_bf == pytest.approx(0.5 + 0.005, abs=5 * forward.ln_bf_err)
+    assert backward.ln_bf == pytest.approx(0.5 - 0.005, abs=5 * backward.ln_bf_err)
+    assert forward.reliable and backward.reliable
+    loud = np.column_stack([np.zeros(500), np.zeros(500), rng.normal(0, 8.0, 500)])
+    collapsed = reweighting_estimate(loud, grid, 0.0, 1.0, 0.0, minimum_effective_samples=50)
+    assert not collapsed.reliable and "do not overlap" in collapsed.note
+    assert collapsed.effective_sample_size < 50
+
+
+def test_sign_from_curve_weights():
+    grid = np.linspace(-4, 4, 81)
+    # a Gaussian L(A)/L(0) centred at 1 with width 0.5: the mass above zero is Phi(2) (textbook)
+    ln = -0.5 * ((grid - 1) / 0.5) ** 2 + 0.5 * (1 / 0.5) ** 2
+    table = np.tile(ln, (10, 1))
+    curve = amplitude_curve(table - table[:, [40]], grid, 0.0)
+    sign = sign_from_curve(curve, (-4, 4))
+    assert sign.ln_bf_plus == pytest.approx(2.0, abs=1e-9)
+    assert sign.ln_bf_minus == pytest.approx(2.0 - 8.0, abs=1e-9)
+    assert sign.weight_plus == pytest.approx(0.97725, abs=2e-3)
+
+
+DURATION, RATE, START = 4.0, 1024.0, 1e9
+SOURCE = dict(mass_1=45.0, mass_2=15.0, luminosity_distance=800.0, a_1=0.0, a_2=0.0, tilt_1=0.0, tilt_2=0.0,
+              phi_12=0.0, phi_jl=0.0, theta_jn=1.3, phase=0.7, ra=1.1, dec=0.3, psi=0.4, geocent_time=START + 2.0)
+
+
+def zero_noise_likelihood(mode_list=None):
+    arguments = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)
+    if mode_list:
+        arguments["mode_list"] = mode_list
+    generator = waveform_generator(DURATION, RATE, START, arguments)
+    detectors = bilby.gw.detector.InterferometerList(["CE"])
+    detectors[0].minimum_frequency = 20.0
+    detectors.set_strain_data_from_zero_noise(RATE, DURATION, START)
+    detectors.inject_signal(waveform_generator=generator, parameters=dict(SOURCE, memory_amplitude=1.0))
+    return MemoryTransient(detectors, generator)
+
+
+def test_quadrupole_only_signal_cannot_tell_the_sign():
+    # SPEC section 6: with only (2, +-2) modes, phase + pi/2 and psi + pi/2 keep the oscillatory
+    # strain and flip the memory, so the sign Bayes factor vanishes
+    likelihood = zero_noise_likelihood([(2, 2), (2, -2)])
+    here, there = likelihood.inner_products(SOURCE), likelihood.inner_products(sign_partner(SOURCE))
+    assert abs(here.osc_osc - there.osc_osc) < 1e-9 * here.osc_osc
+    assert abs(here.d_osc - there.d_osc) < 1e-9 * abs(here.d_osc)
+    assert abs(here.d_mem + there.d_mem) < 1e-9 * abs(here.d_mem)
+    estimates, snr = fast_estimates(likelihood, SOURCE)
+    two_plus, two_minus = [e.ln_bf for e in estimates if e.method.startswith("two-point")]
+    assert snr > 0.5
+    assert abs(two_plus - two_minus) < 1e-9
+
+
+def test_higher_modes_resolve_the_sign():
+    # an unequal-mass (q = 3), inclined, loud source with higher modes: the partner point no longer
+    # fits the oscillatory signal, so the two-point sign Bayes factor is large
+    likelihood = zero_noise_likelihood()
+    estimates, snr = fast_estimates(likelihood, SOURCE)
+    two_plus, two_minus = [e.ln_bf for e in estimates if e.method.startswith("two-point")]
+    assert two_plus - two_minus > 4.0  # zero noise: 2 rho^2 when the partner does not fit
+    assert two_plus == pytest.approx(snr ** 2 / 2, rel=1e-6)  # zero noise: rho^2 / 2 (Finn 1992, mean value)
+
+
+@pytest.mark.slow
+def test_small_loud_problem_nested_and_reweighting_agree(tmp_path):
+    from memory_infer.cli import main
+
+    config = event_config(tmp_path, distance=1500.0, amplitude=1.0)
+    assert main([ "evidence", config, "--outdir", str(tmp_path / "gr"), "--quiet"]) == 0
+    record = json.loads((tmp_path / "gr" / "evidence.json").read_text())
+    nested = next(m for m in record["methods"] if m["method"].startswith("nested") and m["numerator"] == "memory")
+    reweighted = next(m for m in record["methods"] if m["method"].startswith("importance") and m["numerator"] == "memory")
+    assert reweighted["reliable"]
+    assert abs(nested["ln_bf"] - reweighted["ln_bf"]) < 3 * np.hypot(nested["ln_bf_err"], reweighted["ln_bf_err"])
+    assert reweighted["ln_bf"] > 0 and nested["ln_bf"] > 0
+    # zero noise and the phase free: close to rho^2/2 (Finn, PRD 46, 5236 (1992)), which is > 1 here
+    assert record["memory_snr"]["value"] ** 2 / 2 > 1
+    assert abs(reweighted["ln_bf"] - record["memory_snr"]["value"] ** 2 / 2) < 0.3
+    assert os.path.exists(tmp_path / "gr" / "report.html")
+    assert os.path.exists(tmp_path / "gr" / "runs" / "test-event_none_result.json")
+
+    config = event_config(tmp_path, name="none.toml", distance=1500.0, amplitude=0.0, hypotheses='["none"]')
+    assert main(["evidence", config, "--outdir", str(tmp_path / "none"), "--quiet"]) == 0
+    record = json.loads((tmp_path / "none" / "evidence.json").read_text())
+    reweighted = next(m for m in record["methods"] if m["method"].startswith("importance") and m["numerator"] == "memory")
+    assert reweighted["ln_bf"] < 0
+    assert record["sign"]["ln_bf_plus"] < 0 and record["sign"]["ln_bf_minus"] < 0

@@ -1,0 +1,91 @@
+import bilby
+import numpy as np
+import pytest
+
+from memory_infer.common.errors import MemoryInferError
+from memory_infer.inference.likelihood import MemoryTransient, fixed_point_log_ratio, memory_snr
+from memory_infer.waveform.generator import waveform_generator
+
+DURATION, RATE, START = 4.0, 1024.0, 1e9
+TRUTH = dict(mass_1=36.0, mass_2=29.0, luminosity_distance=2500.0, a_1=0.2, a_2=0.0, tilt_1=0.0, tilt_2=0.0,
+             phi_12=0.0, phi_jl=0.0, theta_jn=1.2, phase=0.6, ra=1.1, dec=0.3, psi=0.4, geocent_time=START + 2.0)
+ARGUMENTS = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)
+
+
+def detectors_with(generator, seed, amplitude=1.0, names=("CE",), zero=False):
+    bilby.core.utils.random.seed(seed)
+    detectors = bilby.gw.detector.InterferometerList(list(names))
+    for detector in detectors:
+        detector.minimum_frequency = 20.0
+    if zero:
+        detectors.set_strain_data_from_zero_noise(RATE, DURATION, START)
+    else:
+        detectors.set_strain_data_from_power_spectral_densities(RATE, DURATION, START)
+    detectors.inject_signal(waveform_generator=generator, parameters=dict(TRUTH, memory_amplitude=amplitude),
+                            raise_error=False)
+    return detectors
+
+
+@pytest.fixture(scope="module")
+def generator():
+    return waveform_generator(DURATION, RATE, START, ARGUMENTS)
+
+
+def test_curve_equals_direct_likelihood(generator):
+    # reference library: bilby GravitationalWaveTransient's own log_likelihood_ratio at each A
+    likelihood = MemoryTransient(detectors_with(generator, 1, names=("H1", "L1")), generator)
+    amplitudes = np.array([-2.0, -1.0, 0.0, 0.5, 1.0, 3.0])
+    curve = likelihood.log_likelihood_ratio_curve(TRUTH, amplitudes)
+    direct = [bilby.gw.GravitationalWaveTransient.log_likelihood_ratio(likelihood, dict(TRUTH, memory_amplitude=a))
+              for a in amplitudes]
+    assert np.max(np.abs(curve - direct)) < 1e-8
+
+
+def test_curve_equals_direct_with_time_marginalization(generator):
+    priors = bilby.core.prior.PriorDict({"geocent_time": bilby.core.prior.Uniform(START + 1.9, START + 2.1)})
+    priors["memory_amplitude"] = 0.0
+    likelihood = MemoryTransient(detectors_with(generator, 2), generator, priors=priors, time_marginalization=True)
+    point = dict(TRUTH, time_jitter=0.0)
+    amplitudes = np.array([-1.0, 0.0, 1.0, 2.0])
+    curve = likelihood.log_likelihood_ratio_curve(point, amplitudes)
+    direct = [likelihood.log_likelihood_ratio(dict(point, memory_amplitude=a)) for a in amplitudes]
+    assert np.max(np.abs(curve - direct)) < 1e-8
+
+
+@pytest.mark.slow
+def test_curve_equals_direct_with_distance_and_time_marginalization(generator, tmp_path):
+    priors = bilby.core.prior.PriorDict({
+        "luminosity_distance": bilby.core.prior.PowerLaw(2, 500, 6000, name="luminosity_distance"),
+        "geocent_time": bilby.core.prior.Uniform(START + 1.9, START + 2.1)})
+    priors["memory_amplitude"] = 0.0
+    likelihood = MemoryTransient(detectors_with(generator, 3), generator, priors=priors, distance_marginalization=True,
+                                 time_marginalization=True,
+                                 distance_marginalization_lookup_table=str(tmp_path / "table.npz"))
+    point = dict(TRUTH, time_jitter=0.0, luminosity_distance=float(likelihood._ref_dist))
+    amplitudes = np.array([-1.0, 0.0, 1.0])
+    curve = likelihood.log_likelihood_ratio_curve(point, amplitudes)
+    direct = [likelihood.log_likelihood_ratio(dict(point, memory_amplitude=a)) for a in amplitudes]
+    assert np.max(np.abs(curve - direct)) < 1e-8
+
+
+def test_phase_marginalization_is_refused(generator):
+    with pytest.raises(MemoryInferError, match="phase marginalization is not valid"):
+        MemoryTransient(detectors_with(generator, 4), generator, phase_marginalization=True,
+                        priors=bilby.core.prior.PriorDict())
+
+
+def test_known_signal_log_likelihood_ratio_statistics(generator):
+    # L. S. Finn, PRD 46, 5236 (1992): with the signal known, ln Lambda has mean rho^2/2 and standard
+    # deviation rho over Gaussian-noise realizations; 240 realizations, within 3 standard errors
+    values, snrs = [], []
+    for seed in range(240):
+        likelihood = MemoryTransient(detectors_with(generator, 1000 + seed), generator)
+        products = likelihood.inner_products(TRUTH)
+        values.append(fixed_point_log_ratio(products))
+        snrs.append(memory_snr(products))
+    values, rho = np.asarray(values), float(np.mean(snrs))
+    n = values.size
+    assert np.ptp(snrs) < 1e-9 * rho  # the memory SNR does not depend on the noise
+    assert 0.8 < rho < 4
+    assert abs(values.mean() - rho ** 2 / 2) < 3 * rho / np.sqrt(n)
+    assert abs(values.std(ddof=1) - rho) < 3 * rho / np.sqrt(2 * (n - 1))
