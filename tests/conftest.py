@@ -15,3 +15,16 @@ def thm_modes():
 
     series = generate_modes("IMRPhenomTHM", 45.0, 15.0, 100.0, 1 / 4096, 20.0)
     return series.geometric()
+
+
+@pytest.fixture(scope="session")
+def small_event_run(tmp_path_factory):
+    """One short evidence run (nested with A = 0 and A free, reweighting, fast) shared by the report tests."""
+    from memory_infer.cli import main
+
+    from helpers import event_config
+
+    folder = tmp_path_factory.mktemp("small_event")
+    config = event_config(folder, live_points=30, hypotheses='["none", "free"]')
+    assert main(["evidence", config, "--outdir", str(folder / "out"), "--quiet"]) == 0
+    return folder / "out"

@@ -11,16 +11,17 @@ ZERO_DEFAULTS = {"a_1": 0.0, "a_2": 0.0, "tilt_1": 0.0, "tilt_2": 0.0, "phi_12":
 
 
 def check_physical(values: dict, where: str) -> None:
-    """One sentence for the first unphysical value among bilby's standard parameters."""
+    """One sentence for the first unphysical value among bilby's standard parameters (numbers or arrays)."""
     rules = [
         ("mass_1", lambda v: v > 0, "must be positive"), ("mass_2", lambda v: v > 0, "must be positive"),
         ("luminosity_distance", lambda v: v > 0, "must be positive"),
-        ("a_1", lambda v: 0 <= v <= 1, "must lie between 0 and 1"), ("a_2", lambda v: 0 <= v <= 1, "must lie between 0 and 1"),
-        ("theta_jn", lambda v: 0 <= v <= np.pi, "must lie between 0 and pi"),
-        ("tilt_1", lambda v: 0 <= v <= np.pi, "must lie between 0 and pi"),
-        ("tilt_2", lambda v: 0 <= v <= np.pi, "must lie between 0 and pi"),
-        ("dec", lambda v: -np.pi / 2 <= v <= np.pi / 2, "must lie between -pi/2 and pi/2"),
-        ("mass_ratio", lambda v: 0 < v <= 1, "must lie in (0, 1]"), ("chirp_mass", lambda v: v > 0, "must be positive"),
+        ("a_1", lambda v: (v >= 0) & (v <= 1), "must lie between 0 and 1"),
+        ("a_2", lambda v: (v >= 0) & (v <= 1), "must lie between 0 and 1"),
+        ("theta_jn", lambda v: (v >= 0) & (v <= np.pi), "must lie between 0 and pi"),
+        ("tilt_1", lambda v: (v >= 0) & (v <= np.pi), "must lie between 0 and pi"),
+        ("tilt_2", lambda v: (v >= 0) & (v <= np.pi), "must lie between 0 and pi"),
+        ("dec", lambda v: (v >= -np.pi / 2) & (v <= np.pi / 2), "must lie between -pi/2 and pi/2"),
+        ("mass_ratio", lambda v: (v > 0) & (v <= 1), "must lie in (0, 1]"), ("chirp_mass", lambda v: v > 0, "must be positive"),
     ]
     for key, rule, text in rules:
         if key in values:

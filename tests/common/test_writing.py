@@ -1,0 +1,42 @@
+import json
+import os
+
+import numpy as np
+import pytest
+
+from memory_infer.common.errors import MemoryInferError
+from memory_infer.common.writing import atomic_path, provenance, read_json, write_json, write_text
+
+
+def test_a_failed_write_leaves_the_earlier_file_whole(tmp_path):
+    path = str(tmp_path / "out.json")
+    write_json(path, {"value": 1})
+    with pytest.raises(RuntimeError):
+        with atomic_path(path) as temporary:
+            with open(temporary, "w") as handle:
+                handle.write('{"value": 2, "half')
+            raise RuntimeError("the run failed here")
+    assert json.load(open(path)) == {"value": 1}
+    assert os.listdir(tmp_path) == ["out.json"]  # no partial file left behind
+
+
+def test_json_holds_numpy_values_and_text_is_written_whole(tmp_path):
+    path = str(tmp_path / "out.json")
+    write_json(path, {"a": np.float64(0.1), "b": np.arange(3), "c": 1 + 2j, "d": float("inf")})
+    assert read_json(path, "test file") == {"a": 0.1, "b": [0, 1, 2], "c": [1.0, 2.0], "d": float("inf")}
+    write_text(str(tmp_path / "page.html"), "<p>x</p>")
+    assert (tmp_path / "page.html").read_text() == "<p>x</p>"
+
+
+def test_unreadable_json_is_one_sentence(tmp_path):
+    (tmp_path / "bad.json").write_text("{not json")
+    with pytest.raises(MemoryInferError, match="is not valid JSON"):
+        read_json(str(tmp_path / "bad.json"), "result")
+    with pytest.raises(MemoryInferError, match="does not exist"):
+        read_json(str(tmp_path / "none.json"), "result")
+
+
+def test_provenance_names_versions_and_seed():
+    record = provenance({"key": 1}, 7)
+    assert record["seed"] == 7 and record["configuration"] == {"key": 1}
+    assert record["versions"]["numpy"] == np.__version__

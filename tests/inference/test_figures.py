@@ -1,0 +1,26 @@
+import numpy as np
+
+from memory_infer.inference.figures import memory_spectrum, whitened_series
+from memory_infer.inference.setup import prepare
+from memory_infer.inputs.config import load_evidence_config
+
+from helpers import event_config
+
+
+def test_figure_data_in_zero_noise_shows_the_injected_model(tmp_path):
+    # zero noise with A = 1 injected: the whitened data are the whitened model with memory
+    setup = prepare(load_evidence_config(event_config(tmp_path, detectors='["H1", "L1"]', noise_curve="ligo-design",
+                                                      distance=400.0)))
+    point = {k: v for k, v in setup.injection.items() if k != "memory_amplitude"}
+    whitened = whitened_series(setup.detectors, setup.generator, point)
+    for series in whitened.values():
+        data, model = np.asarray(series["data"]), np.asarray(series["model_with_memory"])
+        assert np.max(np.abs(data - model)) < 1e-9 * np.max(np.abs(model))
+        assert min(series["time"]) > -0.25 and max(series["time"]) < 0.1
+    spectrum = memory_spectrum(setup.detectors, setup.generator, point, 20.0)
+    h1 = spectrum["detectors"]["H1"]
+    assert len(h1["frequency"]) <= 600 and np.all(np.diff(h1["frequency"]) > 0)
+    frequency, memory = np.asarray(h1["frequency"]), np.asarray(h1["memory"])
+    assert np.all(memory[frequency < 19.9] == 0)  # outside the analysis band the response is masked
+    low, high = np.interp([25.0, 400.0], frequency, memory)
+    assert low > 10 * high  # the memory is a low-frequency signal

@@ -1,0 +1,18 @@
+from memory_infer.reports.event import event_page
+from memory_infer.results.event import EventResult
+
+
+def test_page_rebuilt_from_the_file_equals_the_one_written_at_run_time(small_event_run):
+    result = EventResult.load(str(small_event_run / "evidence.json"))
+    figures = result.figures
+    assert set(figures) >= {"whitened", "spectrum", "weights", "reference_point"}
+    assert len(figures["weights"]["none"]) > 10 and len(figures["whitened"]["CE"]["data"]) > 100
+    assert result.free_amplitude["samples"]
+    page = event_page(result)
+    assert page == (small_event_run / "report.html").read_text()
+    assert "not a detection claim" in page and page.count("<img") == 4
+
+
+def test_page_without_figures_data_still_renders():
+    page = event_page(EventResult(event="bare"))
+    assert "Memory evidence for bare" in page and "no reweighting in this run" not in page[:200]

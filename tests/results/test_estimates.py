@@ -1,0 +1,48 @@
+import numpy as np
+import pytest
+
+from memory_infer.common.errors import MemoryInferError
+from memory_infer.results.estimates import (EvidenceEstimate, cumulative_distribution, grid_index, headline,
+                                            normalized_density, preferred)
+
+
+def estimate(family, numerator, ln_bf, reliable=True, ess=None, sample_set=None):
+    names = {"nested": "nested sampling", "reweighting": "importance reweighting from the A = 0 posterior",
+             "two-point": "two-point approximation"}
+    return EvidenceEstimate(method=names[family], ln_bf=ln_bf, ln_bf_err=0.1, numerator=numerator, reliable=reliable,
+                            effective_sample_size=ess, sample_set=sample_set)
+
+
+def test_families_follow_the_stated_order():
+    methods = [estimate("two-point", "memory", 0.1), estimate("two-point", "flipped", -0.1),
+               estimate("reweighting", "memory", 0.2, ess=300), estimate("reweighting", "flipped", -0.2, ess=300),
+               estimate("nested", "memory", 0.3)]
+    assert headline(methods)["ln_bf"] == 0.3  # nested when run
+    pair = preferred(methods, ("memory", "flipped"))
+    assert pair["memory"].ln_bf == 0.2  # nested lacks A = -1: the reweighting pair
+    assert preferred(methods[:2], ("memory", "flipped"))["memory"].ln_bf == 0.1
+
+
+def test_reweighting_prefers_reliable_sets_with_more_effective_samples():
+    methods = [estimate("reweighting", "memory", 0.5, ess=80, sample_set="none"),
+               estimate("reweighting", "memory", 0.7, ess=400, sample_set="file"),
+               estimate("reweighting", "memory", 9.0, reliable=False, ess=3, sample_set="memory")]
+    assert headline(methods)["ln_bf"] == 0.7
+    assert headline([methods[2]]) is None
+
+
+def test_family_is_read_from_old_method_names():
+    old = EvidenceEstimate.from_dict({"method": "importance reweighting from the A = 1 posterior (inverse mean)",
+                                      "ln_bf": 0.1, "ln_bf_err": 0.01, "extra": "ignored"})
+    assert old.family == "reweighting" and old.base_amplitude == 1.0
+
+
+def test_grid_helpers():
+    grid = np.linspace(-2, 2, 41)
+    assert grid_index(grid, 1.0) == 30
+    with pytest.raises(MemoryInferError, match="does not contain"):
+        grid_index(grid, 0.05)
+    density = normalized_density(grid, -0.5 * grid ** 2 / 0.3 ** 2 + 1e3)  # large offset: log space must cope
+    assert np.trapezoid(density, grid) == pytest.approx(1.0, abs=1e-12)
+    cdf = cumulative_distribution(grid, density)
+    assert cdf[0] == 0 and cdf[-1] == 1 and np.interp(0.0, grid, cdf) == pytest.approx(0.5, abs=1e-12)
