@@ -8,7 +8,7 @@ import numpy as np
 
 def add_arguments(parser):
     parser.add_argument("table", help="CSV of events: a 'label' column and bilby parameter names (spins default 0)")
-    parser.add_argument("--network", default="hlv-design", help="network name (see memory_infer/detectors.py)")
+    parser.add_argument("--network", default="hlv-design", help="network name (see memory_infer/inputs/detectors.py)")
     parser.add_argument("--duration", type=float, default=8.0, help="segment length, s")
     parser.add_argument("--minimum-frequency", type=float, default=20.0, help="band start, Hz")
     parser.add_argument("--output", default=None, help="write the ranking to this CSV as well")

@@ -13,6 +13,10 @@ from memory_infer import MemoryTransient, waveform_generator
 
 from helpers import event_config
 
+DURATION, RATE, START = 4.0, 1024.0, 1e9
+SOURCE = dict(mass_1=45.0, mass_2=15.0, luminosity_distance=800.0, a_1=0.0, a_2=0.0, tilt_1=0.0, tilt_2=0.0,
+              phi_12=0.0, phi_jl=0.0, theta_jn=1.3, phase=0.7, ra=1.1, dec=0.3, psi=0.4, geocent_time=START + 2.0)
+
 
 def zero_noise_likelihood(mode_list=None):
     arguments = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)

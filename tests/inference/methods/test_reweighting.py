@@ -53,11 +53,6 @@ def test_sign_from_curve_weights():
     assert sign.weight_plus == pytest.approx(0.97725, abs=2e-3)
 
 
-DURATION, RATE, START = 4.0, 1024.0, 1e9
-SOURCE = dict(mass_1=45.0, mass_2=15.0, luminosity_distance=800.0, a_1=0.0, a_2=0.0, tilt_1=0.0, tilt_2=0.0,
-              phi_12=0.0, phi_jl=0.0, theta_jn=1.3, phase=0.7, ra=1.1, dec=0.3, psi=0.4, geocent_time=START + 2.0)
-
-
 @pytest.mark.slow
 def test_small_loud_problem_nested_and_reweighting_agree(tmp_path):
     from memory_infer.cli import main
