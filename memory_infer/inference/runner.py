@@ -7,6 +7,7 @@ import os
 
 import numpy as np
 
+from ..common.errors import MemoryInferError
 from ..results.event import EventResult
 from ..waveform.source import EARLY_INSPIRAL_EFFECT
 from .figures import memory_spectrum, whitened_series
@@ -45,8 +46,6 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventRes
             plain, _ = setup.likelihood("none", marginalize=False)
             products = plain.inner_products(point)
             if products is None:
-                from ..common.errors import MemoryInferError
-
                 raise MemoryInferError("the waveform failed at the chosen parameter point")
             state.memory_snr = float(np.sqrt(max(products.mem_mem, 0.0)))
         result.memory_snr = {"value": state.memory_snr, "error": None, "point": where,

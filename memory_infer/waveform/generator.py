@@ -41,7 +41,10 @@ class MemoryWaveformGenerator(bilby.gw.WaveformGenerator):
     def parts(self, parameters, raise_errors: bool = False) -> tuple[dict, dict] | tuple[None, None]:
         """(oscillatory, memory) polarizations at bilby ``parameters``; (None, None) for a caught failure
         (``raise_errors`` raises it instead)."""
-        formatted = self._format_parameters(dict(parameters, memory_amplitude=0.0))
+        return self._parts(self._format_parameters(dict(parameters, memory_amplitude=0.0)), raise_errors)
+
+    def _parts(self, formatted: dict, raise_errors: bool = False):
+        """:meth:`parts` for parameters already converted and completed by ``_format_parameters``."""
         try:
             parts = signal_parts(self.frequency_array, cache=self.source_cache, **formatted)
         except WaveformError as error:
@@ -57,7 +60,7 @@ class MemoryWaveformGenerator(bilby.gw.WaveformGenerator):
         if model is not memory_binary_black_hole:
             return super()._strain_from_model(model_data_points, model, parameters)
         amplitude = float(parameters.get("memory_amplitude", 1.0))
-        oscillatory, memory = self.parts(parameters)
+        oscillatory, memory = self._parts(parameters)  # bilby has converted the parameters already
         if oscillatory is None:
             return None
         return {k: oscillatory[k] + amplitude * memory[k] for k in oscillatory}
