@@ -3,7 +3,9 @@
 Independent events multiply evidences, so ln Bayes factors add and their errors add in quadrature:
 - consistent sign (general relativity): ``sum_i ln BF+_i``;
 - wrong sign: ``sum_i ln BF-_i``;
-- sign-agnostic: ``sum_i ln((BF+_i + BF-_i) / 2)``;
+- sign-agnostic: ``sum_i ln((BF+_i + BF-_i) / 2)`` (each event's sign unknown, independently);
+- shared unknown sign: ``ln((prod_i BF+_i + prod_i BF-_i) / 2)`` (one sign for the whole catalog, unknown:
+  the hedge against a sign-convention error);
 - a shared amplitude A: ``p(A) ∝ pi(A) prod_i <L(A)/L(0)>_i`` on the events' common grid.
 """
 from __future__ import annotations
@@ -18,7 +20,7 @@ import numpy as np
 
 from ..common.errors import MemoryInferError
 from ..results.catalog import CatalogResult
-from ..results.estimates import RULE, cumulative_distribution, normalized_density, preferred
+from ..results.estimates import RULE, cumulative_distribution, normalized_density, preferred, prior_on_grid
 from ..results.event import EventResult
 
 CONSISTENCY_KEYS = ("amplitude_grid", "early_inspiral_memory", "free_amplitude_limits")
@@ -142,9 +144,20 @@ def combinations(entries) -> dict:
     missing = sum(e.ln_bf_err is None for e in used)
     note = ("errors add in quadrature over events" +
             (f"; {missing} events from the two-point approximation carry no error" if missing else ""))
+    total_plus, total_minus = float(plus.sum()), float(minus.sum())
+    shared_weight = float(np.exp(total_plus - np.logaddexp(total_plus, total_minus)))
+    plus_error = _quadrature([e.ln_bf_plus_err for e in used])
+    minus_error = _quadrature([e.ln_bf_minus_err for e in used])
+    shared_error = None if plus_error is None or minus_error is None else \
+        float(np.hypot(shared_weight * plus_error, (1 - shared_weight) * minus_error))
     return {
         "consistent_sign": {"ln_bf": float(plus.sum()), "ln_bf_err": _quadrature([e.ln_bf_plus_err for e in used]),
                             "formula": "sum of ln BF+ (A = +1 vs 0)", "note": note},
+        "shared_unknown_sign": {"ln_bf": float(np.logaddexp(total_plus, total_minus) - np.log(2)),
+                                "ln_bf_err": shared_error, "formula": "ln((prod BF+ + prod BF-)/2)",
+                                "weight_plus": shared_weight,
+                                "note": note + "; one sign for every event, unknown, prior odds 1:1; weight_plus = "
+                                               "prod BF+ / (prod BF+ + prod BF-)"},
         "wrong_sign": {"ln_bf": float(minus.sum()), "ln_bf_err": _quadrature([e.ln_bf_minus_err for e in used]),
                        "formula": "sum of ln BF- (A = -1 vs 0)", "note": note},
         "sign_agnostic": {"ln_bf": float(agnostic.sum()), "ln_bf_err": _quadrature(agnostic_errors),
@@ -152,32 +165,61 @@ def combinations(entries) -> dict:
     }
 
 
-def amplitude_posterior(entries, limits=None, replicas: int = 200, seed: int = 0) -> dict:
-    """Catalog posterior of a shared A on the common grid, uniform prior on ``limits``."""
+def amplitude_posterior(entries, limits=None, replicas: int = 200, seed: int = 0,
+                        minimum_effective_samples: float = 50.0) -> dict:
+    """Catalog posterior of a shared A on the common grid, uniform prior on ``limits`` limited to the grid.
+
+    The posterior over prior density at A = 0 is a Savage-Dickey ratio for that prior: for the same data
+    it scales with the prior's width. Each event's effective sample size is checked over the grid.
+    """
     curves = [e for e in entries if e.included and e.curve]
     if not curves:
         return {"median": None, "lower_90": None, "upper_90": None, "density_ratio_at_zero": None,
                 "density_ratio_at_one": None, "events": 0, "note": "no event has an amplitude curve"}
     grid = np.asarray(curves[0].curve["amplitudes"], dtype=float)
-    limits = (grid[0], grid[-1]) if limits is None else limits
-    inside = (grid >= limits[0]) & (grid <= limits[1])
+    low, high, cut = prior_on_grid(grid, (grid[0], grid[-1]) if limits is None else limits)
+    inside = (grid >= low) & (grid <= high)
     grid = grid[inside]
     ln_curves = np.array([np.asarray(e.curve["ln_mean_ratio"], float)[inside] for e in curves])
     errors = np.array([np.asarray(e.curve["ln_mean_ratio_err"], float)[inside] for e in curves])
-    summary = _summarize(grid, ln_curves.sum(axis=0), limits)
+    summary = _summarize(grid, ln_curves.sum(axis=0), (low, high))
     rng = np.random.default_rng(seed)
     draws = [_summarize(grid, (ln_curves + rng.normal(0, 1, ln_curves.shape) * np.nan_to_num(errors)).sum(axis=0),
-                        limits) for _ in range(replicas)]
+                        (low, high)) for _ in range(replicas)]
     for key in ("median", "lower_90", "upper_90"):
         summary[key + "_err"] = float(np.std([d[key] for d in draws]))
     summary.update({"events": len(curves), "grid": grid.tolist(), "ln_density": summary.pop("_ln_density"),
                     "event_curves": {e.label: c.tolist() for e, c in zip(curves, ln_curves)},
-                    "prior": f"uniform on [{limits[0]:g}, {limits[1]:g}]",
+                    "prior": f"uniform on [{low:g}, {high:g}]", "prior_note": cut,
+                    "density_ratio_note": "posterior over prior density (a Savage-Dickey ratio for this prior): "
+                                          "for the same data it scales with the prior's width",
+                    "effective_samples": _effective_sample_check(curves, inside, grid, summary,
+                                                                 minimum_effective_samples),
                     "method": "product of each event's reweighted <L(A)/L(0)> on a grid; errors from "
                               f"{replicas} replicas with each curve's Monte-Carlo error"})
     for draw in draws:
         draw.pop("_ln_density")
     return summary
+
+
+def _effective_sample_check(curves, inside, grid, summary, minimum: float) -> dict:
+    """Events whose curve has fewer than ``minimum`` effective samples somewhere on the grid, and whether
+    that part lies inside the catalog's 90% interval (where it would matter)."""
+    flagged = []
+    for entry in curves:
+        ess = entry.curve.get("effective_sample_size")
+        if ess is None:
+            continue
+        ess = np.asarray(ess, dtype=float)[inside]
+        low = grid[ess < minimum]
+        if low.size:
+            overlaps = bool(np.any((low >= summary["lower_90"]) & (low <= summary["upper_90"])))
+            flagged.append({"label": entry.label, "fewest": float(ess.min()),
+                            "below_threshold_from": float(low.min()), "below_threshold_to": float(low.max()),
+                            "inside_catalog_90": overlaps})
+    return {"threshold": float(minimum), "flagged": flagged,
+            "note": "flagged events have fewer effective samples than the threshold on part of the grid; where "
+                    "that part lies inside the catalog's 90% interval the shared-A posterior there is unreliable"}
 
 
 def _summarize(grid, ln_total, limits) -> dict:

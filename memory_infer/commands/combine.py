@@ -30,7 +30,8 @@ def run(args) -> int:
     c = result.consistent_sign
     error = "n/a" if c["ln_bf_err"] is None else f"{c['ln_bf_err']:.2f}"
     print(f"catalog of {result.n_events} events: consistent-sign ln BF = {c['ln_bf']:.2f} ± {error}; "
-          f"wrong sign {result.wrong_sign['ln_bf']:.2f}; sign-agnostic {result.sign_agnostic['ln_bf']:.2f}")
+          f"wrong sign {result.wrong_sign['ln_bf']:.2f}; sign-agnostic {result.sign_agnostic['ln_bf']:.2f}; "
+          f"shared unknown sign {result.shared_unknown_sign['ln_bf']:.2f}")
     for item in result.dropped:
         print(f"dropped {item['label']}: {item['reason']}")
     print(f"wrote {args.outdir}/catalog.json, events.csv and report.html")

@@ -1,6 +1,8 @@
 """The catalog page: cumulative evidence, per-event contributions, the shared-amplitude posterior."""
 from __future__ import annotations
 
+import html
+
 import numpy as np
 
 from ..results.catalog import CatalogResult
@@ -61,13 +63,21 @@ def catalog_page(result: CatalogResult) -> str:
     """The catalog report, drawn from a :class:`CatalogResult` alone."""
     sums = [(name.replace("_", " "), getattr(result, name)["formula"],
              number(getattr(result, name)["ln_bf"], getattr(result, name)["ln_bf_err"]))
-            for name in ("consistent_sign", "wrong_sign", "sign_agnostic")]
+            for name in ("consistent_sign", "wrong_sign", "sign_agnostic", "shared_unknown_sign")
+            if getattr(result, name)]
     amplitude = result.amplitude
     amp = ("<p>no amplitude curves</p>" if amplitude["median"] is None else
            f"<p>median {number(amplitude['median'], amplitude['median_err'])}, 90% interval "
            f"[{amplitude['lower_90']:.2f}, {amplitude['upper_90']:.2f}], posterior/prior density at A = 0: "
            f"{amplitude['density_ratio_at_zero']:.3g}, at A = 1: {amplitude['density_ratio_at_one']:.3g} "
-           f"({amplitude['events']} events; {amplitude['prior']}; {amplitude['method']})</p>")
+           f"({amplitude['events']} events; {amplitude['prior']}; {amplitude['method']})</p>"
+           + "".join(f"<p>{html.escape(amplitude[k])}.</p>" for k in ("prior_note", "density_ratio_note")
+                     if amplitude.get(k))
+           + "".join(f"<p class='warn'>{html.escape(f['label'])}: fewer than "
+                     f"{amplitude['effective_samples']['threshold']:g} effective samples for A from "
+                     f"{f['below_threshold_from']:.2f} to {f['below_threshold_to']:.2f} (fewest {f['fewest']:.1f})"
+                     f"{'; inside the catalog 90% interval' if f['inside_catalog_90'] else ''}.</p>"
+                     for f in (amplitude.get("effective_samples") or {}).get("flagged", [])))
     rows = [(e["label"], number(e["ln_bf_plus"], e["ln_bf_plus_err"]), number(e["ln_bf_minus"], e["ln_bf_minus_err"]),
              e["method"], "yes" if e["included"] else "no", e["reason"]) for e in result.events]
     versus = result.expected_vs_observed

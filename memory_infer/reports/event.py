@@ -93,9 +93,11 @@ def event_page(result: EventResult) -> str:
     sign = result.sign
     if sign:
         sections.append(("Sign of the memory", table(
-            ["ln BF₊ (A=+1 vs 0)", "ln BF₋ (A=−1 vs 0)", "sign ln BF (+ vs −)", "posterior weight A > 0", "method"],
+            ["ln BF₊ (A=+1 vs 0)", "ln BF₋ (A=−1 vs 0)", "sign ln BF (+ vs −)", "weight of A = +1 against −1",
+             "posterior mass of A > 0 (A free)", "method"],
             [(number(sign.ln_bf_plus, sign.ln_bf_plus_err), number(sign.ln_bf_minus, sign.ln_bf_minus_err),
-              number(sign.ln_bf_sign, sign.ln_bf_sign_err), f"{sign.weight_plus:.3f}", sign.method)])
+              number(sign.ln_bf_sign, sign.ln_bf_sign_err), f"{sign.weight_plus:.3f}",
+              "—" if sign.mass_above_zero is None else f"{sign.mass_above_zero:.3f}", sign.method)])
             + f"<p>{html.escape(sign.note)}</p>"))
     snr = result.memory_snr
     if snr:

@@ -18,6 +18,7 @@ class CatalogResult(ResultFile):
     wrong_sign: dict
     sign_agnostic: dict
     amplitude: dict
+    shared_unknown_sign: dict = field(default_factory=dict)
     events: list = field(default_factory=list)
     ranking: list = field(default_factory=list)
     cumulative_ln_bf_plus: list = field(default_factory=list)

@@ -81,6 +81,22 @@ def normalized_density(grid, ln_values) -> np.ndarray:
     return density / np.trapezoid(density, grid)
 
 
+def prior_on_grid(grid, limits) -> tuple:
+    """(low, high, note): a uniform prior's limits cut to the grid's span, and a sentence when they were cut
+    (outside the grid the likelihood is unknown, so the prior is limited to the grid, not extrapolated)."""
+    grid = np.asarray(grid, dtype=float)
+    low, high = max(float(limits[0]), float(grid[0])), min(float(limits[1]), float(grid[-1]))
+    note = "" if (low, high) == (float(limits[0]), float(limits[1])) else (
+        f"the prior's limits [{limits[0]:g}, {limits[1]:g}] reach beyond the amplitude grid; the prior is "
+        f"limited to the grid's span [{low:g}, {high:g}]")
+    return low, high, note
+
+
+def sign_weight(ln_bf_plus: float, ln_bf_minus: float) -> float:
+    """``weight_plus`` = BF+ / (BF+ + BF-): the probability of A = +1 against A = -1 at equal prior odds."""
+    return float(1 / (1 + np.exp(ln_bf_minus - ln_bf_plus)))
+
+
 def cumulative_distribution(grid, density) -> np.ndarray:
     """The CDF of a density on ``grid`` (trapezoids), ending at exactly 1."""
     cdf = np.concatenate([[0], np.cumsum(0.5 * (density[1:] + density[:-1]) * np.diff(grid))])
@@ -115,9 +131,10 @@ class SignSummary(_FromDict):
     ln_bf_minus_err: float | None
     ln_bf_sign: float
     ln_bf_sign_err: float | None
-    weight_plus: float
+    weight_plus: float  # BF+ / (BF+ + BF-): probability of A = +1 against A = -1 at equal prior odds
     method: str
     note: str = field(default="")
+    mass_above_zero: float | None = None  # posterior mass of A > 0 with A free (uniform prior), from a curve
 
 
 def preferred(methods, numerators=("memory",)) -> dict | None:

@@ -101,3 +101,33 @@ def test_end_to_end_catalog_from_evidence_runs(tmp_path):
     assert result["amplitude"]["events"] == 3
     assert all(e["method"] == "importance reweighting" for e in result["events"])
     assert (tmp_path / "catalog" / "events.csv").exists() and (tmp_path / "catalog" / "report.html").exists()
+
+
+def test_uninformative_catalog_gives_density_ratio_one_and_the_prior_interval():
+    # SPEC section 6: flat <L(A)/L(0)> leaves the prior unchanged; the prior [-5, 5] is limited to the grid [-4, 4]
+    grid = np.linspace(-4, 4, 161)
+    flat = {"amplitudes": grid.tolist(), "ln_mean_ratio": [0.0] * grid.size, "ln_mean_ratio_err": [0.0] * grid.size,
+            "effective_sample_size": [800.0] * grid.size, "base_amplitude": 0.0, "number_of_samples": 800}
+    settings = dict(SETTINGS, amplitude_grid=grid.tolist())
+    amplitude = combine([record(f"e{i}", 0.0, 0.0, curve=flat, settings=settings) for i in range(4)]).to_json()["amplitude"]
+    assert amplitude["density_ratio_at_zero"] == pytest.approx(1.0, abs=1e-3)
+    assert (amplitude["lower_90"], amplitude["upper_90"]) == (pytest.approx(-3.6, abs=1e-3), pytest.approx(3.6, abs=1e-3))
+    assert "limited to the grid's span [-4, 4]" in amplitude["prior_note"] and amplitude["prior"] == "uniform on [-4, 4]"
+    assert "scales with the prior's width" in amplitude["density_ratio_note"]
+    assert amplitude["effective_samples"]["flagged"] == []
+
+
+def test_shared_unknown_sign_and_low_effective_samples_are_reported():
+    plus, minus = np.array([1.0, 0.5, -0.2]), np.array([-2.0, 0.7, 0.1])
+    result = combine([record(f"e{i}", p, m, 0.1, 0.2) for i, (p, m) in enumerate(zip(plus, minus))]).to_json()
+    shared = result["shared_unknown_sign"]
+    expected = np.log((np.exp(plus.sum()) + np.exp(minus.sum())) / 2)  # one sign for all events, unknown
+    assert shared["ln_bf"] == pytest.approx(expected, abs=1e-12)
+    w = np.exp(plus.sum()) / (np.exp(plus.sum()) + np.exp(minus.sum()))
+    assert shared["weight_plus"] == pytest.approx(w, abs=1e-12)
+    assert shared["ln_bf_err"] == pytest.approx(np.hypot(w * 0.1 * np.sqrt(3), (1 - w) * 0.2 * np.sqrt(3)), abs=1e-12)
+    thin = gaussian_curve(1.0, 0.5)
+    thin["effective_sample_size"] = np.where(GRID > 2.0, 3.0, 500.0).tolist()
+    flagged = combine([record("thin", 0.1, -0.1, curve=thin)]).to_json()["amplitude"]["effective_samples"]["flagged"]
+    assert flagged[0]["label"] == "thin" and flagged[0]["below_threshold_from"] > 2.0 and flagged[0]["fewest"] == 3.0
+

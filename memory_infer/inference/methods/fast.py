@@ -10,7 +10,7 @@ import numpy as np
 from scipy.special import logsumexp
 
 from ...common.errors import MemoryInferError
-from ...results.estimates import EvidenceEstimate, SignSummary
+from ...results.estimates import EvidenceEstimate, SignSummary, sign_weight
 from ..likelihood import fixed_point_log_ratio
 from .base import EvidenceMethod, RunState
 
@@ -74,5 +74,5 @@ class FastApproximation(EvidenceMethod):
         state.propose_sign(2, SignSummary(
             ln_bf_plus=plus.ln_bf, ln_bf_plus_err=None, ln_bf_minus=minus.ln_bf, ln_bf_minus_err=None,
             ln_bf_sign=plus.ln_bf - minus.ln_bf, ln_bf_sign_err=None,
-            weight_plus=float(1 / (1 + np.exp(minus.ln_bf - plus.ln_bf))), method=plus.method,
+            weight_plus=sign_weight(plus.ln_bf, minus.ln_bf), method=plus.method,
             note="from the fast two-point approximation only"))

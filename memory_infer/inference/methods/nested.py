@@ -8,7 +8,7 @@ import os
 import numpy as np
 
 from ...common.errors import MemoryInferError
-from ...results.estimates import EvidenceEstimate, SignSummary
+from ...results.estimates import EvidenceEstimate, SignSummary, sign_weight
 from ..hypotheses import HYPOTHESES
 from .base import EvidenceMethod, RunState
 
@@ -44,14 +44,16 @@ def nested_bayes_factor(numerator_result, denominator_result, numerator="memory"
                             family="nested")
 
 
-def sign_from_nested(plus: EvidenceEstimate, minus: EvidenceEstimate) -> SignSummary:
-    """Sign bookkeeping from two nested-sampling Bayes factors (A = +1 and A = -1 against 0)."""
-    weight = float(1 / (1 + np.exp(minus.ln_bf - plus.ln_bf)))
+def sign_from_nested(plus: EvidenceEstimate, minus: EvidenceEstimate, sign_error: float | None) -> SignSummary:
+    """Sign bookkeeping from two nested-sampling Bayes factors (A = +1 and A = -1 against 0).
+
+    The sign ln BF is ln Z(+1) - ln Z(-1): the shared A = 0 run cancels, so its error is that of the two
+    runs, ``sign_error = hypot(s(+1), s(-1))`` (not the quadrature of the two Bayes factors' errors)."""
     return SignSummary(ln_bf_plus=plus.ln_bf, ln_bf_plus_err=plus.ln_bf_err, ln_bf_minus=minus.ln_bf,
                        ln_bf_minus_err=minus.ln_bf_err, ln_bf_sign=plus.ln_bf - minus.ln_bf,
-                       ln_bf_sign_err=None, weight_plus=weight, method=plus.method,
-                       note="weight_plus = BF+ / (BF+ + BF-); the sign error is not given because both "
-                            "share the A = 0 run")
+                       ln_bf_sign_err=sign_error, weight_plus=sign_weight(plus.ln_bf, minus.ln_bf), method=plus.method,
+                       note="weight_plus = BF+ / (BF+ + BF-); sign error from the A = +1 and A = -1 runs' own "
+                            "errors (the A = 0 run cancels)")
 
 
 class NestedSampling(EvidenceMethod):
@@ -87,4 +89,5 @@ class NestedSampling(EvidenceMethod):
                                            "method": "nested sampling with A free, equal-weight posterior samples",
                                            "samples": values.tolist()}
         if len(found) == 2:
-            state.propose_sign(1, sign_from_nested(found["memory"], found["flipped"]))
+            error = float(np.hypot(results["memory"].log_evidence_err, results["flipped"].log_evidence_err))
+            state.propose_sign(1, sign_from_nested(found["memory"], found["flipped"], error))

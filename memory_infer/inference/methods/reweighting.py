@@ -11,7 +11,7 @@ import logging
 import numpy as np
 
 from ...common.errors import MemoryInferError, WaveformError
-from ...results.estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, grid_index
+from ...results.estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, grid_index, prior_on_grid, sign_weight
 from ..hypotheses import HYPOTHESES, hypothesis_name
 from .base import EvidenceMethod, RunState, fixed_values
 
@@ -129,23 +129,25 @@ def reweight(likelihood, samples, base_amplitude: float = 0.0, grid=None, minimu
 
 
 def sign_from_curve(curve: AmplitudeCurve, free_limits=(-5.0, 5.0)) -> SignSummary:
-    """ln BF+, ln BF-, the sign Bayes factor and the free-A posterior weight of A > 0."""
+    """ln BF+, ln BF-, the sign Bayes factor, ``weight_plus`` = BF+ / (BF+ + BF-), and the posterior mass of
+    A > 0 for a uniform prior on ``free_limits`` (limited to the grid's span, and said so)."""
     plus, plus_err, _ = curve.at(1.0)
     minus, minus_err, _ = curve.at(-1.0)
     amplitudes = np.asarray(curve.amplitudes)
-    inside = (amplitudes >= free_limits[0]) & (amplitudes <= free_limits[1])
+    low, high, cut = prior_on_grid(amplitudes, free_limits)
+    inside = (amplitudes >= low) & (amplitudes <= high)
     grid = amplitudes[inside]
     ln_values = np.asarray(curve.ln_mean_ratio)[inside]
     density = np.exp(ln_values - np.max(ln_values))
     total = np.trapezoid(density, grid)
     above = grid >= 0
     positive = np.trapezoid(density[above], grid[above]) if np.count_nonzero(above) > 1 else 0.0
-    weight_plus = float(positive / total) if total > 0 else 0.5
+    note = (f"weight_plus = BF+ / (BF+ + BF-); mass_above_zero: posterior mass of A > 0 for a uniform prior on "
+            f"[{low:g}, {high:g}] from the amplitude curve" + (f" ({cut})" if cut else ""))
     return SignSummary(ln_bf_plus=plus, ln_bf_plus_err=plus_err, ln_bf_minus=minus, ln_bf_minus_err=minus_err,
                        ln_bf_sign=plus - minus, ln_bf_sign_err=float(np.hypot(plus_err, minus_err)),
-                       weight_plus=weight_plus, method=curve.method,
-                       note=f"weight_plus: posterior mass of A > 0 for a uniform prior on "
-                            f"[{free_limits[0]:g}, {free_limits[1]:g}] from the amplitude curve")
+                       weight_plus=sign_weight(plus, minus), method=curve.method, note=note,
+                       mass_above_zero=float(positive / total) if total > 0 else 0.5)
 
 
 class Reweighting(EvidenceMethod):

@@ -31,3 +31,16 @@ def test_nested_wrapper_recovers_analytic_gaussian_evidence(tmp_path):
                         seed=11, progress=False)
     assert abs(result.log_evidence - np.log(1 / 36)) < 3 * result.log_evidence_err
     assert 0.02 < result.log_evidence_err < 0.5
+
+
+def test_sign_error_comes_from_the_two_signed_runs():
+    # the sign ln BF is ln Z(+1) - ln Z(-1): the shared A = 0 run cancels (common practice, no source)
+    from memory_infer.inference.methods.nested import sign_from_nested
+    from memory_infer.results.estimates import EvidenceEstimate
+
+    plus = EvidenceEstimate(method="nested sampling", ln_bf=1.5, ln_bf_err=np.hypot(0.1, 0.3))
+    minus = EvidenceEstimate(method="nested sampling", ln_bf=-0.5, ln_bf_err=np.hypot(0.2, 0.3), numerator="flipped")
+    sign = sign_from_nested(plus, minus, float(np.hypot(0.1, 0.2)))
+    assert sign.ln_bf_sign == pytest.approx(2.0) and sign.ln_bf_sign_err == pytest.approx(np.hypot(0.1, 0.2))
+    assert sign.weight_plus == pytest.approx(1 / (1 + np.exp(-2.0)))
+

@@ -50,7 +50,10 @@ def test_sign_from_curve_weights():
     sign = sign_from_curve(curve, (-4, 4))
     assert sign.ln_bf_plus == pytest.approx(2.0, abs=1e-9)
     assert sign.ln_bf_minus == pytest.approx(2.0 - 8.0, abs=1e-9)
-    assert sign.weight_plus == pytest.approx(0.97725, abs=2e-3)
+    assert sign.mass_above_zero == pytest.approx(0.97725, abs=2e-3)
+    assert sign.weight_plus == pytest.approx(1 / (1 + np.exp(-8.0)), abs=1e-12)  # BF+ / (BF+ + BF-)
+    wide = sign_from_curve(curve, (-5, 5))  # the prior is limited to the grid, and the note says so
+    assert wide.mass_above_zero == sign.mass_above_zero and "limited to the grid's span [-4, 4]" in wide.note
 
 
 @pytest.mark.slow
