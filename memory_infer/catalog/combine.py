@@ -151,14 +151,14 @@ def combinations(entries) -> dict:
     shared_error = None if plus_error is None or minus_error is None else \
         float(np.hypot(shared_weight * plus_error, (1 - shared_weight) * minus_error))
     return {
-        "consistent_sign": {"ln_bf": float(plus.sum()), "ln_bf_err": _quadrature([e.ln_bf_plus_err for e in used]),
+        "consistent_sign": {"ln_bf": total_plus, "ln_bf_err": plus_error,
                             "formula": "sum of ln BF+ (A = +1 vs 0)", "note": note},
         "shared_unknown_sign": {"ln_bf": float(np.logaddexp(total_plus, total_minus) - np.log(2)),
                                 "ln_bf_err": shared_error, "formula": "ln((prod BF+ + prod BF-)/2)",
                                 "weight_plus": shared_weight,
                                 "note": note + "; one sign for every event, unknown, prior odds 1:1; weight_plus = "
                                                "prod BF+ / (prod BF+ + prod BF-)"},
-        "wrong_sign": {"ln_bf": float(minus.sum()), "ln_bf_err": _quadrature([e.ln_bf_minus_err for e in used]),
+        "wrong_sign": {"ln_bf": total_minus, "ln_bf_err": minus_error,
                        "formula": "sum of ln BF- (A = -1 vs 0)", "note": note},
         "sign_agnostic": {"ln_bf": float(agnostic.sum()), "ln_bf_err": _quadrature(agnostic_errors),
                           "formula": "sum of ln((BF+ + BF-)/2)", "note": note},

@@ -17,7 +17,7 @@ def add_arguments(parser):
 def memory_snr(source: dict, network: str, duration: float, minimum_frequency: float) -> float:
     """Optimal network SNR of the memory alone, zero noise (noise-weighted inner product)."""
     from ..campaign.injection import cached_detectors, cached_generator
-    from ..inference.likelihood import MemoryTransient
+    from ..inference.likelihood import MemoryTransient, memory_snr as snr_of
 
     generator = cached_generator(duration, 2048.0, "IMRPhenomTHM", minimum_frequency)
     detectors = cached_detectors(network, minimum_frequency, duration, 2048.0)
@@ -27,7 +27,7 @@ def memory_snr(source: dict, network: str, duration: float, minimum_frequency: f
     products = MemoryTransient(detectors, generator).inner_products(source)
     if products is None:
         return float("nan")
-    return float(np.sqrt(max(products.mem_mem, 0.0)))
+    return snr_of(products)
 
 
 def run(args) -> int:

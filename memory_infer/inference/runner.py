@@ -5,12 +5,12 @@ from __future__ import annotations
 import logging
 import os
 
-import numpy as np
 
 from ..common.errors import MemoryInferError
 from ..results.event import EventResult
 from ..waveform.source import EARLY_INSPIRAL_EFFECT
 from .figures import memory_spectrum, whitened_series
+from .likelihood import memory_snr
 from .methods import REGISTRY, RunState
 from .setup import EventSetup
 
@@ -47,7 +47,7 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventRes
             products = plain.inner_products(point)
             if products is None:
                 raise MemoryInferError("the waveform failed at the chosen parameter point")
-            state.memory_snr = float(np.sqrt(max(products.mem_mem, 0.0)))
+            state.memory_snr = memory_snr(products)
         result.memory_snr = {"value": state.memory_snr, "error": None, "point": where,
                              "method": "optimal network SNR of the memory alone, sqrt(<h_mem, h_mem>), "
                                        "deterministic at that point"}

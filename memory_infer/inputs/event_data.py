@@ -170,7 +170,6 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
 
     from .readers import read_psd, read_strain, welch_psd
 
-    base = directory
     names = list(files)
     detectors = _empty_detectors(names)
     rate, duration, start = float(sampling_rate), float(duration), float(start_time)
@@ -178,7 +177,7 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
         entry = files[detector.name]
         if not isinstance(entry, dict) or "strain" not in entry:
             raise MemoryInferError(f"[data.files.{detector.name}] needs a 'strain' file")
-        path = os.path.join(base, entry["strain"])
+        path = os.path.join(directory, entry["strain"])
         strain, file_rate, file_start = read_strain(path, entry.get("channel"))
         if abs(file_rate - rate) > 1e-6 * rate:
             raise MemoryInferError(f"strain file '{entry['strain']}' is sampled at {file_rate:g} Hz, but the "
@@ -193,9 +192,9 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
         detector.strain_data.set_from_time_domain_strain(strain, sampling_frequency=rate, duration=duration,
                                                          start_time=start)
         if "psd" in entry:
-            frequencies, psd = read_psd(os.path.join(base, entry["psd"]))
+            frequencies, psd = read_psd(os.path.join(directory, entry["psd"]))
         elif "psd_from_strain" in entry:
-            frequencies, psd, note = welch_psd(os.path.join(base, entry["psd_from_strain"]), rate,
+            frequencies, psd, note = welch_psd(os.path.join(directory, entry["psd_from_strain"]), rate,
                                                float(entry.get("welch_segment", 4.0)),
                                                float(entry.get("welch_overlap", 0.5)), entry.get("channel"))
             logger.info("%s: %s", detector.name, note)

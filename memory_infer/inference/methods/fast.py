@@ -11,7 +11,7 @@ from scipy.special import logsumexp
 
 from ...common.errors import MemoryInferError
 from ...results.estimates import EvidenceEstimate, SignSummary, sign_weight
-from ..likelihood import fixed_point_log_ratio
+from ..likelihood import fixed_point_log_ratio, memory_snr
 from .base import EvidenceMethod, RunState
 
 NOTE = "deterministic approximation at one point: no Monte-Carlo error; its bias is measured by campaigns"
@@ -49,7 +49,7 @@ def fast_estimates(likelihood, point: dict):
         EvidenceEstimate(method=two_name, ln_bf=two_minus, ln_bf_err=None, numerator="flipped", note=NOTE,
                          family="two-point"),
     ]
-    return estimates, float(np.sqrt(max(products.mem_mem, 0.0)))
+    return estimates, memory_snr(products)
 
 
 class FastApproximation(EvidenceMethod):
