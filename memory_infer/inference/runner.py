@@ -5,7 +5,6 @@ from __future__ import annotations
 import logging
 import os
 
-
 from ..common.errors import MemoryInferError
 from ..results.event import EventResult
 from ..waveform.source import EARLY_INSPIRAL_EFFECT
