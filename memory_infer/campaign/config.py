@@ -20,7 +20,8 @@ CAMPAIGN_SCHEMA = {
     "data": {"duration": (NUMBER, 4.0), "sampling_rate": (NUMBER, 2048.0), "minimum_frequency": (NUMBER, 20.0),
              "geocent_time": (NUMBER, 1_000_000_002.0)},
     "model": {"approximant": (str, "IMRPhenomTHM")},
-    "recovery": {"free_parameters": (list, ["phase", "psi"]), "live_points": (int, 50), "accepted_walks": (int, 10),
+    "recovery": {"free_parameters": (list, ["phase", "psi", "luminosity_distance", "theta_jn", "geocent_time"]),
+                 "live_points": (int, 50), "accepted_walks": (int, 10),
                  "minimum_effective_samples": (NUMBER, 30.0)},
     "cluster": {"kind": (str, "local"), "scheduler_address": (str, None), "jobs": (int, 2), "cores": (int, 1),
                 "memory": (str, "2GB"), "walltime": (str, "02:00:00"), "queue": (str, None),
@@ -59,12 +60,20 @@ def plan(config: dict) -> list:
     """The full, seeded list of tasks (identical on every resume)."""
     import numpy as np
 
-    from ..inputs.population import draw, load_population, read_table
+    from ..inputs.population import draw, load_population, read_table, redshift_reach
+    from ..waveform.models import takes_precessing_spins
 
     campaign, data = config["campaign"], config["data"]
     path = os.path.join(config["_directory"], campaign["injections"])
+    redshift_max = None
     if path.endswith(".toml"):
-        sources = draw(load_population(path), campaign["count"], campaign["seed"], data["geocent_time"])
+        population = load_population(path)
+        approximant = config["model"]["approximant"]
+        if population["spin_orientation"] == "isotropic" and not takes_precessing_spins(approximant):
+            raise MemoryInferError(f"the population's isotropic (precessing) spins need a precessing waveform model "
+                                   f"such as IMRPhenomTPHM; '{approximant}' takes aligned spins only")
+        redshift_max = redshift_reach(population, campaign["network"])
+        sources = draw(population, campaign["count"], campaign["seed"], data["geocent_time"], redshift_max)
     elif path.endswith(".csv"):
         sources = read_table(path, data["geocent_time"])[: campaign["count"]]
     else:
@@ -77,7 +86,8 @@ def plan(config: dict) -> list:
                 "duration": float(data["duration"]), "sampling_rate": float(data["sampling_rate"]),
                 "minimum_frequency": float(data["minimum_frequency"]), "approximant": config["model"]["approximant"],
                 "method": campaign["method"], "detection_snr": float(campaign["detection_snr"]),
-                "free_amplitude_limits": [float(x) for x in limits], "recovery": dict(config["recovery"])}
+                "free_amplitude_limits": [float(x) for x in limits], "recovery": dict(config["recovery"]),
+                "redshift_max": redshift_max}
     return [{"index": i, "source": source, "amplitude": float(amplitudes[i]), "settings": settings}
             for i, source in enumerate(sources)]
 

@@ -1,14 +1,16 @@
-"""What a campaign's records say: ln BF distribution, events to a threshold, PP test, calibration."""
+"""What a campaign's records say: ln BF distribution, forecast (expected ln BF over noise, catalog growth,
+events to a threshold), PP test, fast-against-full calibration."""
 from __future__ import annotations
 
 import numpy as np
 
+from ..inputs.population import truncation_warning
 from ..results.campaign import CampaignSummary
 from ..results.estimates import PREFERENCE
 
 COLUMN = {"nested": "nested", "reweighting": "reweighting", "two-point": "fast"}  # record column per family
 FULL_KEYS = ("ln_bf_plus_nested", "ln_bf_plus_reweighting")
-QUANTILE_KEYS = ("amplitude_quantile_nested", "amplitude_quantile_reweighting", "amplitude_quantile_fast")
+QUANTILE_KEYS = ("amplitude_quantile_nested", "amplitude_quantile_reweighting")
 
 
 def headline_key(records) -> str:
@@ -29,69 +31,125 @@ def distribution(values) -> dict:
             "upper_90": float(np.quantile(values, 0.95)), "count": int(values.size)}
 
 
-def events_to_threshold(values, threshold: float, bootstrap: int, seed: int, max_events: int = 200_000) -> dict:
-    """Catalog sizes at which the cumulative ln BF first reaches ``threshold``, over bootstrap catalogs
-    drawn with replacement from the detected injections."""
-    values = np.asarray(values, dtype=float)
-    out = {"threshold": float(threshold), "median": None, "lower_90": None, "upper_90": None, "reached_fraction": 0.0,
-           "bootstrap": int(bootstrap),
-           "method": "two-stage bootstrap: resample the detected injections, then draw catalogs from that "
-                     "resample until the cumulative ln BF first crosses the threshold"}
-    if values.size == 0:
-        return out
+NOISE_DRAWS = 256   # noise realizations of each detected injection's estimator in the catalog simulation
+EXACT_STEPS = 2000  # catalog growth steps summed draw by draw; larger steps use the sum's mean and variance
+
+
+def noise_pool(records, seed: int) -> np.ndarray:
+    """Per detected injection, ``NOISE_DRAWS`` realizations of the two-point ln BF+ over Gaussian noise, drawn
+    from the six inner products each record carries (exact in distribution; see ``methods.fast``)."""
+    from ..inference.methods.fast import TERM_NAMES, two_point_draws
+
+    rng = np.random.default_rng([int(seed), 11])
+    return np.array([two_point_draws({n: r[f"term_{n}"] for n in TERM_NAMES}, r["amplitude"], 1.0, NOISE_DRAWS, rng)
+                     for r in records]).reshape(len(records), NOISE_DRAWS)
+
+
+def _horizon(mean: float, variance: float, threshold: float, max_events: int) -> int:
+    """Catalog size by which nearly every simulated catalog has passed the threshold (N mu - 3 sigma sqrt(N) =
+    threshold, times 1.5), capped at ``max_events``."""
+    if mean <= 0:
+        return max_events
+    root = (3 * np.sqrt(max(variance, 0.0)) + np.sqrt(9 * max(variance, 0.0) + 4 * mean * threshold)) / (2 * mean)
+    return int(min(max_events, max(100, np.ceil(1.5 * root ** 2))))
+
+
+def catalog_growth(pool, threshold: float, bootstrap: int, seed: int, max_events: int = 1_000_000):
+    """Cumulative catalog ln BF against catalog size, and the sizes at which it reaches ``threshold``.
+
+    ``pool`` has one row per detected injection and one column per noise realization of its ln BF (one column
+    for values that are themselves single realizations). Each bootstrap catalog first resamples the injections
+    (the population estimate is uncertain too), then adds events drawn from that resample, each with its own
+    noise realization. Steps of up to ``EXACT_STEPS`` events are summed draw by draw; longer steps (large
+    catalogs, where the central limit theorem holds) add a normal number with the resample's mean and variance
+    per event times the step. Returns (bands, events): bands are the 5%, 50% and 95% quantiles of the
+    catalogs' ln BF on a log-spaced grid of sizes out to the horizon; events are the sizes where the median
+    curve reaches the threshold and where the 95% and 5% curves do (the 90% range), linear between grid sizes.
+    """
+    pool = np.asarray(pool, dtype=float)
+    pool = pool.reshape(len(pool), -1)
+    events = {"threshold": float(threshold), "median": None, "lower_90": None, "upper_90": None,
+              "reached_fraction": 0.0, "bootstrap": int(bootstrap), "max_events": int(max_events),
+              "method": "catalogs simulated by resampling the detected injections and drawing each event's ln BF "
+                        "with its own Gaussian-noise scatter; sizes where the 50%, 95% and 5% quantile curves of "
+                        "the catalog ln BF reach the threshold"}
+    bands = {"events": [], "median": [], "lower_90": [], "upper_90": []}
+    if pool.size == 0:
+        return bands, events
     rng = np.random.default_rng(seed)
-    chunk = min(max_events, max(1000, int(4 * threshold / max(values.mean(), 1e-6))))
-    counts = []
-    for _ in range(bootstrap):
-        # two stages: resample the injections (the population estimate is uncertain too), then a catalog
-        population = rng.choice(values, size=values.size)
-        total, offset, found = 0.0, 0, None
-        while offset < max_events:
-            draws = np.cumsum(rng.choice(population, size=chunk)) + total
-            crossing = np.flatnonzero(draws >= threshold)
-            if crossing.size:
-                found = offset + int(crossing[0]) + 1
-                break
-            total, offset = float(draws[-1]), offset + chunk
-        counts.append(np.inf if found is None else found)
-    counts = np.asarray(counts, dtype=float)
-    out["reached_fraction"] = float(np.mean(np.isfinite(counts)))
-    capped = np.where(np.isfinite(counts), counts, max_events + 1)
-    for name, q in (("median", 0.5), ("lower_90", 0.05), ("upper_90", 0.95)):
-        value = float(np.quantile(capped, q, method="inverted_cdf"))
-        out[name] = value if value <= max_events else None  # None: not reached within max_events
-    out["max_events"] = int(max_events)
-    return out
+    count, width = pool.shape
+    event_mean, event_second = pool.mean(axis=1), (pool ** 2).mean(axis=1)
+    horizon = _horizon(float(event_mean.mean()), float(event_second.mean() - event_mean.mean() ** 2), threshold,
+                       max_events)
+    grid = np.unique(np.round(np.geomspace(1, horizon, 240)).astype(int))
+    sums = np.empty((bootstrap, grid.size))
+    for b in range(bootstrap):
+        rows = rng.integers(count, size=count)
+        mean = event_mean[rows].mean()
+        variance = max(event_second[rows].mean() - mean ** 2, 0.0)
+        total, previous = 0.0, 0
+        for j, size in enumerate(grid):
+            step = int(size - previous)
+            if step <= EXACT_STEPS:
+                total += pool[rows[rng.integers(count, size=step)], rng.integers(width, size=step)].sum()
+            else:
+                total += rng.normal(step * mean, np.sqrt(step * variance))
+            sums[b, j], previous = total, size
+    lower, median, upper = np.quantile(sums, [0.05, 0.5, 0.95], axis=0)
+    bands = {"events": grid.tolist(), "median": median.tolist(), "lower_90": lower.tolist(), "upper_90": upper.tolist()}
+    for name, curve in (("median", median), ("lower_90", upper), ("upper_90", lower)):
+        events[name] = _first_crossing(grid, curve, threshold)
+    events["reached_fraction"] = float(np.mean(sums[:, -1] >= threshold))
+    events["horizon"] = int(grid[-1])
+    return bands, events
 
 
-def cumulative_bands(values, bootstrap: int, seed: int, length: int | None = None) -> dict:
-    """Median and 90% band of the cumulative ln BF against catalog size (bootstrap catalogs)."""
+def _first_crossing(grid, curve, threshold):
+    above = np.flatnonzero(curve >= threshold)
+    if not above.size:
+        return None
+    j = int(above[0])
+    if j == 0:
+        return float(grid[0])
+    low, high = curve[j - 1], curve[j]
+    return float(grid[j - 1] + (threshold - low) / (high - low) * (grid[j] - grid[j - 1]))
+
+
+def expected_events(values, threshold: float, bootstrap: int, seed: int) -> dict:
+    """``threshold / mean`` with the 90% range of the mean over resampled injections (None when mean <= 0)."""
     values = np.asarray(values, dtype=float)
     if values.size == 0:
-        return {"events": [], "median": [], "lower_90": [], "upper_90": []}
-    length = length or values.size
-    rng = np.random.default_rng(seed + 1)
-    sums = np.cumsum(rng.choice(values, size=(min(bootstrap, 400), length)), axis=1)
-    lower, median, upper = np.quantile(sums, [0.05, 0.5, 0.95], axis=0)
-    step = max(1, length // 300)
-    index = np.arange(0, length, step)
-    return {"events": (index + 1).tolist(), "median": median[index].tolist(), "lower_90": lower[index].tolist(),
-            "upper_90": upper[index].tolist()}
+        return {"median": None, "lower_90": None, "upper_90": None}
+    rng = np.random.default_rng([int(seed), 13])
+    means = np.array([values[rng.integers(values.size, size=values.size)].mean() for _ in range(bootstrap)])
+    low, high = np.quantile(means, [0.05, 0.95])
+    return {"median": _count(threshold, values.mean()), "lower_90": _count(threshold, high),
+            "upper_90": _count(threshold, low)}
 
 
-def pp_test(records) -> dict:
+def _count(threshold, mean):
+    return float(threshold / mean) if mean > 0 else None
+
+
+def pp_test(records, campaign: dict) -> dict:
+    """KS test of the injected A's posterior quantiles against uniform, only where it can say something: A drawn
+    from its prior, Gaussian noise, and a recovery that can fail (reweighting or nested sampling)."""
     from scipy.stats import kstest
 
+    empty = {"ks_pvalue": None, "count": 0, "quantiles": []}
+    if campaign["injected_amplitude"] != "prior":
+        return dict(empty, method=f"not run: A was fixed at {campaign['injected_amplitude']}, not drawn from its prior")
+    if campaign["noise"] != "gaussian":
+        return dict(empty, method="not run: without noise the posterior quantiles are not uniform")
     for key in QUANTILE_KEYS:
         quantiles = [r[key] for r in records if r.get(key) is not None]
         if len(quantiles) >= 5:
             result = kstest(quantiles, "uniform")
-            method = {"amplitude_quantile_fast": "exact Gaussian A posterior at the true parameters (fixed point)",
-                      "amplitude_quantile_reweighting": "reweighted A curve from the A = 0 posterior",
+            method = {"amplitude_quantile_reweighting": "reweighted A curve from the A = 0 posterior",
                       "amplitude_quantile_nested": "nested sampling with A free"}[key]
             return {"ks_pvalue": float(result.pvalue), "ks_statistic": float(result.statistic),
                     "count": len(quantiles), "method": method, "quantiles": quantiles}
-    return {"ks_pvalue": None, "count": 0, "method": "no free-amplitude quantiles", "quantiles": []}
+    return dict(empty, method="not run: fewer than 5 injections with a reweighting or nested recovery of A")
 
 
 def calibration(records) -> dict:
@@ -111,19 +169,69 @@ def calibration(records) -> dict:
     return {"full_method": None, "count": 0}
 
 
+def forecast(detected, campaign: dict):
+    """Forecast numbers from the expected ln BF over noise (see :func:`catalog_growth`); (forecast, bands, events)."""
+    usable = [r for r in detected if r.get("ln_bf_plus_expected") is not None]
+    threshold, bootstrap, seed = campaign["threshold"], campaign["bootstrap"], campaign["seed"]
+    bands, events = catalog_growth(noise_pool(usable, seed), threshold, bootstrap, seed)
+    column = lambda name: [r[name] for r in usable]
+    out = {
+        "expected": dict(distribution(column("ln_bf_plus_expected")),
+                         note="expected ln BF+ per detected event over Gaussian noise: the two-point estimator at "
+                              "the true parameters, averaged by Gauss-Hermite quadrature (exact up to "
+                              "quadrature_error)"),
+        "spread": dict(distribution(column("ln_bf_plus_expected_spread")),
+                       note="standard deviation of one event's ln BF+ over noise"),
+        "quadrature_error": max(column("ln_bf_plus_expected_err"), default=None),
+        "known_sign": dict(distribution(column("ln_bf_plus_known_sign")),
+                           note="known-sign bound per event: A_t rho^2 - rho^2/2 = rho^2/2 for A_t = 1 (parameters "
+                                "and sign known; L. S. Finn, PRD 46, 5236 (1992))"),
+        "zero_noise": dict(distribution(column("ln_bf_plus_zero_noise")),
+                           note="diagnostic only: the estimator on noiseless data, not an expectation (negative "
+                                "for sign-degenerate events with rho < 1.4)"),
+        "expected_minus": dict(distribution(column("ln_bf_minus_expected")),
+                               note="expected ln BF- (flipped sign against no memory) per detected event"),
+        "events_from_mean": dict(expected_events(column("ln_bf_plus_expected"), threshold, bootstrap, seed),
+                                 method="threshold / mean expected ln BF+ (no noise scatter), 90% range over "
+                                        "resampled injections"),
+        "events_known_sign": dict(expected_events(column("ln_bf_plus_known_sign"), threshold, bootstrap, seed),
+                                  method="threshold / mean known-sign bound"),
+    }
+    return out, bands, events
+
+
+def population_reach(config) -> float | None:
+    """The redshift range the campaign's population was drawn to (None for an injection table)."""
+    import os
+
+    from ..inputs.population import load_population, redshift_reach
+
+    campaign = config["campaign"]
+    if not campaign["injections"].endswith(".toml"):
+        return None
+    return redshift_reach(load_population(os.path.join(config["_directory"], campaign["injections"])),
+                          campaign["network"])
+
+
 def summarize(records, config) -> CampaignSummary:
     campaign = config["campaign"]
     ok = [r for r in records if r.get("status") == "ok"]
     detected = [r for r in ok if r.get("detected")]
     key = headline_key(detected)
     values = [r[key] for r in detected if r.get(key) is not None]
+    outlook, bands, events = forecast(detected, campaign)
+    warnings = []
+    reach = population_reach(config)
+    if reach:
+        warning = truncation_warning([r["redshift"] for r in detected], reach)
+        warnings += [warning] if warning else []
     return CampaignSummary(
         label=campaign["label"], n_injections=len(records), n_failed=len(records) - len(ok),
         n_detected=len(detected), detection_snr=campaign["detection_snr"],
-        ln_bf=dict(distribution(values), method=key, note="ln BF+ (A = +1 vs 0) over detected injections"),
+        ln_bf=dict(distribution(values), method=key,
+                   note="ln BF+ (A = +1 vs 0) over detected injections, each on its own simulated data"),
         memory_snr=distribution([r["memory_snr"] for r in detected]),
-        events_to_threshold=events_to_threshold(values, campaign["threshold"], campaign["bootstrap"], campaign["seed"]),
-        cumulative=cumulative_bands(values, campaign["bootstrap"], campaign["seed"]),
-        pp=pp_test(ok), calibration=calibration(detected),
+        events_to_threshold=events, cumulative=bands, forecast=outlook,
+        pp=pp_test(ok, campaign), calibration=calibration(detected),
         failures=[{"index": r["index"], "error": r["error"]} for r in records if r.get("status") != "ok"][:50],
-        ln_bf_values=[float(v) for v in values])
+        ln_bf_values=[float(v) for v in values], warnings=warnings)

@@ -10,6 +10,7 @@ from ..campaign.summary import summarize
 from ..common.errors import MemoryInferError
 from ..common.writing import atomic_path, provenance, write_text
 from ..reports.campaign import campaign_page, count_text
+from ..reports.html import number
 from ..results.campaign import CampaignSummary
 
 
@@ -58,9 +59,14 @@ def run(args) -> int:
     summary.save(os.path.join(args.outdir, CampaignSummary.FILE))
     write_text(os.path.join(args.outdir, "report.html"), campaign_page(summary))
     threshold = summary.events_to_threshold
+    expected = (summary.forecast.get("expected") or {}).get("mean")
+    known = (summary.forecast.get("known_sign") or {}).get("mean")
     print(f"{summary.n_injections} injections, {summary.n_failed} failed, {summary.n_detected} detected; "
-          f"mean ln BF+ per detected event {summary.ln_bf['mean']}")
-    print(f"events to ln BF = {threshold['threshold']:g}: median {count_text(threshold['median'])} "
+          f"expected ln BF+ per detected event over noise {number(expected, None, 5)} "
+          f"(known-sign bound {number(known, None, 5)})")
+    print(f"events to ln BF = {threshold['threshold']:g} with noise scatter: median {count_text(threshold['median'])} "
           f"(90%: {count_text(threshold['lower_90'])} to {count_text(threshold['upper_90'])})")
+    for warning in summary.warnings:
+        print(f"warning: {warning}")
     print(f"wrote {args.outdir}/campaign.json, injections.csv and report.html")
     return 0

@@ -118,8 +118,8 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
         memory = {k: with_memory[k] - oscillatory[k] for k in oscillatory}
         return oscillatory, memory
 
-    def inner_products(self, parameters) -> InnerProducts | None:
-        """The five products at one point (None when the waveform failed)."""
+    def projected_parts(self, parameters):
+        """Per detector, the (oscillatory, memory) responses at one point (None when the waveform failed)."""
         parameters = dict(parameters)
         oscillatory, memory = self._polarization_parts(parameters)
         if oscillatory is None:
@@ -127,28 +127,40 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
         if self.time_marginalization and self.jitter_time:
             parameters["geocent_time"] += parameters["time_jitter"]
         parameters.update(self.get_sky_frame_parameters(parameters))
+        return [(detector.get_detector_response(oscillatory, parameters),
+                 detector.get_detector_response(memory, parameters)) for detector in self.interferometers]
+
+    def network_product(self, first, second) -> float:
+        """Real noise-weighted inner product summed over detectors of two per-detector response lists."""
+        duration = self.waveform_generator.duration
+        total = 0.0
+        for detector, a, b in zip(self.interferometers, first, second):
+            mask = detector.frequency_mask
+            total += float(np.real(bilby.gw.utils.noise_weighted_inner_product(
+                a[mask], b[mask], detector.power_spectral_density_array[mask], duration)))
+        return total
+
+    def inner_products(self, parameters) -> InnerProducts | None:
+        """The five products at one point (None when the waveform failed)."""
+        parts = self.projected_parts(parameters)
+        if parts is None:
+            return None
         total = InnerProducts(0j, 0j, 0.0, 0.0, 0.0)
         duration = self.waveform_generator.duration
-        for detector in self.interferometers:
-            s_osc = detector.get_detector_response(oscillatory, parameters)
-            s_mem = detector.get_detector_response(memory, parameters)
-            mask = detector.frequency_mask
-            psd = detector.power_spectral_density_array
-            strain = detector.frequency_domain_strain
+        for detector, (s_osc, s_mem) in zip(self.interferometers, parts):
             total.d_osc += detector.inner_product(s_osc)
             total.d_mem += detector.inner_product(s_mem)
-            total.osc_osc += float(np.real(bilby.gw.utils.noise_weighted_inner_product(
-                s_osc[mask], s_osc[mask], psd[mask], duration)))
-            total.osc_mem += float(np.real(bilby.gw.utils.noise_weighted_inner_product(
-                s_osc[mask], s_mem[mask], psd[mask], duration)))
-            total.mem_mem += float(np.real(bilby.gw.utils.noise_weighted_inner_product(
-                s_mem[mask], s_mem[mask], psd[mask], duration)))
             if self.time_marginalization:
+                psd, strain = detector.power_spectral_density_array, detector.frequency_domain_strain
                 weight = 4 / duration * strain.conjugate()[:-1] / psd[:-1]
                 series_osc = np.fft.fft(s_osc[:-1] * weight)
                 series_mem = np.fft.fft(s_mem[:-1] * weight)
                 total.d_osc_series = series_osc if total.d_osc_series is None else total.d_osc_series + series_osc
                 total.d_mem_series = series_mem if total.d_mem_series is None else total.d_mem_series + series_mem
+        oscillatory, memory = [p[0] for p in parts], [p[1] for p in parts]
+        total.osc_osc = self.network_product(oscillatory, oscillatory)
+        total.osc_mem = self.network_product(oscillatory, memory)
+        total.mem_mem = self.network_product(memory, memory)
         return total
 
     def log_likelihood_ratio_curve(self, parameters, amplitudes) -> np.ndarray:

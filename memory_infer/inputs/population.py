@@ -1,10 +1,14 @@
 """Source populations for campaigns: draws from a population description, or an explicit table.
 
 Population (TOML ``[population]``): primary mass ``p(m1) ∝ m1^-alpha`` on [minimum_mass, maximum_mass]
-(source frame), mass ratio uniform on [mass_ratio_minimum, 1], aligned spins with magnitudes uniform on
-[0, spin_max] and either orientation, redshift uniform in comoving volume (``dVc/dz``, times ``1/(1+z)``
-for source-frame time when ``source_frame_time``) up to ``redshift_max`` (astropy's Planck18), isotropic
-sky position and orientation. Detector-frame masses are ``(1+z)`` times source-frame masses.
+(source frame); mass ratio uniform on [max(mass_ratio_minimum, minimum_mass / m1), 1], so that the secondary
+never falls below ``minimum_mass`` either; pairs with ``m1 + m2 < minimum_total_mass`` are redrawn. Spin
+magnitudes uniform on [0, spin_max], oriented either along the orbital angular momentum (``spin_orientation =
+"aligned"``, either sign) or isotropically (``"isotropic"``: cosine of each tilt uniform on [-1, 1], phi_12 and
+phi_jl uniform). Redshift uniform in comoving volume (``dVc/dz``, times ``1/(1+z)`` for source-frame time when
+``source_frame_time``) up to ``redshift_max`` (astropy's Planck18); without ``redshift_max`` the network's own
+reach is used (:data:`NETWORK_REDSHIFT`: z = 10 for third-generation networks). Isotropic sky position and
+orientation. Detector-frame masses are ``(1+z)`` times source-frame masses.
 """
 from __future__ import annotations
 
@@ -20,10 +24,15 @@ POPULATION_SCHEMA = {
     "population": {
         "alpha": (NUMBER, 2.35), "minimum_mass": (NUMBER, 5.0), "maximum_mass": (NUMBER, 80.0),
         "mass_ratio_minimum": (NUMBER, 0.1), "spin_max": (NUMBER, 0.8),
-        "redshift_max": (NUMBER, 1.0), "source_frame_time": (bool, True),
-        "minimum_total_mass": (NUMBER, 0.0),
+        "redshift_max": (NUMBER, None), "source_frame_time": (bool, True),
+        "minimum_total_mass": (NUMBER, 0.0), "spin_orientation": (str, "aligned"),
     }
 }
+# the largest redshift a network's detected binary black holes reach, by network (a default for
+# ``redshift_max``; campaigns warn when detected events crowd against it)
+NETWORK_REDSHIFT = {"hl-o4": 1.5, "hl-design": 2.0, "hlv-design": 2.0, "hlv-aplus": 3.0, "et": 10.0, "ce": 10.0,
+                    "ce-et": 10.0}
+SPIN_ORIENTATIONS = ("aligned", "isotropic")
 
 
 def load_population(path: str) -> dict:
@@ -34,9 +43,20 @@ def load_population(path: str) -> dict:
         raise MemoryInferError("the population's mass_ratio_minimum must lie in (0, 1]")
     if not 0 <= config["spin_max"] <= 1:
         raise MemoryInferError("the population's spin_max must lie in [0, 1]")
-    if not 0 < config["redshift_max"] <= 20:
+    if config["redshift_max"] is not None and not 0 < config["redshift_max"] <= 20:
         raise MemoryInferError("the population's redshift_max must lie in (0, 20]")
+    if config["spin_orientation"] not in SPIN_ORIENTATIONS:
+        raise MemoryInferError("the population's spin_orientation must be 'aligned' or 'isotropic'")
+    if config["minimum_total_mass"] >= 2 * config["maximum_mass"]:
+        raise MemoryInferError("the population's minimum_total_mass must lie below twice maximum_mass")
     return config
+
+
+def redshift_reach(population: dict, network: str) -> float:
+    """The population's ``redshift_max``, or the network's default reach when it has none."""
+    if population["redshift_max"] is not None:
+        return float(population["redshift_max"])
+    return NETWORK_REDSHIFT.get(network, 2.0)
 
 
 def _power_law(rng, alpha, low, high, size):
@@ -60,28 +80,68 @@ def _redshift_sampler(redshift_max: float, source_frame_time: bool):
     return grid, cdf, distances
 
 
-def draw(population: dict, count: int, seed: int, geocent_time: float) -> list:
-    """``count`` sources (dicts of bilby parameters, detector frame) from a seeded generator."""
+def _source_masses(rng, population: dict, count: int):
+    """(m1, m2) in the source frame: m2 >= minimum_mass, m1 + m2 >= minimum_total_mass (redrawn until so)."""
+    low, high = population["minimum_mass"], population["maximum_mass"]
+    m1, m2 = np.empty(count), np.empty(count)
+    missing = np.arange(count)
+    for _ in range(1000):
+        primary = _power_law(rng, population["alpha"], low, high, missing.size)
+        smallest_ratio = np.maximum(population["mass_ratio_minimum"], low / primary)
+        secondary = primary * rng.uniform(smallest_ratio, 1.0)
+        good = primary + secondary >= population["minimum_total_mass"]
+        m1[missing[good]], m2[missing[good]] = primary[good], secondary[good]
+        missing = missing[~good]
+        if not missing.size:
+            return m1, m2
+    raise MemoryInferError("the population's minimum_total_mass leaves almost no binaries to draw")
+
+
+def _spins(rng, population: dict, count: int) -> dict:
+    magnitudes = rng.uniform(0, population["spin_max"], (2, count))
+    if population["spin_orientation"] == "isotropic":
+        tilts = np.arccos(rng.uniform(-1, 1, (2, count)))
+        angles = rng.uniform(0, 2 * np.pi, (2, count))
+    else:
+        tilts = np.where(rng.uniform(size=(2, count)) < 0.5, 0.0, np.pi)
+        angles = np.zeros((2, count))
+    return {"a_1": magnitudes[0], "a_2": magnitudes[1], "tilt_1": tilts[0], "tilt_2": tilts[1],
+            "phi_12": angles[0], "phi_jl": angles[1]}
+
+
+def draw(population: dict, count: int, seed: int, geocent_time: float, redshift_max: float | None = None) -> list:
+    """``count`` sources (dicts of bilby parameters, detector frame) from a seeded generator, out to
+    ``redshift_max`` (default: the population's own, else 2)."""
     rng = np.random.default_rng(seed)
-    grid, cdf, distances = _redshift_sampler(population["redshift_max"], population["source_frame_time"])
-    m1 = _power_law(rng, population["alpha"], population["minimum_mass"], population["maximum_mass"], count)
-    q = rng.uniform(population["mass_ratio_minimum"], 1.0, count)
+    reach = redshift_max or population.get("redshift_max") or 2.0
+    grid, cdf, distances = _redshift_sampler(reach, population["source_frame_time"])
+    m1, m2 = _source_masses(rng, population, count)
     redshift = np.interp(rng.uniform(size=count), cdf, grid)
     distance = np.interp(redshift, grid, distances)
-    spins = rng.uniform(0, population["spin_max"], (2, count))
-    tilts = np.where(rng.uniform(size=(2, count)) < 0.5, 0.0, np.pi)
+    spins = _spins(rng, population, count)
     sources = []
     for i in range(count):
         sources.append({
-            "mass_1": float(m1[i] * (1 + redshift[i])), "mass_2": float(m1[i] * q[i] * (1 + redshift[i])),
+            "mass_1": float(m1[i] * (1 + redshift[i])), "mass_2": float(m2[i] * (1 + redshift[i])),
             "luminosity_distance": float(distance[i]), "redshift": float(redshift[i]),
-            "a_1": float(spins[0, i]), "a_2": float(spins[1, i]), "tilt_1": float(tilts[0, i]),
-            "tilt_2": float(tilts[1, i]), "phi_12": 0.0, "phi_jl": 0.0,
+            **{name: float(values[i]) for name, values in spins.items()},
             "theta_jn": float(np.arccos(rng.uniform(-1, 1))), "phase": float(rng.uniform(0, 2 * np.pi)),
             "ra": float(rng.uniform(0, 2 * np.pi)), "dec": float(np.arcsin(rng.uniform(-1, 1))),
             "psi": float(rng.uniform(0, np.pi)), "geocent_time": float(geocent_time),
         })
     return sources
+
+
+def truncation_warning(redshifts, redshift_max: float, share: float = 0.01) -> str | None:
+    """One sentence when more than ``share`` of the detected events lie within 10% of ``redshift_max``."""
+    redshifts = np.asarray(redshifts, dtype=float)
+    if not redshifts.size:
+        return None
+    near = float(np.mean(redshifts >= 0.9 * redshift_max))
+    if near <= share:
+        return None
+    return (f"{near:.1%} of the detected events lie within 10% of the population's redshift_max = {redshift_max:g}: "
+            "the range truncates the detectable population, so raise redshift_max")
 
 
 def read_table(path: str, geocent_time: float) -> list:

@@ -1,5 +1,8 @@
-"""The campaign page: ln BF distribution, cumulative catalog evidence, PP plot, fast against full."""
+"""The campaign page: forecast (expected ln BF over noise, catalog growth, events to a threshold), the ln BF
+distribution, and, only when they have data, the PP test and the fast-against-full comparison."""
 from __future__ import annotations
+
+import html
 
 import numpy as np
 
@@ -9,8 +12,7 @@ from .html import figure_to_html, new_figure, number, page, table
 
 def _distribution_figure(values, key):
     fig, axis = new_figure(figsize=(7, 3.4))
-    if values:
-        axis.hist(values, bins=60, color="C3", alpha=0.7)
+    axis.hist(values, bins=60, color="C3", alpha=0.7)
     axis.set_xlabel(f"ln BF₊ per detected injection ({key})")
     axis.set_ylabel("injections")
     axis.set_yscale("log")
@@ -18,52 +20,54 @@ def _distribution_figure(values, key):
 
 
 def _cumulative_figure(summary):
-    fig, axis = new_figure(figsize=(7, 3.6))
+    fig, axis = new_figure(figsize=(7, 3.8))
     bands = summary["cumulative"]
-    if bands["events"]:
-        axis.fill_between(bands["events"], bands["lower_90"], bands["upper_90"], color="C3", alpha=0.25,
-                          label="90% of bootstrap catalogs")
-        axis.plot(bands["events"], bands["median"], color="C3", label="median")
     threshold = summary["events_to_threshold"]
+    axis.fill_between(bands["events"], bands["lower_90"], bands["upper_90"], color="C3", alpha=0.25,
+                      label="90% of simulated catalogs (population and noise)")
+    axis.plot(bands["events"], bands["median"], color="C3", label="median")
+    known = summary.get("forecast", {}).get("known_sign", {}).get("mean")
+    if known:
+        events = np.asarray(bands["events"], dtype=float)
+        axis.plot(events, known * events, color="0.4", ls=":", label="known-sign bound (mean ρ²/2 per event)")
     axis.axhline(threshold["threshold"], color="k", ls="--", lw=0.8, label=f"ln BF = {threshold['threshold']:g}")
+    for name, style in (("median", "-"), ("lower_90", ":"), ("upper_90", ":")):
+        if threshold.get(name):
+            axis.axvline(threshold[name], color="C0", ls=style, lw=0.8)
+    axis.set_xscale("log")
     axis.set_xlabel("number of detected events in the catalog")
-    axis.set_ylabel("cumulative ln BF₊")
-    axis.legend(fontsize=7)
-    return figure_to_html(fig, "cumulative catalog ln BF")
+    axis.set_ylabel("catalog ln BF₊")
+    axis.set_ylim(min(-2.0, float(np.min(bands["lower_90"]))), 2.5 * threshold["threshold"])
+    axis.legend(fontsize=7, loc="upper left")
+    return figure_to_html(fig, "catalog ln BF against catalog size")
 
 
-def _pp_figure(summary):
+def _pp_figure(pp):
+    from scipy.stats import beta
+
     fig, axis = new_figure(figsize=(4.5, 4.5))
-    quantiles = np.sort(summary["pp"]["quantiles"])
+    quantiles = np.sort(pp["quantiles"])
     n = quantiles.size
-    if n:
-        from scipy.stats import beta
-
-        grid = np.linspace(0, 1, 101)
-        ranks = np.arange(1, n + 1)
-        axis.fill_between(ranks / n, beta.ppf(0.05, ranks, n + 1 - ranks), beta.ppf(0.95, ranks, n + 1 - ranks),
-                          color="0.85", label="90% band for uniform")
-        axis.plot(quantiles, ranks / n, color="C0", label=f"A (KS p = {summary['pp']['ks_pvalue']:.2f})")
-        axis.plot(grid, grid, color="k", lw=0.6)
-        axis.legend(fontsize=7)
-    else:
-        axis.text(0.5, 0.5, "no free-amplitude quantiles", transform=axis.transAxes, ha="center")
+    grid = np.linspace(0, 1, 101)
+    ranks = np.arange(1, n + 1)
+    axis.fill_between(ranks / n, beta.ppf(0.05, ranks, n + 1 - ranks), beta.ppf(0.95, ranks, n + 1 - ranks),
+                      color="0.85", label="90% band for uniform")
+    axis.plot(quantiles, ranks / n, color="C0", label=f"A (KS p = {pp['ks_pvalue']:.2f})")
+    axis.plot(grid, grid, color="k", lw=0.6)
+    axis.legend(fontsize=7)
     axis.set_xlabel("posterior quantile of the injected A")
     axis.set_ylabel("fraction of injections")
     return figure_to_html(fig, "PP plot")
 
 
-def _calibration_figure(summary):
+def _calibration_figure(calibration):
     fig, axis = new_figure(figsize=(4.8, 4.5))
-    pairs = np.asarray(summary["calibration"].get("pairs", []))
-    if pairs.size:
-        axis.plot(pairs[:, 0], pairs[:, 1], "o", ms=4)
-        low, high = pairs.min(), pairs.max()
-        axis.plot([low, high], [low, high], color="k", lw=0.6)
-        axis.set_ylabel(f"full ln BF₊ ({summary['calibration']['full_method']})")
-    else:
-        axis.text(0.5, 0.5, "no injection has a full recovery", transform=axis.transAxes, ha="center")
-    axis.set_xlabel("fast (two-point) ln BF₊")
+    pairs = np.asarray(calibration["pairs"])
+    axis.plot(pairs[:, 0], pairs[:, 1], "o", ms=4)
+    low, high = pairs.min(), pairs.max()
+    axis.plot([low, high], [low, high], color="k", lw=0.6)
+    axis.set_ylabel(f"full ln BF₊ ({calibration['full_method']})")
+    axis.set_xlabel("fast (two-point) ln BF₊, same simulated data")
     return figure_to_html(fig, "fast against full")
 
 
@@ -71,28 +75,54 @@ def count_text(value) -> str:
     return "not reached" if value is None else f"{value:.0f}"
 
 
+def _range_text(found: dict) -> str:
+    return f"{count_text(found.get('median'))} ({count_text(found.get('lower_90'))} to {count_text(found.get('upper_90'))})"
+
+
+def _forecast_rows(summary):
+    forecast = summary.get("forecast") or {}
+    threshold = summary["events_to_threshold"]
+    rows = []
+    if forecast:
+        expected, known, zero = forecast["expected"], forecast["known_sign"], forecast["zero_noise"]
+        rows += [("expected ln BF₊ per detected event (over noise)", number(expected["mean"], expected.get("mean_err"), 5)),
+                 ("known-sign bound per event (mean ρ²/2)", number(known["mean"], known.get("mean_err"), 5)),
+                 ("zero-noise value per event (diagnostic, not an expectation)", number(zero["mean"], zero.get("mean_err"), 5)),
+                 ("spread of one event's ln BF₊ over noise (mean)", number(forecast["spread"]["mean"], None, 4))]
+    rows.append((f"events to ln BF = {threshold['threshold']:g} with noise scatter: median (90%)",
+                 f"{_range_text(threshold)}; catalogs simulated out to {count_text(threshold.get('horizon'))} events"))
+    if forecast:
+        rows += [(f"events to ln BF = {threshold['threshold']:g} from the mean alone", _range_text(forecast["events_from_mean"])),
+                 (f"events to ln BF = {threshold['threshold']:g} at the known-sign bound",
+                  _range_text(forecast["events_known_sign"]))]
+    return rows
+
+
 def campaign_page(result: CampaignSummary) -> str:
     """The campaign report, drawn from a :class:`CampaignSummary` alone."""
     summary = result.to_json()
-    threshold = summary["events_to_threshold"]
-    ln_bf = summary["ln_bf"]
-    calibration = summary["calibration"]
+    ln_bf, pp, calibration = summary["ln_bf"], summary["pp"], summary["calibration"]
     rows = [("injections", summary["n_injections"]), ("failed", summary["n_failed"]),
-            ("detected (network SNR ≥ %g)" % summary["detection_snr"], summary["n_detected"]),
-            ("mean ln BF₊ per detected event", number(ln_bf["mean"], ln_bf.get("mean_err"), 4)),
-            ("median ln BF₊ (90% range)", "—" if ln_bf["median"] is None else
-             f"{ln_bf['median']:.4f} ({ln_bf['lower_90']:.3f} to {ln_bf['upper_90']:.3f})"),
-            (f"events to ln BF = {threshold['threshold']:g}: median (90%)",
-             f"{count_text(threshold['median'])} ({count_text(threshold['lower_90'])} to {count_text(threshold['upper_90'])}); "
-             f"reached in {threshold['reached_fraction']:.0%} of {threshold['bootstrap']} bootstrap catalogs"),
-            ("PP test (KS p-value)", "—" if summary["pp"]["ks_pvalue"] is None else
-             f"{summary['pp']['ks_pvalue']:.3f} over {summary['pp']['count']} ({summary['pp']['method']})"),
-            ("fast vs full", "—" if not calibration["count"] else
-             f"slope {calibration['slope']:.3f}, offset {calibration['intercept']:.3f}, rms difference "
-             f"{calibration['rms_difference']:.3f} over {calibration['count']}")]
-    sections = [("Summary", table(["quantity", "value"], rows) + f"<p>ln BF column: {ln_bf['method']}.</p>"),
-                ("ln BF distribution", _distribution_figure(summary["ln_bf_values"], ln_bf["method"])),
-                ("Cumulative catalog ln BF", _cumulative_figure(summary)),
-                ("PP test of the memory amplitude", _pp_figure(summary)),
-                ("Fast against full recovery", _calibration_figure(summary))]
+            ("detected (network SNR ≥ %g)" % summary["detection_snr"], summary["n_detected"])]
+    rows += _forecast_rows(summary)
+    rows += [("PP test of A (KS p-value)", f"{pp['ks_pvalue']:.3f} over {pp['count']} ({pp['method']})"
+              if pp["ks_pvalue"] is not None else pp["method"]),
+             ("fast against full", "no injection has a full recovery" if not calibration["count"] else
+              f"slope {calibration['slope']:.3f}, offset {calibration['intercept']:.3f}, rms difference "
+              f"{calibration['rms_difference']:.3f} over {calibration['count']}")]
+    notes = "".join(f"<p class='caution'>{html.escape(w)}</p>" for w in summary.get("warnings") or [])
+    method = summary["events_to_threshold"].get("method", "")
+    sections = [("Summary", notes + table(["quantity", "value"], rows)
+                 + f"<p>Events to the threshold: {html.escape(method)}.</p>")]
+    if summary["cumulative"]["events"]:
+        sections.append(("Catalog ln BF against catalog size", _cumulative_figure(summary)))
+    if summary["ln_bf_values"]:
+        sections.append(("ln BF on each injection's simulated data",
+                         f"<p>{html.escape(ln_bf.get('note', 'ln BF+ per detected injection'))}; mean {number(ln_bf['mean'], ln_bf.get('mean_err'), 4)}, "
+                         f"column {html.escape(ln_bf['method'])}.</p>"
+                         + _distribution_figure(summary["ln_bf_values"], ln_bf["method"])))
+    if pp["count"]:
+        sections.append(("PP test of the memory amplitude", _pp_figure(pp)))
+    if calibration["count"]:
+        sections.append(("Fast against full recovery", _calibration_figure(calibration)))
     return page(f"Campaign {summary['label']}", sections, result.caution)

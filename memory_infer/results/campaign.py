@@ -11,7 +11,9 @@ from .cautions import FORECAST
 class CampaignSummary(ResultFile):
     """Distributions, forecasts, PP test and calibration of an injection campaign.
 
-    ``ln_bf_values`` are the per-detected-injection ln BF+ the distribution figure draws.
+    ``ln_bf_values`` are the per-detected-injection ln BF+ the distribution figure draws. ``forecast`` holds the
+    expected ln BF over noise, the known-sign bound and the zero-noise diagnostic; ``events_to_threshold`` and
+    ``cumulative`` come from catalogs simulated with each event's noise scatter.
     """
 
     KIND = "campaign"
@@ -30,5 +32,7 @@ class CampaignSummary(ResultFile):
     calibration: dict
     failures: list = field(default_factory=list)
     ln_bf_values: list = field(default_factory=list)
+    forecast: dict = field(default_factory=dict)
+    warnings: list = field(default_factory=list)
     provenance: dict | None = None
     caution: str = FORECAST

@@ -40,4 +40,11 @@ def generate_modes(approximant: str, mass_1: float, mass_2: float, luminosity_di
     return series
 
 
-__all__ = ["ModeSeries", "generate_modes", "SUPPORTED", "DEFAULT_APPROXIMANT"]
+def takes_precessing_spins(approximant: str) -> bool:
+    """Whether the model accepts in-plane spin components (lalsimulation's spin support)."""
+    if approximant == analytic.NAME:
+        return False
+    return lal_modes.spin_support(approximant) == "precessing"
+
+
+__all__ = ["ModeSeries", "generate_modes", "takes_precessing_spins", "SUPPORTED", "DEFAULT_APPROXIMANT"]

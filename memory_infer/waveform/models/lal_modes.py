@@ -57,6 +57,15 @@ def approximant_number(approximant: str) -> int:
     return number
 
 
+def spin_support(approximant: str) -> str:
+    """"precessing", "aligned", "single", or "spinless": which spins lalsimulation's model takes."""
+    _, lalsim = _lal()
+    support = lalsim.SimInspiralGetSpinSupportFromApproximant(approximant_number(approximant))
+    names = {lalsim.SIM_INSPIRAL_PRECESSINGSPIN: "precessing", lalsim.SIM_INSPIRAL_ALIGNEDSPIN: "aligned",
+             lalsim.SIM_INSPIRAL_SINGLESPIN: "single"}
+    return names.get(support, "spinless")
+
+
 def choose_td_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t, minimum_frequency,
                     spin_1, spin_2, reference_frequency, mode_list=None) -> ModeSeries:
     """Modes at phi_ref = 0 in lalsimulation's frame; t = 0 at the model's peak."""

@@ -52,3 +52,91 @@ def test_higher_modes_resolve_the_sign():
     two_plus, two_minus = [e.ln_bf for e in estimates if e.method.startswith("two-point")]
     assert two_plus - two_minus > 4.0  # zero noise: 2 rho^2 when the partner does not fit
     assert two_plus == pytest.approx(snr ** 2 / 2, rel=1e-6)  # zero noise: rho^2 / 2 (Finn 1992, mean value)
+
+
+# ---- the two-point estimator over Gaussian noise -------------------------------------------------------------
+
+def noisy_likelihood(seed, mode_list=None, distance=None, names=("CE",)):
+    """Detectors with Gaussian noise and the injection; also the noise alone, per detector."""
+    arguments = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)
+    if mode_list:
+        arguments["mode_list"] = mode_list
+    source = dict(SOURCE, luminosity_distance=distance or SOURCE["luminosity_distance"])
+    generator = waveform_generator(DURATION, RATE, START, arguments)
+    bilby.core.utils.random.seed(seed)
+    detectors = bilby.gw.detector.InterferometerList(list(names))
+    for detector in detectors:
+        detector.minimum_frequency = 20.0
+    detectors.set_strain_data_from_power_spectral_densities(RATE, DURATION, START)
+    noise = [detector.frequency_domain_strain.copy() for detector in detectors]
+    detectors.inject_signal(waveform_generator=generator, parameters=dict(source, memory_amplitude=1.0))
+    return MemoryTransient(detectors, generator), noise, source
+
+
+def test_two_point_value_is_the_estimator_on_noisy_data():
+    # consistency of the reduction (module docstring): the estimator computed by fast_estimates on full bilby
+    # data equals two_point_value at the noise's own projections (<n,m>, <n,m'>, <n,delta>), to 1e-9
+    from memory_infer.inference.methods.fast import two_point_terms, two_point_value
+
+    for seed in (1, 2, 3):
+        likelihood, noise, source = noisy_likelihood(seed, names=("H1", "L1"), distance=300.0)
+        terms = two_point_terms(likelihood, source)
+        here, there = likelihood.projected_parts(source), likelihood.projected_parts(sign_partner(source))
+        memory, partner = [p[1] for p in here], [p[1] for p in there]
+        split = [a[0] - b[0] for a, b in zip(here, there)]
+        x = [likelihood.network_product(noise, v) for v in (memory, partner, split)]
+        estimates, _ = fast_estimates(likelihood, source)
+        assert abs(two_point_value(terms, 1.0, 1.0, x) - estimates[2].ln_bf) < 1e-9
+        assert abs(two_point_value(terms, 1.0, -1.0, x) - estimates[3].ln_bf) < 1e-9
+
+
+def test_degenerate_expectation_series_is_rho_four_over_four():
+    # sympy (outside library) expands E[ln cosh(rho^2 + rho z)] - rho^2/2 over z ~ N(0, 1) with the Gaussian
+    # moments E[z^k] = (k-1)!!: the leading term is rho^4/4 (the issue text said rho^4/2; the derivation is in
+    # memory_infer/inference/methods/fast.py)
+    import sympy
+
+    rho, z, y = sympy.symbols("rho z y", positive=True)
+    series = sympy.series(sympy.log(sympy.cosh(y)), y, 0, 8).removeO().subs(y, rho ** 2 + rho * z)
+    polynomial = sympy.Poly(sympy.expand(series), z)
+    moment = lambda k: 0 if k % 2 else sympy.factorial2(k - 1)
+    expectation = sum(c * moment(m[0]) for m, c in zip(polynomial.monoms(), polynomial.coeffs())) - rho ** 2 / 2
+    leading = sympy.series(sympy.expand(expectation), rho, 0, 6).removeO()
+    assert sympy.simplify(leading - rho ** 4 / 4) == 0
+
+
+def test_quadrupole_only_event_expects_rho_four_over_four():
+    # (2, +-2)-only IMRPhenomTHM: delta = 0 and m' = -m (SPEC section 6), so the expectation is the 1-D
+    # integral E[ln cosh(rho^2 + rho z)] - rho^2/2 (independent Gauss-Hermite, 200 nodes, to 1e-9) and about
+    # rho^4/4 at small rho (within 6% at rho = 0.3; the series' next term is negative)
+    from memory_infer.inference.methods.fast import two_point_noise_average, two_point_terms
+
+    likelihood = zero_noise_likelihood([(2, 2), (2, -2)])
+    base = two_point_terms(likelihood, SOURCE)
+    assert base["split"] < 1e-12 * likelihood.inner_products(SOURCE).osc_osc
+    assert abs(base["memory_cross"] + base["memory"]) < 1e-9 * base["memory"]
+    z, w = np.polynomial.hermite_e.hermegauss(200)
+    w = w / w.sum()
+    for rho in (0.15, 0.3, 1.0):
+        scale = rho ** 2 / base["memory"]
+        terms = {k: v * scale for k, v in base.items()}  # the same event at another distance
+        average = two_point_noise_average(terms, 1.0, 1.0)
+        one_dimensional = np.sum(w * np.log(np.cosh(rho ** 2 + rho * z))) - rho ** 2 / 2
+        assert abs(average["mean"] - one_dimensional) < 1e-9
+        if rho <= 0.3:
+            assert abs(average["mean"] / (rho ** 4 / 4) - 1) < 0.06
+        assert average["zero_noise"] < average["mean"]  # the noiseless value is not the expectation
+
+
+def test_sign_resolving_event_expects_rho_squared_over_two():
+    # L. S. Finn, PRD 46, 5236 (1992): with the sign known the expected ln BF is rho^2/2; an edge-on-ish
+    # IMRPhenomTHM event in Cosmic Explorer resolves the sign (<delta, delta> ~ 1e2), so the two-point
+    # expectation equals rho^2/2 to 1e-6 relative
+    from memory_infer.inference.methods.fast import two_point_noise_average, two_point_terms
+
+    likelihood = zero_noise_likelihood()
+    terms = two_point_terms(likelihood, SOURCE)
+    assert terms["split"] > 50
+    average = two_point_noise_average(terms, 1.0, 1.0)
+    assert abs(average["mean"] / (terms["memory"] / 2) - 1) < 1e-6
+    assert abs(average["spread"] / np.sqrt(terms["memory"]) - 1) < 1e-6  # standard deviation rho (Finn 1992)
