@@ -76,17 +76,24 @@ def catalog_growth(pool, threshold: float, bootstrap: int, seed: int, max_events
     bands = {"events": [], "median": [], "lower_90": [], "upper_90": []}
     if pool.size == 0:
         return bands, events
-    rng = np.random.default_rng(seed)
     count, width = pool.shape
     event_mean, event_second = pool.mean(axis=1), (pool ** 2).mean(axis=1)
-    horizon = _horizon(float(event_mean.mean()), float(event_second.mean() - event_mean.mean() ** 2), threshold,
+    moments = []  # per bootstrap catalog: the resample's mean and variance per event (rows redrawn below)
+    rows_rng = np.random.default_rng([int(seed), 1])
+    for _ in range(bootstrap):
+        rows = rows_rng.integers(count, size=count)
+        mean = event_mean[rows].mean()
+        moments.append((mean, max(event_second[rows].mean() - mean ** 2, 0.0)))
+    moments = np.asarray(moments)
+    # out to where the slowest 5% of resampled populations pass the threshold
+    horizon = _horizon(float(np.quantile(moments[:, 0], 0.05)), float(np.quantile(moments[:, 1], 0.95)), threshold,
                        max_events)
     grid = np.unique(np.round(np.geomspace(1, horizon, 240)).astype(int))
     sums = np.empty((bootstrap, grid.size))
+    rows_rng, rng = np.random.default_rng([int(seed), 1]), np.random.default_rng(seed)
     for b in range(bootstrap):
-        rows = rng.integers(count, size=count)
-        mean = event_mean[rows].mean()
-        variance = max(event_second[rows].mean() - mean ** 2, 0.0)
+        rows = rows_rng.integers(count, size=count)
+        mean, variance = moments[b]
         total, previous = 0.0, 0
         for j, size in enumerate(grid):
             step = int(size - previous)

@@ -30,7 +30,7 @@ POPULATION_SCHEMA = {
 }
 # the largest redshift a network's detected binary black holes reach, by network (a default for
 # ``redshift_max``; campaigns warn when detected events crowd against it)
-NETWORK_REDSHIFT = {"hl-o4": 1.5, "hl-design": 2.0, "hlv-design": 2.0, "hlv-aplus": 3.0, "et": 10.0, "ce": 10.0,
+NETWORK_REDSHIFT = {"hl-o4": 1.0, "hl-design": 1.5, "hlv-design": 1.5, "hlv-aplus": 2.5, "et": 10.0, "ce": 10.0,
                     "ce-et": 10.0}
 SPIN_ORIENTATIONS = ("aligned", "isotropic")
 

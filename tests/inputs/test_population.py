@@ -75,7 +75,7 @@ def test_redshift_reach_by_network_and_truncation_warning(tmp_path):
     from memory_infer.inputs.population import NETWORK_REDSHIFT, load_population, redshift_reach, truncation_warning
 
     population = load_population(population_file(tmp_path))
-    assert redshift_reach(population, "ce") == 10.0 and redshift_reach(population, "hlv-design") == 2.0
+    assert redshift_reach(population, "ce") == 10.0 and redshift_reach(population, "hlv-design") == 1.5
     assert NETWORK_REDSHIFT["et"] == 10.0
     assert redshift_reach(load_population(population_file(tmp_path, redshift_max=0.5)), "ce") == 0.5
     crowded = truncation_warning([0.1, 0.47, 0.48, 0.3], 0.5)
