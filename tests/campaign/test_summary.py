@@ -89,3 +89,18 @@ def test_catalog_growth_of_single_realizations_and_of_no_memory():
     _, never = catalog_growth(-np.abs(values), 8.0, 100, 1, max_events=5000)
     assert never["median"] is None and never["reached_fraction"] == 0.0
     assert expected_events(-np.abs(values), 8.0, 100, 1)["median"] is None
+
+
+def test_noise_pool_keeps_each_event_exact_mean_and_spread():
+    # the pool's per-event mean is the exact expectation, its spread the quadrature spread within 10%
+    from memory_infer.campaign.summary import noise_pool
+    from memory_infer.inference.methods.fast import two_point_noise_average
+
+    terms = {"memory": 0.04, "partner_memory": 0.05, "memory_cross": -0.04, "split": 3.0, "memory_split": -0.01,
+             "partner_split": 0.02}
+    average = two_point_noise_average(terms, 1.0, 1.0)
+    record = {f"term_{k}": v for k, v in terms.items()}
+    record.update(amplitude=1.0, ln_bf_plus_expected=average["mean"])
+    pool = noise_pool([record, record], 3)
+    assert np.allclose(pool.mean(axis=1), average["mean"], rtol=0, atol=1e-15)
+    assert abs(pool.std() / average["spread"] - 1) < 0.1
