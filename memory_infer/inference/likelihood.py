@@ -80,7 +80,7 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
             raise MemoryInferError("calibration marginalization is not supported with the memory likelihood")
         if (distance_marginalization or time_marginalization) and priors is None:
             raise MemoryInferError("distance or time marginalization needs the prior to marginalize over")
-        distance_prior = priors["luminosity_distance"] if distance_marginalization else None
+        distance_prior = priors.get("luminosity_distance") if distance_marginalization else None
         super().__init__(interferometers, waveform_generator, priors=priors,
                          distance_marginalization=distance_marginalization,
                          time_marginalization=time_marginalization, phase_marginalization=False, **kwargs)

@@ -92,17 +92,15 @@ def test_known_signal_log_likelihood_ratio_statistics(generator):
 
 
 def _adaptive_marginal(prior, reference, dh, hh):
-    """ln of the normalized distance marginal by scipy.integrate.quad (adaptive; split at the peak)."""
-    from scipy.integrate import quad
+    """ln of the normalized distance marginal by scipy.integrate.quad: the reference of scripts/distance_accuracy.py."""
+    import importlib.util
+    import pathlib
 
-    peak_s = dh / hh
-    top = dh * peak_s - hh * peak_s ** 2 / 2
-    integrand = lambda d: prior.prob(d) * np.exp(dh * reference / d - hh * (reference / d) ** 2 / 2 - top)
-    peak = reference / peak_s
-    points = [p for p in (peak * (1 - 4 / np.sqrt(hh)), peak, peak * (1 + 4 / np.sqrt(hh)))
-              if prior.minimum < p < prior.maximum]
-    value, _ = quad(integrand, prior.minimum, prior.maximum, points=points or None, limit=500, epsabs=0, epsrel=1e-13)
-    return np.log(value) + top
+    path = pathlib.Path(__file__).resolve().parents[2] / "scripts" / "distance_accuracy.py"
+    spec = importlib.util.spec_from_file_location("distance_accuracy", path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module.adaptive(prior, reference, dh, hh)
 
 
 @pytest.mark.parametrize("snr", [10.0, 30.0, 50.0])
