@@ -6,6 +6,7 @@ import os
 from ..catalog.combine import combine, find_records, load_record
 from ..common.writing import atomic_path, provenance, write_text
 from ..reports.catalog import catalog_page
+from ..reports.html import number
 from ..results.catalog import CatalogResult
 
 
@@ -28,8 +29,7 @@ def run(args) -> int:
         pd.DataFrame(result.events).to_csv(temporary, index=False)
     write_text(os.path.join(args.outdir, "report.html"), page)
     c = result.consistent_sign
-    error = "n/a" if c["ln_bf_err"] is None else f"{c['ln_bf_err']:.2f}"
-    print(f"catalog of {result.n_events} events: consistent-sign ln BF = {c['ln_bf']:.2f} ± {error}; "
+    print(f"catalog of {result.n_events} events: consistent-sign ln BF = {number(c['ln_bf'], c['ln_bf_err'])}; "
           f"wrong sign {result.wrong_sign['ln_bf']:.2f}; sign-agnostic {result.sign_agnostic['ln_bf']:.2f}; "
           f"shared unknown sign {result.shared_unknown_sign['ln_bf']:.2f}")
     for item in result.dropped:

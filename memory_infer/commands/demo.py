@@ -145,7 +145,7 @@ def run(args) -> int:
 
 def _index_page(outdir, labels) -> str:
     from ..common.writing import write_text
-    from ..reports.html import page, table
+    from ..reports.html import number, page, table
     from ..results.cautions import INVENTED
     from ..results.event import EventResult
 
@@ -153,8 +153,7 @@ def _index_page(outdir, labels) -> str:
     for label in labels:
         result = EventResult.load(os.path.join(outdir, "events", label, EventResult.FILE))
         headline = result.headline or {}
-        error = headline.get("ln_bf_err")
-        rows.append((label, f"{headline.get('ln_bf', float('nan')):.2f}" + ("" if error is None else f" ± {error:.2f}"),
+        rows.append((label, number(headline.get("ln_bf", float("nan")), headline.get("ln_bf_err"), 3),
                      f"{result.sign.ln_bf_sign if result.sign else float('nan'):.2f}",
                      f"{result.memory_snr['value']:.2f}", f"events/{label}/report.html"))
     links = "".join(f"<li><a href='{html.escape(target)}'>{html.escape(name)}</a></li>" for name, target in

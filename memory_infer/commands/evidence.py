@@ -8,6 +8,7 @@ from ..inference.runner import run_event
 from ..inference.setup import prepare
 from ..inputs.config import load_evidence_config
 from ..reports.event import event_page
+from ..reports.html import number
 from ..results.event import EventResult
 
 
@@ -38,8 +39,11 @@ def run(args) -> int:
     write_text(os.path.join(args.outdir, "report.html"), page)
     headline = result.headline
     if headline:
-        error = "n/a" if headline["ln_bf_err"] is None else f"{headline['ln_bf_err']:.2f}"
-        print(f"{result.event}: ln BF (memory vs none) = {headline['ln_bf']:.2f} ± {error} by {headline['method']}")
+        print(f"{result.event}: ln BF (memory vs none) = {number(headline['ln_bf'], headline['ln_bf_err'], 3)} "
+              f"by {headline['method']}")
+        check = headline.get("cross_check")
+        if check:
+            print(f"  cross-check: {number(check['ln_bf'], check['ln_bf_err'], 3)} by {check['method']}")
     for warning in result.warnings:
         print(f"warning: {warning}")
     print(f"wrote {os.path.join(args.outdir, EventResult.FILE)} and {os.path.join(args.outdir, 'report.html')}")

@@ -80,6 +80,15 @@ def weights_figure(weights: dict) -> str:
     return figure_to_html(fig, "importance weights")
 
 
+def _cross_check_text(check) -> str:
+    if not check:
+        return "<p>Cross-check: no second estimate with an error.</p>"
+    size = check.get("difference_in_errors")
+    return (f"<p>Cross-check: {number(check['ln_bf'], check['ln_bf_err'])} by {html.escape(check['method'])}; "
+            f"difference {check['difference']:+.3g}"
+            + ("" if size is None else f" ({size:+.1f} combined standard errors)") + ".</p>")
+
+
 def event_page(result: EventResult) -> str:
     """The per-event report: numbers with errors and methods, then the figures."""
     rows = [(m.method, f"{m.numerator} vs {m.denominator}", number(m.ln_bf, m.ln_bf_err),
@@ -89,7 +98,8 @@ def event_page(result: EventResult) -> str:
     headline = result.headline
     if headline:
         sections[0] = (sections[0][0], f"<p>Headline: ln BF (memory vs none) = <b>{number(headline['ln_bf'], headline['ln_bf_err'])}</b> "
-                       f"by {html.escape(headline['method'])}. Rule: {html.escape(headline['rule'])}.</p>" + sections[0][1])
+                       f"by {html.escape(headline['method'])}. Rule: {html.escape(headline['rule'])}.</p>"
+                       + _cross_check_text(headline.get("cross_check")) + sections[0][1])
     sign = result.sign
     if sign:
         sections.append(("Sign of the memory", table(

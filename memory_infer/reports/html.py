@@ -36,13 +36,18 @@ def new_figure(*args, **kwargs):
 
 
 def number(value, error=None, digits=2) -> str:
+    """``value ± error`` with the error to two significant digits and the value to the same decimal place
+    (common practice); without an error, ``digits`` decimals. An error of 0 is printed as 0."""
     if value is None:
         return "—"
     if isinstance(value, float) and not np.isfinite(value):
         return str(value)
+    if error is not None and np.isfinite(error) and error > 0:
+        decimals = max(0, 1 - int(np.floor(np.log10(error))))
+        return f"{value:.{decimals}f} ± {error:.{decimals}f}"
     text = f"{value:.{digits}f}"
-    if error is not None and np.isfinite(error):
-        text += f" ± {error:.{digits}f}"
+    if error is not None and error == 0:
+        text += " ± 0"
     return text
 
 

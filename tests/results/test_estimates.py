@@ -6,26 +6,33 @@ from memory_infer.results.estimates import (EvidenceEstimate, cumulative_distrib
                                             normalized_density, preferred)
 
 
-def estimate(family, numerator, ln_bf, reliable=True, ess=None, sample_set=None):
+def estimate(family, numerator, ln_bf, reliable=True, ess=None, sample_set=None, error=0.1):
     names = {"nested": "nested sampling", "reweighting": "importance reweighting from the A = 0 posterior",
              "two-point": "two-point approximation"}
-    return EvidenceEstimate(method=names[family], ln_bf=ln_bf, ln_bf_err=0.1, numerator=numerator, reliable=reliable,
-                            effective_sample_size=ess, sample_set=sample_set)
+    return EvidenceEstimate(method=names[family], ln_bf=ln_bf, ln_bf_err=None if family == "two-point" else error,
+                            numerator=numerator, reliable=reliable, effective_sample_size=ess, sample_set=sample_set)
 
 
-def test_families_follow_the_stated_order():
+def test_headline_is_the_reliable_estimate_with_the_smallest_error():
     methods = [estimate("two-point", "memory", 0.1), estimate("two-point", "flipped", -0.1),
-               estimate("reweighting", "memory", 0.2, ess=300), estimate("reweighting", "flipped", -0.2, ess=300),
-               estimate("nested", "memory", 0.3)]
-    assert headline(methods)["ln_bf"] == 0.3  # nested when run
+               estimate("reweighting", "memory", 0.002, ess=300, error=0.004),
+               estimate("reweighting", "flipped", -0.2, ess=300, error=0.004), estimate("nested", "memory", 0.3, error=0.2)]
+    chosen = headline(methods)
+    assert chosen["ln_bf"] == 0.002  # reweighting's 0.004 beats nested sampling's 0.2
+    check = chosen["cross_check"]
+    assert check["method"] == "nested sampling" and check["difference"] == pytest.approx(0.298)
+    assert check["difference_in_errors"] == pytest.approx(0.298 / np.hypot(0.2, 0.004))
+    loud = [estimate("reweighting", "memory", 4.0, ess=40, error=0.6), estimate("nested", "memory", 4.3, error=0.15)]
+    assert headline(loud)["ln_bf"] == 4.3  # a loud memory: the reweighting error grows past nested sampling's
     pair = preferred(methods, ("memory", "flipped"))
-    assert pair["memory"].ln_bf == 0.2  # nested lacks A = -1: the reweighting pair
+    assert pair["memory"].ln_bf == 0.002  # nested lacks A = -1: the reweighting pair
     assert preferred(methods[:2], ("memory", "flipped"))["memory"].ln_bf == 0.1
+    assert headline(methods[:2])["cross_check"] is None  # no estimate with an error to compare
 
 
 def test_reweighting_prefers_reliable_sets_with_more_effective_samples():
-    methods = [estimate("reweighting", "memory", 0.5, ess=80, sample_set="none"),
-               estimate("reweighting", "memory", 0.7, ess=400, sample_set="file"),
+    methods = [estimate("reweighting", "memory", 0.5, ess=80, sample_set="none", error=0.01),
+               estimate("reweighting", "memory", 0.7, ess=400, sample_set="file", error=0.01),
                estimate("reweighting", "memory", 9.0, reliable=False, ess=3, sample_set="memory")]
     assert headline(methods)["ln_bf"] == 0.7
     assert headline([methods[2]]) is None

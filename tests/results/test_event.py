@@ -8,7 +8,7 @@ def test_headline_is_chosen_by_the_one_rule_and_survives_the_round_trip():
         EvidenceEstimate(method="nested sampling (dynesty through bilby)", ln_bf=0.4, ln_bf_err=0.1)],
         sign=SignSummary(0.4, 0.1, -1.0, 0.1, 1.4, 0.14, 0.8, "nested sampling"))
     result.choose_headline()
-    assert result.headline["ln_bf"] == 0.4 and "nested sampling if run" in result.headline["rule"]
+    assert result.headline["ln_bf"] == 0.4 and "smallest Monte-Carlo error" in result.headline["rule"]
     again = result.reloaded()
     assert again.to_json() == result.to_json()
     assert isinstance(again.methods[0], EvidenceEstimate) and isinstance(again.sign, SignSummary)

@@ -1,8 +1,15 @@
 """Importance reweighting of posterior samples drawn under A = a0.
 
-``BF(A) = mean_i L(A, th_i) / L(a0, th_i)`` in log space; effective sample size
-``(sum w)^2 / sum w^2``; Monte-Carlo error of ln BF ``sqrt(var w / n) / mean w``. Samples whose
-waveform failed count as zero likelihood.
+``BF(A) = mean_i w_i`` with ``w_i = L(A, th_i) / L(a0, th_i)``, in log space, over the n usable samples.
+
+- **Failed waveforms.** A sample whose waveform fails has neither L(A) nor L(a0): it is left out of the mean
+  and of n (counting it as zero weight would bias BF down by the failed fraction), and the count is reported.
+- **Duplicates.** Posterior files often repeat samples (equal-weight resampling draws the same point several
+  times). Identical samples are evaluated once and treated as one draw with multiplicity k_j: with
+  ``s_j = k_j w_j`` and ``m = sum_j s_j / n``, the Monte-Carlo variance of m is the cluster (between-sample)
+  variance ``J/(J-1) sum_j (s_j - k_j m)^2 / n^2`` over the J distinct samples, and the effective sample size is
+  ``(sum_j s_j)^2 / sum_j s_j^2``. Without duplicates these are ``var(w)/n`` and ``(sum w)^2 / sum w^2``.
+- The error of ln BF is ``sqrt(var m) / m``.
 """
 from __future__ import annotations
 
@@ -18,98 +25,136 @@ from .base import EvidenceMethod, RunState, fixed_values
 logger = logging.getLogger("memory_infer")
 
 
+def sample_labels(samples) -> np.ndarray:
+    """One integer per sample, equal for identical samples (every numeric column equal)."""
+    records = samples.to_dict("records") if hasattr(samples, "to_dict") else list(samples)
+    keys = [tuple(sorted((k, float(v)) for k, v in r.items() if isinstance(v, (int, float, np.number))))
+            for r in records]
+    index = {}
+    return np.array([index.setdefault(key, len(index)) for key in keys], dtype=int)
+
+
 def log_likelihood_grid(likelihood, samples, amplitudes, progress: bool = False):
-    """``ln L(A) - ln L_noise`` for every sample (rows) and amplitude (columns); -inf for failed waveforms."""
+    """``ln L(A) - ln L_noise`` for every sample (rows) and amplitude (columns); NaN for failed waveforms.
+    Identical samples are evaluated once."""
     amplitudes = np.asarray(amplitudes, dtype=float)
     records = samples.to_dict("records") if hasattr(samples, "to_dict") else list(samples)
+    labels = sample_labels(records)
+    first = {}
+    for i, label in enumerate(labels):
+        first.setdefault(int(label), i)
     fixed = fixed_values(likelihood.priors)
-    out = np.empty((len(records), amplitudes.size))
+    unique = np.empty((len(first), amplitudes.size))
     failures = 0
-    iterator = records
+    iterator = sorted(first.items())
     if progress:
         from tqdm import tqdm
 
-        iterator = tqdm(records, desc="reweighting", unit="sample", leave=False)
-    for i, record in enumerate(iterator):
+        iterator = tqdm(iterator, desc="reweighting", unit="sample", leave=False)
+    for label, i in iterator:
+        record = records[i]
         point = dict(fixed, **{k: v for k, v in record.items() if isinstance(v, (int, float, np.number))})
         if likelihood.time_marginalization and "time_jitter" not in point:
             point["time_jitter"] = 0.0
         try:
-            out[i] = likelihood.log_likelihood_ratio_curve(point, amplitudes)
+            unique[label] = likelihood.log_likelihood_ratio_curve(point, amplitudes)
         except WaveformError:
-            out[i] = -np.inf
+            unique[label] = np.nan
             failures += 1
     if failures:
         generator = likelihood.waveform_generator
         if hasattr(generator, "failures"):
             generator.failures += failures
-        logger.warning("%d of %d samples had a failed waveform and count as zero likelihood", failures, len(records))
-    return out
+        logger.warning("%d of %d distinct samples had a failed waveform and are left out", failures, len(first))
+    return unique[labels]
 
 
-def mean_ratio(log_weights: np.ndarray):
-    """(ln mean w, its Monte-Carlo error, effective sample size) from log weights."""
+def mean_ratio(log_weights: np.ndarray, labels=None):
+    """(ln mean w, its Monte-Carlo error, effective sample size) from log weights; NaN entries (failed
+    waveforms) are left out; ``labels`` mark identical samples (module docstring)."""
     log_weights = np.asarray(log_weights, dtype=float)
-    finite = np.isfinite(log_weights)
+    usable = ~np.isnan(log_weights)
+    labels = np.arange(log_weights.size) if labels is None else np.asarray(labels)
+    log_weights, labels = log_weights[usable], labels[usable]
     n = log_weights.size
+    finite = np.isfinite(log_weights)
     if not np.any(finite):
         return -np.inf, np.inf, 0.0
     top = np.max(log_weights[finite])
     w = np.where(finite, np.exp(log_weights - top), 0.0)
     mean = w.mean()
     ln_mean = float(np.log(mean) + top)
-    error = float(np.sqrt(w.var(ddof=1) / n) / mean) if n > 1 else np.inf
-    ess = float(w.sum() ** 2 / np.sum(w ** 2))
+    _, cluster, counts = np.unique(labels, return_inverse=True, return_counts=True)
+    sums = np.bincount(cluster, weights=w)
+    distinct = sums.size
+    if distinct > 1:
+        variance = distinct / (distinct - 1) * np.sum((sums - counts * mean) ** 2) / n ** 2
+        error = float(np.sqrt(variance) / mean)
+    else:
+        error = np.inf
+    ess = float(sums.sum() ** 2 / np.sum(sums ** 2))
     return ln_mean, error, ess
 
 
-def amplitude_curve(log_likelihoods: np.ndarray, amplitudes, base_amplitude: float) -> AmplitudeCurve:
+def amplitude_curve(log_likelihoods: np.ndarray, amplitudes, base_amplitude: float, labels=None) -> AmplitudeCurve:
     """``ln <L(A)/L(a0)>`` on the grid, from a samples x amplitudes table of log likelihoods."""
     amplitudes = np.asarray(amplitudes, dtype=float)
     base = int(np.argmin(np.abs(amplitudes - base_amplitude)))
     if abs(amplitudes[base] - base_amplitude) > 1e-9:
         raise MemoryInferError(f"the amplitude grid must contain the samples' own amplitude {base_amplitude:g}")
-    values = [mean_ratio(log_likelihoods[:, k] - log_likelihoods[:, base]) for k in range(amplitudes.size)]
+    values = [mean_ratio(log_likelihoods[:, k] - log_likelihoods[:, base], labels) for k in range(amplitudes.size)]
     return AmplitudeCurve(amplitudes=amplitudes.tolist(), ln_mean_ratio=[v[0] for v in values],
                           ln_mean_ratio_err=[v[1] for v in values], effective_sample_size=[v[2] for v in values],
-                          base_amplitude=float(base_amplitude), number_of_samples=int(log_likelihoods.shape[0]))
+                          base_amplitude=float(base_amplitude), number_of_samples=usable_count(log_likelihoods))
+
+
+def usable_count(log_likelihoods) -> int:
+    """Samples whose waveform did not fail."""
+    return int(np.sum(~np.isnan(np.asarray(log_likelihoods)[:, 0])))
 
 
 def reweighting_estimate(log_likelihoods, amplitudes, base_amplitude: float, numerator: float,
-                         denominator: float, minimum_effective_samples: float = 50.0) -> EvidenceEstimate:
+                         denominator: float, minimum_effective_samples: float = 50.0, labels=None) -> EvidenceEstimate:
     """ln BF(numerator vs denominator) from samples drawn under ``base_amplitude`` (one of the two)."""
     log_ratio = (log_likelihoods[:, grid_index(amplitudes, numerator)]
                  - log_likelihoods[:, grid_index(amplitudes, denominator)])
     if abs(base_amplitude - denominator) < 1e-9:
-        ln_bf, error, ess = mean_ratio(log_ratio)
+        ln_bf, error, ess = mean_ratio(log_ratio, labels)
         direction = f"from the A = {denominator:g} posterior"
     elif abs(base_amplitude - numerator) < 1e-9:
-        ln_inverse, error, ess = mean_ratio(-log_ratio)
+        ln_inverse, error, ess = mean_ratio(-log_ratio, labels)
         ln_bf = -ln_inverse
         direction = f"from the A = {numerator:g} posterior (inverse mean)"
     else:
         raise MemoryInferError("reweighting needs samples drawn under one of the two hypotheses compared")
-    n = int(log_likelihoods.shape[0])
+    n = usable_count(log_likelihoods)
+    failed = int(log_likelihoods.shape[0]) - n
+    distinct = n if labels is None else int(np.unique(np.asarray(labels)[~np.isnan(log_likelihoods[:, 0])]).size)
     reliable = bool(ess >= minimum_effective_samples and np.isfinite(ln_bf))
     if reliable:
         note = f"{ess:.0f} effective of {n} samples"
+        if distinct < n:
+            note += f" ({distinct} distinct)"
     elif ess > 0.5 * n:
         note = (f"only {n} samples in all (need {minimum_effective_samples:g} effective): draw more posterior "
                 "samples (more live points)")
     else:
         note = (f"only {ess:.1f} effective of {n} samples (need {minimum_effective_samples:g}): the two posteriors "
                 "do not overlap enough; use nested sampling or the free-amplitude run for this event")
+    if failed:
+        note += f"; {failed} samples with a failed waveform left out"
     return EvidenceEstimate(method=f"importance reweighting {direction}", ln_bf=float(ln_bf), ln_bf_err=float(error),
                             numerator=hypothesis_name(numerator), denominator=hypothesis_name(denominator),
                             effective_sample_size=float(ess), number_of_samples=n, reliable=reliable, note=note,
                             family="reweighting", base_amplitude=float(base_amplitude))
 
 
-def estimates_from_table(table, grid, base_amplitude: float, minimum_effective_samples: float = 50.0) -> list:
+def estimates_from_table(table, grid, base_amplitude: float, minimum_effective_samples: float = 50.0,
+                         labels=None) -> list:
     """ln BF of A = +1 and -1 against 0 from samples drawn under A = 0; of A = a0 against 0 otherwise."""
     pairs = [(1.0, 0.0), (-1.0, 0.0)] if base_amplitude == 0.0 else [(base_amplitude, 0.0)]
-    return [reweighting_estimate(table, grid, base_amplitude, numerator, denominator, minimum_effective_samples)
-            for numerator, denominator in pairs]
+    return [reweighting_estimate(table, grid, base_amplitude, numerator, denominator, minimum_effective_samples,
+                                 labels) for numerator, denominator in pairs]
 
 
 def reweight(likelihood, samples, base_amplitude: float = 0.0, grid=None, minimum_effective_samples: float = 50.0,
@@ -124,8 +169,9 @@ def reweight(likelihood, samples, base_amplitude: float = 0.0, grid=None, minimu
 
     grid = grid_with_hypotheses(-4.0, 4.0, 81) if grid is None else np.asarray(grid, dtype=float)
     table = log_likelihood_grid(likelihood, samples, grid, progress=progress)
-    return (estimates_from_table(table, grid, base_amplitude, minimum_effective_samples),
-            amplitude_curve(table, grid, base_amplitude))
+    labels = sample_labels(samples)
+    return (estimates_from_table(table, grid, base_amplitude, minimum_effective_samples, labels),
+            amplitude_curve(table, grid, base_amplitude, labels))
 
 
 def sign_from_curve(curve: AmplitudeCurve, free_limits=(-5.0, 5.0)) -> SignSummary:
@@ -178,7 +224,8 @@ class Reweighting(EvidenceMethod):
             likelihood, _ = setup.likelihood(hypothesis)
             logger.info("%s: reweighting %d samples drawn under A = %g", state.label, len(frame), base)
             table = log_likelihood_grid(likelihood, frame, grid, progress=state.progress)
-            for estimate in estimates_from_table(table, grid, base, minimum):
+            labels = sample_labels(frame)
+            for estimate in estimates_from_table(table, grid, base, minimum, labels):
                 estimate.method += f" [{name}]"
                 estimate.sample_set = name
                 state.result.methods.append(estimate)
@@ -194,7 +241,7 @@ class Reweighting(EvidenceMethod):
                                       if isinstance(best[k], (int, float, np.number))},
                                      f"the best no-memory fit among the reweighted samples [{name}]")
             if base == 0.0 and state.result.amplitude_curve is None:
-                curve = amplitude_curve(table, grid, 0.0)
+                curve = amplitude_curve(table, grid, 0.0, labels)
                 state.result.amplitude_curve = curve
                 sign = sign_from_curve(curve, evidence["free_amplitude_limits"])
                 if min(curve.at(1.0)[2], curve.at(-1.0)[2]) < minimum:

@@ -80,3 +80,45 @@ def test_small_loud_problem_nested_and_reweighting_agree(tmp_path):
     reweighted = next(m for m in record["methods"] if m["method"].startswith("importance") and m["numerator"] == "memory")
     assert reweighted["ln_bf"] < 0
     assert record["sign"]["ln_bf_plus"] < 0 and record["sign"]["ln_bf_minus"] < 0
+
+
+def test_duplicated_samples_count_once_and_failed_waveforms_are_left_out():
+    # module docstring formulas: k copies of every sample give the same ln BF, error and effective sample size as
+    # the distinct samples (a repeated draw carries no new information); failed waveforms (NaN) leave n
+    rng = np.random.default_rng(5)
+    log_w = rng.normal(0.0, 0.7, 400)
+    distinct = _mean_ratio(log_w)
+    tripled = _mean_ratio(np.repeat(log_w, 3), labels=np.repeat(np.arange(400), 3))
+    assert np.allclose(tripled, distinct, rtol=1e-12)
+    naive = _mean_ratio(np.repeat(log_w, 3))
+    assert naive[2] == pytest.approx(3 * distinct[2]) and naive[1] == pytest.approx(distinct[1] / np.sqrt(3), rel=0.01)
+    with_failures = _mean_ratio(np.concatenate([log_w, [np.nan] * 100]))
+    assert np.allclose(with_failures, distinct, rtol=1e-12)
+
+
+def test_grid_evaluates_each_distinct_sample_once_and_reports_failures():
+    import pandas as pd
+
+    from memory_infer.common.errors import WaveformError
+    from memory_infer.inference.methods.reweighting import log_likelihood_grid, reweighting_estimate, sample_labels
+
+    class Counting:
+        priors, time_marginalization, waveform_generator, calls = {}, False, None, 0
+
+        def log_likelihood_ratio_curve(self, point, amplitudes):
+            self.calls += 1
+            if point["x"] < 0:
+                raise WaveformError("failed")
+            return point["x"] * np.asarray(amplitudes)
+
+    frame = pd.DataFrame({"x": [0.1, 0.2, 0.1, 0.3, -1.0, 0.2, 0.1]})
+    likelihood = Counting()
+    grid = np.array([-1.0, 0.0, 1.0])
+    table = log_likelihood_grid(likelihood, frame, grid)
+    assert likelihood.calls == 4 and np.isnan(table[4]).all()
+    labels = sample_labels(frame)
+    assert list(labels) == [0, 1, 0, 2, 3, 1, 0]
+    estimate = reweighting_estimate(table, grid, 0.0, 1.0, 0.0, minimum_effective_samples=1, labels=labels)
+    assert estimate.number_of_samples == 6 and "1 samples with a failed waveform left out" in estimate.note
+    assert "(3 distinct)" in estimate.note
+    assert estimate.ln_bf == pytest.approx(np.log(np.mean(np.exp([0.1, 0.2, 0.1, 0.3, 0.2, 0.1]))))
