@@ -12,7 +12,7 @@ from ..inputs.checks import check_samples
 from ..inputs.config import amplitude_grid
 from ..inputs.event_data import (build_priors, file_detectors, injection_parameters, simulated_detectors,
                                  waveform_arguments)
-from ..inputs.readers import read_samples
+from ..inputs.readers import read_sample_settings, read_samples
 from ..waveform.generator import segment_note, waveform_generator
 from .hypotheses import hypothesis_priors
 from .likelihood import MemoryTransient
@@ -31,6 +31,7 @@ class EventSetup:
     grid: np.ndarray
     lookup_path: str | None = None
     external_samples: object = None  # checked posterior samples from samples_file, if any
+    external_settings: dict = field(default_factory=dict)  # how they were drawn, against this run's settings
     notes: list = field(default_factory=list)  # warnings found while preparing (e.g. a segment too short)
 
     def likelihood(self, hypothesis: str, marginalize: bool = True):
@@ -104,4 +105,23 @@ def prepare(config: dict) -> EventSetup:
         check_samples(frame, sampled_columns(hypothesis_priors(priors, "none")),
                       f"posterior samples in '{os.path.basename(path)}'")
         setup.external_samples = frame
+        setup.external_settings = sample_settings(config, path, frame)
     return setup
+
+
+def sample_settings(config: dict, path: str, frame) -> dict:
+    """How outside samples were drawn (configuration keys first, then the file's metadata) against this run, and
+    which column holds their own log-likelihood (None when absent: no proposal correction, no mismatch check)."""
+    evidence, model = config["evidence"], config["model"]
+    metadata = read_sample_settings(path)
+    out = {}
+    for key, ours in (("reference_frequency", float(model["reference_frequency"])),
+                      ("waveform_model", model["approximant"])):
+        given = evidence[f"samples_{key}"]
+        theirs, source = (given, "configuration") if given is not None else (metadata.get(key), "file metadata")
+        out[key] = {"samples": theirs, "this_run": ours, "from": source if theirs is not None else "not given",
+                    "differs": None if theirs is None else theirs != ours}
+    column = evidence["samples_log_likelihood"] or None
+    usable = column is not None and column in frame.columns and np.all(np.isfinite(frame[column].to_numpy(float)))
+    out["log_likelihood_column"] = column if usable else None
+    return out

@@ -42,7 +42,9 @@ EVIDENCE_SCHEMA = {
         "reweight_from": (list, ["none", "memory"]), "samples_file": (str, None),
         "samples_amplitude": (NUMBER, 0.0), "amplitude_grid": (list, [-4.0, 4.0, 81]),
         "free_amplitude_limits": (list, [-5.0, 5.0]), "minimum_effective_samples": (NUMBER, 50.0),
-        "max_reweight_samples": (int, 2000),
+        "max_reweight_samples": (int, 2000), "samples_log_likelihood": (str, "log_likelihood"),
+        "samples_reference_frequency": (NUMBER, None), "samples_waveform_model": (str, None),
+        "mismatch_threshold": (NUMBER, 0.1),
     },
 }
 PHASE_REFUSAL = ("analytic phase marginalization is not valid with memory and higher modes (the memory "

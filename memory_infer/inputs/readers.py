@@ -107,6 +107,35 @@ def welch_psd(path: str, sampling_rate: float, segment: float, overlap: float, c
     return frequencies[keep], psd[keep], note
 
 
+def read_sample_settings(path: str) -> dict:
+    """The reference frequency and waveform model the samples were drawn with, from a bilby result file's
+    metadata (``meta_data/likelihood/waveform_arguments`` in JSON or HDF5); empty when the file does not say."""
+    try:
+        if path.endswith(".json"):
+            with open(path) as handle:
+                content = json.load(handle)
+            meta = content.get("meta_data") if isinstance(content, dict) else None
+            arguments = ((meta or {}).get("likelihood") or {}).get("waveform_arguments") or {}
+        elif path.endswith((".h5", ".hdf5", ".hdf")):
+            import h5py
+
+            with h5py.File(path, "r") as handle:
+                node = handle.get("meta_data/likelihood/waveform_arguments")
+                arguments = ({k: v[()] for k, v in node.items() if isinstance(v, h5py.Dataset)}
+                             if isinstance(node, h5py.Group) else {})
+        else:
+            return {}
+    except (ValueError, OSError, KeyError, AttributeError, TypeError):
+        return {}
+    found = {}
+    if arguments.get("reference_frequency") is not None:
+        found["reference_frequency"] = float(np.asarray(arguments["reference_frequency"]).ravel()[0])
+    model = arguments.get("waveform_approximant")
+    if model is not None:
+        found["waveform_model"] = model.decode() if isinstance(model, bytes) else str(model)
+    return found
+
+
 def read_samples(path: str):
     """Posterior samples as a pandas DataFrame from CSV, JSON (bilby result or a plain table) or HDF5."""
     import pandas as pd

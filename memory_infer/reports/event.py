@@ -80,6 +80,23 @@ def weights_figure(weights: dict) -> str:
     return figure_to_html(fig, "importance weights")
 
 
+def _sample_check_html(check: dict) -> str:
+    rows = [(key.replace("_", " "), value.get("samples"), value.get("this_run"), value.get("from"),
+             {True: "yes", False: "no", None: "unknown"}[value.get("differs")])
+            for key, value in check.items() if isinstance(value, dict) and "this_run" in value]
+    text = table(["setting", "samples", "this run", "read from", "differs"], rows)
+    mismatch = check.get("mismatch")
+    if mismatch:
+        text += (f"<p>This run's ln L at the samples minus their own ({html.escape(mismatch['column_convention'])}): "
+                 f"median {mismatch['median']:+.3g}, spread {mismatch['spread']:.3g}, worst departure from the median "
+                 f"{mismatch['worst']:.3g} nats over {mismatch['samples']} samples; threshold {mismatch['threshold']:g} "
+                 f"({'exceeded' if mismatch['exceeded'] else 'within'}). The Bayes factors use the proposal correction "
+                 "mean(L₁/L_src) / mean(L₀/L_src).</p>")
+    elif check.get("note"):
+        text += f"<p>{html.escape(check['note'])}</p>"
+    return text
+
+
 def _cross_check_text(check) -> str:
     if not check:
         return "<p>Cross-check: no second estimate with an error.</p>"
@@ -118,6 +135,8 @@ def event_page(result: EventResult) -> str:
     if free:
         sections.append(("Memory amplitude, A free", f"<p>median {free['median']:.2f}, 90% interval "
                          f"[{free['lower_90']:.2f}, {free['upper_90']:.2f}] ({html.escape(free['method'])})</p>"))
+    for name, check in (result.sample_checks or {}).items():
+        sections.append((f"Posterior samples from a file: {name}", _sample_check_html(check)))
     if result.warnings:
         sections.append(("Warnings", "".join(f"<p class='warn'>{html.escape(w)}</p>" for w in result.warnings)))
     figures = result.figures

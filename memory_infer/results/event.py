@@ -34,6 +34,7 @@ class EventResult(ResultFile):
     caution: str = EVIDENCE
     provenance: dict | None = None
     figures: dict = field(default_factory=dict)
+    sample_checks: dict = field(default_factory=dict)  # outside samples: their settings and likelihood mismatch
 
     def choose_headline(self) -> None:
         """Set ``headline`` by the one rule (:func:`memory_infer.results.estimates.headline`)."""

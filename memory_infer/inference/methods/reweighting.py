@@ -96,6 +96,33 @@ def mean_ratio(log_weights: np.ndarray, labels=None):
     return ln_mean, error, ess
 
 
+def ratio_of_means(log_numerator, log_denominator, labels=None):
+    """(ln[mean a / mean b], its Monte-Carlo error, smaller effective sample size) for weights a, b given in logs
+    over the same samples: the proposal-corrected Bayes factor ``mean(L_1/L_src) / mean(L_0/L_src)``.
+
+    The error is the delta method over distinct samples j: ``z_j = (S_a,j - k_j m_a)/m_a - (S_b,j - k_j m_b)/m_b``,
+    ``var = J/(J-1) sum_j z_j^2 / n^2`` (a and b are correlated, so their errors do not add in quadrature)."""
+    log_numerator, log_denominator = np.asarray(log_numerator, float), np.asarray(log_denominator, float)
+    usable = ~(np.isnan(log_numerator) | np.isnan(log_denominator))
+    labels = np.arange(usable.size) if labels is None else np.asarray(labels)
+    log_numerator, log_denominator, labels = log_numerator[usable], log_denominator[usable], labels[usable]
+    if not (np.any(np.isfinite(log_numerator)) and np.any(np.isfinite(log_denominator))):
+        return np.nan, np.inf, 0.0
+    n = log_numerator.size
+    a = np.exp(log_numerator - np.max(log_numerator[np.isfinite(log_numerator)]))
+    b = np.exp(log_denominator - np.max(log_denominator[np.isfinite(log_denominator)]))
+    mean_a, mean_b = a.mean(), b.mean()
+    ln_ratio = float(np.log(mean_a) + np.max(log_numerator[np.isfinite(log_numerator)])
+                     - np.log(mean_b) - np.max(log_denominator[np.isfinite(log_denominator)]))
+    _, cluster, counts = np.unique(labels, return_inverse=True, return_counts=True)
+    sums_a, sums_b = np.bincount(cluster, weights=a), np.bincount(cluster, weights=b)
+    distinct = sums_a.size
+    z = (sums_a - counts * mean_a) / mean_a - (sums_b - counts * mean_b) / mean_b
+    error = float(np.sqrt(distinct / (distinct - 1) * np.sum(z ** 2)) / n) if distinct > 1 else np.inf
+    ess = float(min(sums_a.sum() ** 2 / np.sum(sums_a ** 2), sums_b.sum() ** 2 / np.sum(sums_b ** 2)))
+    return ln_ratio, error, ess
+
+
 def amplitude_curve(log_likelihoods: np.ndarray, amplitudes, base_amplitude: float, labels=None) -> AmplitudeCurve:
     """``ln <L(A)/L(a0)>`` on the grid, from a samples x amplitudes table of log likelihoods."""
     amplitudes = np.asarray(amplitudes, dtype=float)
@@ -147,6 +174,56 @@ def reweighting_estimate(log_likelihoods, amplitudes, base_amplitude: float, num
                             numerator=hypothesis_name(numerator), denominator=hypothesis_name(denominator),
                             effective_sample_size=float(ess), number_of_samples=n, reliable=reliable, note=note,
                             family="reweighting", base_amplitude=float(base_amplitude))
+
+
+PROPOSAL = "importance reweighting with the proposal correction (the samples' own likelihood)"
+
+
+def proposal_corrected(table, source, grid, minimum_effective_samples: float, labels=None):
+    """Estimates of A = +1 and -1 against 0, and the A curve, from samples drawn under someone else's likelihood:
+    ``BF(A) = mean(L(A)/L_src) / mean(L(0)/L_src)`` (:func:`ratio_of_means`); the samples' prior must be ours."""
+    corrected = np.asarray(table, float) - np.asarray(source, float)[:, None]
+    zero = grid_index(grid, 0.0)
+    values = [ratio_of_means(corrected[:, k], corrected[:, zero], labels) for k in range(len(grid))]
+    n = usable_count(table)
+    estimates = []
+    for numerator in (1.0, -1.0):
+        ln_bf, error, ess = values[grid_index(grid, numerator)]
+        reliable = bool(ess >= minimum_effective_samples and np.isfinite(ln_bf))
+        note = (f"{ess:.0f} effective of {n} samples" if reliable else
+                f"only {ess:.1f} effective of {n} samples (need {minimum_effective_samples:g}): the samples' "
+                "posterior and this run's do not overlap enough")
+        estimates.append(EvidenceEstimate(method=PROPOSAL, ln_bf=float(ln_bf), ln_bf_err=float(error),
+                                          numerator=hypothesis_name(numerator), effective_sample_size=float(ess),
+                                          number_of_samples=n, reliable=reliable, note=note, family="reweighting",
+                                          base_amplitude=0.0))
+    curve = AmplitudeCurve(amplitudes=[float(a) for a in grid], ln_mean_ratio=[v[0] for v in values],
+                           ln_mean_ratio_err=[v[1] for v in values], effective_sample_size=[v[2] for v in values],
+                           base_amplitude=0.0, number_of_samples=n, method=PROPOSAL)
+    return estimates, curve
+
+
+def likelihood_mismatch(recomputed, source, noise_log_likelihood: float, threshold: float) -> dict:
+    """How far this run's ln L at the samples departs from the samples' own: median, spread (standard deviation)
+    and worst departure from the median, in nats. The samples' column may hold ln L or ln L - ln L_noise; the
+    convention with the smaller median is taken and named."""
+    recomputed, source = np.asarray(recomputed, float), np.asarray(source, float)
+    usable = np.isfinite(recomputed) & np.isfinite(source)
+    ratio = recomputed[usable] - source[usable]
+    full = ratio + noise_log_likelihood
+    difference, convention = ((ratio, "log-likelihood ratio") if abs(np.median(ratio)) <= abs(np.median(full))
+                              else (full, "log-likelihood"))
+    median = float(np.median(difference))
+    spread = float(np.std(difference))
+    worst = float(np.max(np.abs(difference - median))) if difference.size else np.nan
+    return {"median": median, "spread": spread, "worst": worst, "samples": int(difference.size),
+            "column_convention": convention, "threshold": float(threshold),
+            "exceeded": bool(spread > threshold or abs(median) > 10 * threshold)}
+
+
+MISMATCH_CAUSES = ("the usual causes: another reference frequency (it changes what 'phase' means), another "
+                   "waveform model, another PSD, window or segment, a different time convention, or other "
+                   "marginalizations")
 
 
 def estimates_from_table(table, grid, base_amplitude: float, minimum_effective_samples: float = 50.0,
@@ -208,16 +285,17 @@ class Reweighting(EvidenceMethod):
         sample_sets = {}
         for hypothesis in evidence["reweight_from"]:
             if hypothesis in state.nested:
-                sample_sets[hypothesis] = (state.nested[hypothesis].posterior, HYPOTHESES[hypothesis])
+                sample_sets[hypothesis] = (state.nested[hypothesis].posterior, HYPOTHESES[hypothesis], None)
         if setup.external_samples is not None:
             amplitude = float(evidence["samples_amplitude"])
-            sample_sets[f"file ({hypothesis_name(amplitude)})"] = (setup.external_samples, amplitude)
+            sample_sets[f"file ({hypothesis_name(amplitude)})"] = (
+                setup.external_samples, amplitude, setup.external_settings.get("log_likelihood_column"))
         if not sample_sets:
             state.warn("reweighting asked for, but there are no posterior samples (run 'nested' for the "
                        "'none' or 'memory' hypothesis, or give samples_file)")
         limit, minimum = int(evidence["max_reweight_samples"]), float(evidence["minimum_effective_samples"])
         grid = setup.grid
-        for name, (frame, base) in sample_sets.items():
+        for name, (frame, base, column) in sample_sets.items():
             if len(frame) > limit:
                 frame = frame.sample(n=limit, random_state=seed)
             hypothesis = hypothesis_name(base) if hypothesis_name(base) in HYPOTHESES else "none"
@@ -225,7 +303,20 @@ class Reweighting(EvidenceMethod):
             logger.info("%s: reweighting %d samples drawn under A = %g", state.label, len(frame), base)
             table = log_likelihood_grid(likelihood, frame, grid, progress=state.progress)
             labels = sample_labels(frame)
-            for estimate in estimates_from_table(table, grid, base, minimum, labels):
+            corrected_curve = None
+            if column is not None:
+                source = frame[column].to_numpy(dtype=float)
+                estimates, corrected_curve = proposal_corrected(table, source, grid, minimum, labels)
+                self._check_file_samples(state, name, table[:, grid_index(grid, base, exact=False)], source,
+                                         likelihood.noise_log_likelihood())
+            else:
+                estimates = estimates_from_table(table, grid, base, minimum, labels)
+                if name.startswith("file"):
+                    state.result.sample_checks[name] = dict(
+                        setup.external_settings, mismatch=None,
+                        note="no log-likelihood column: the samples are taken as drawn under this run's own model "
+                             "and settings, which cannot be checked")
+            for estimate in estimates:
                 estimate.method += f" [{name}]"
                 estimate.sample_set = name
                 state.result.methods.append(estimate)
@@ -240,10 +331,27 @@ class Reweighting(EvidenceMethod):
                 state.best_sample = ({k: float(best[k]) for k in frame.columns
                                       if isinstance(best[k], (int, float, np.number))},
                                      f"the best no-memory fit among the reweighted samples [{name}]")
-            if base == 0.0 and state.result.amplitude_curve is None:
-                curve = amplitude_curve(table, grid, 0.0, labels)
+            if (base == 0.0 or corrected_curve is not None) and state.result.amplitude_curve is None:
+                curve = corrected_curve or amplitude_curve(table, grid, 0.0, labels)
                 state.result.amplitude_curve = curve
                 sign = sign_from_curve(curve, evidence["free_amplitude_limits"])
                 if min(curve.at(1.0)[2], curve.at(-1.0)[2]) < minimum:
                     sign.note += "; too few effective samples at A = +-1: treat with care"
                 state.propose_sign(0, sign)
+
+    @staticmethod
+    def _check_file_samples(state: RunState, name: str, recomputed, source, noise_log_likelihood: float) -> None:
+        """Record and, past the threshold, warn how far this run's likelihood departs from the samples' own."""
+        setup = state.setup
+        check = likelihood_mismatch(recomputed, source, noise_log_likelihood,
+                                    float(setup.config["evidence"]["mismatch_threshold"]))
+        state.result.sample_checks[name] = dict(setup.external_settings, mismatch=check)
+        if check["exceeded"]:
+            differs = [f"{key.replace('_', ' ')} {value['samples']} (this run {value['this_run']})"
+                       for key, value in setup.external_settings.items()
+                       if isinstance(value, dict) and value.get("differs")]
+            state.warn(f"{state.label}: this run's ln L at the samples departs from their own by "
+                       f"{check['median']:+.3g} nats (median), spread {check['spread']:.3g}, worst {check['worst']:.3g} "
+                       f"(threshold {check['threshold']:g}); the proposal correction keeps the Bayes factor valid "
+                       f"while the effective sample size holds; {MISMATCH_CAUSES}"
+                       + (f"; the samples differ in {', '.join(differs)}" if differs else ""))
