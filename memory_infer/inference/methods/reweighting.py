@@ -54,8 +54,11 @@ def log_likelihood_grid(likelihood, samples, amplitudes, progress: bool = False)
     for label, i in iterator:
         record = records[i]
         point = dict(fixed, **{k: v for k, v in record.items() if isinstance(v, (int, float, np.number))})
-        if likelihood.time_marginalization and "time_jitter" not in point:
-            point["time_jitter"] = 0.0
+        if likelihood.time_marginalization:
+            # bilby's time grid counts from the segment start, where its sampler holds geocent_time; a sample's
+            # own time (reconstructed, or from another run) would shift every grid time by the difference
+            point["geocent_time"] = float(likelihood.interferometers.start_time)
+            point.setdefault("time_jitter", 0.0)
         try:
             unique[label] = likelihood.log_likelihood_ratio_curve(point, amplitudes)
         except WaveformError:
