@@ -2,11 +2,14 @@
 from __future__ import annotations
 
 import json
+import logging
 import os
 
 import numpy as np
 
 from ..common.errors import MemoryInferError
+
+logger = logging.getLogger("memory_infer")
 
 
 # ---------------------------------------------------------------- inputs, checked on entry
@@ -20,9 +23,41 @@ def _exists(path: str, what: str):
         _fail(f"{what} file '{path}' does not exist")
 
 
+def _open_data_strain(handle, name: str):
+    """The open-data layout: dataset ``strain/Strain`` with its sample spacing (``Xspacing``) and start
+    (``Xstart``, else ``meta/GPSstart``) as attributes; ``meta/Duration`` is checked against the samples, and
+    seconds that the ``quality/simple/DQmask`` marks without data (bit 0 clear) are reported."""
+    if "Strain" not in handle["strain"]:
+        _fail(f"open-data strain file '{name}' has no dataset 'strain/Strain'")
+    dataset = handle["strain/Strain"]
+    strain = np.asarray(dataset[()], dtype=float)
+    attributes = dict(dataset.attrs)
+    if "Xspacing" not in attributes:
+        _fail(f"open-data strain file '{name}' lacks the sample spacing attribute 'Xspacing' of strain/Strain")
+    spacing = float(attributes["Xspacing"])
+    if "Xstart" in attributes:
+        start = float(attributes["Xstart"])
+    elif "meta/GPSstart" in handle:
+        start = float(handle["meta/GPSstart"][()])
+    else:
+        _fail(f"open-data strain file '{name}' gives no start time (attribute 'Xstart' or meta/GPSstart)")
+    if spacing <= 0:
+        _fail(f"open-data strain file '{name}' has a non-positive sample spacing")
+    if "meta/Duration" in handle and abs(float(handle["meta/Duration"][()]) - strain.size * spacing) > spacing:
+        _fail(f"open-data strain file '{name}': meta/Duration disagrees with the number of samples")
+    if "quality/simple/DQmask" in handle:
+        mask = np.asarray(handle["quality/simple/DQmask"][()], dtype=np.int64)
+        missing = int(np.sum((mask & 1) == 0))
+        if missing:
+            logger.warning("open-data strain file '%s': its data-quality mask marks %d of %d seconds without data",
+                           name, missing, mask.size)
+    return strain, 1.0 / spacing, start
+
+
 def read_strain(path: str, channel: str | None = None):
-    """(strain, sampling rate, start time) from HDF5 (dataset 'strain', attributes 'start_time' and
-    'sampling_rate'), two-column text (time, strain), or a frame file with the optional gwpy reader."""
+    """(strain, sampling rate, start time) from HDF5 (the open-data layout ``strain/Strain`` with ``Xspacing`` and
+    ``Xstart``/``meta/GPSstart``, or a dataset 'strain' with attributes 'start_time' and 'sampling_rate'),
+    two-column text (time, strain), or a frame file with the optional gwpy reader."""
     _exists(path, "strain")
     name = os.path.basename(path)
     if path.endswith(".gwf"):
@@ -39,17 +74,20 @@ def read_strain(path: str, channel: str | None = None):
 
         try:
             with h5py.File(path, "r") as handle:
-                if "strain" not in handle:
-                    _fail(f"HDF5 strain file '{name}' has no dataset 'strain'")
-                dataset = handle["strain"]
-                strain = np.asarray(dataset[()], dtype=float)
-                attributes = dict(dataset.attrs) | dict(handle.attrs)
+                if isinstance(handle.get("strain"), h5py.Group):
+                    strain, rate, start = _open_data_strain(handle, name)
+                else:
+                    if "strain" not in handle:
+                        _fail(f"HDF5 strain file '{name}' has no dataset 'strain'")
+                    dataset = handle["strain"]
+                    strain = np.asarray(dataset[()], dtype=float)
+                    attributes = dict(dataset.attrs) | dict(handle.attrs)
+                    for key in ("start_time", "sampling_rate"):
+                        if key not in attributes:
+                            _fail(f"HDF5 strain file '{name}' lacks the attribute '{key}'")
+                    rate, start = float(attributes["sampling_rate"]), float(attributes["start_time"])
         except OSError:
             _fail(f"strain file '{name}' is not a readable HDF5 file")
-        for key in ("start_time", "sampling_rate"):
-            if key not in attributes:
-                _fail(f"HDF5 strain file '{name}' lacks the attribute '{key}'")
-        rate, start = float(attributes["sampling_rate"]), float(attributes["start_time"])
     else:
         table = _read_columns(path, "strain", 2)
         times, strain = table[:, 0], table[:, 1]

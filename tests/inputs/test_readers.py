@@ -54,3 +54,40 @@ def test_welch_psd_of_white_noise_is_flat(tmp_path):
     band = (frequencies > 10) & (frequencies < 200)
     assert np.mean(psd[band]) == pytest.approx(2 * sigma ** 2 / rate, rel=0.03)
     assert "Welch" in note
+
+
+def open_data_file(path, strain, start, spacing, duration=None, mask=None, with_xstart=True):
+    """A synthetic file in the open-data strain layout (strain/Strain with Xspacing and Xstart; meta; quality)."""
+    import h5py
+
+    with h5py.File(path, "w") as handle:
+        dataset = handle.create_dataset("strain/Strain", data=strain)
+        dataset.attrs["Xspacing"] = spacing
+        if with_xstart:
+            dataset.attrs["Xstart"] = start
+        dataset.attrs["Npoints"] = strain.size
+        handle["meta/GPSstart"] = int(start)
+        handle["meta/Duration"] = duration if duration is not None else int(round(strain.size * spacing))
+        handle["meta/Detector"] = b"H1"
+        handle["quality/simple/DQmask"] = mask if mask is not None else np.full(int(strain.size * spacing), 127)
+        handle["quality/simple/DQShortnames"] = [b"DATA", b"CBC_CAT1"]
+
+
+def test_open_data_strain_layout(tmp_path, caplog):
+    # layout of the trade's public strain files (public documentation of the open-data HDF5 format): the strain
+    # in strain/Strain, its spacing and start as attributes, meta and quality groups beside it
+    from memory_infer.inputs.readers import read_strain
+
+    rng = np.random.default_rng(1)
+    strain = rng.normal(size=4096 * 8) * 1e-21
+    open_data_file(tmp_path / "a.hdf5", strain, 1126259446.0, 1 / 4096)
+    values, rate, start = read_strain(str(tmp_path / "a.hdf5"))
+    assert np.array_equal(values, strain) and rate == 4096.0 and start == 1126259446.0
+    open_data_file(tmp_path / "b.hdf5", strain, 1126259446.0, 1 / 4096, with_xstart=False,
+                   mask=np.array([127, 127, 0, 127, 127, 127, 127, 127]))
+    with caplog.at_level("WARNING", logger="memory_infer"):
+        assert read_strain(str(tmp_path / "b.hdf5"))[2] == 1126259446.0  # start from meta/GPSstart
+    assert "marks 1 of 8 seconds without data" in caplog.text
+    open_data_file(tmp_path / "c.hdf5", strain, 1126259446.0, 1 / 4096, duration=32)
+    with pytest.raises(MemoryInferError, match="meta/Duration disagrees"):
+        read_strain(str(tmp_path / "c.hdf5"))
