@@ -2,6 +2,8 @@
 events to a threshold), PP test, fast-against-full calibration."""
 from __future__ import annotations
 
+import os
+
 import numpy as np
 
 from ..inputs.population import truncation_warning
@@ -213,8 +215,6 @@ def forecast(detected, campaign: dict):
 
 def population_reach(config) -> float | None:
     """The redshift range the campaign's population was drawn to (None for an injection table)."""
-    import os
-
     from ..inputs.population import load_population, redshift_reach
 
     campaign = config["campaign"]

@@ -34,12 +34,12 @@ def sample_labels(samples) -> np.ndarray:
     return np.array([index.setdefault(key, len(index)) for key in keys], dtype=int)
 
 
-def log_likelihood_grid(likelihood, samples, amplitudes, progress: bool = False):
+def log_likelihood_grid(likelihood, samples, amplitudes, progress: bool = False, labels=None):
     """``ln L(A) - ln L_noise`` for every sample (rows) and amplitude (columns); NaN for failed waveforms.
-    Identical samples are evaluated once."""
+    Identical samples (``labels``, from :func:`sample_labels` when not given) are evaluated once."""
     amplitudes = np.asarray(amplitudes, dtype=float)
     records = samples.to_dict("records") if hasattr(samples, "to_dict") else list(samples)
-    labels = sample_labels(records)
+    labels = sample_labels(records) if labels is None else np.asarray(labels)
     first = {}
     for i, label in enumerate(labels):
         first.setdefault(int(label), i)
@@ -72,6 +72,12 @@ def log_likelihood_grid(likelihood, samples, amplitudes, progress: bool = False)
     return unique[labels]
 
 
+def _distinct_sums(labels, *weights):
+    """(multiplicity k_j, then the sum of each weight array) per distinct sample j."""
+    _, cluster, counts = np.unique(labels, return_inverse=True, return_counts=True)
+    return (counts, *(np.bincount(cluster, weights=w) for w in weights))
+
+
 def mean_ratio(log_weights: np.ndarray, labels=None):
     """(ln mean w, its Monte-Carlo error, effective sample size) from log weights; NaN entries (failed
     waveforms) are left out; ``labels`` mark identical samples (module docstring)."""
@@ -87,8 +93,7 @@ def mean_ratio(log_weights: np.ndarray, labels=None):
     w = np.where(finite, np.exp(log_weights - top), 0.0)
     mean = w.mean()
     ln_mean = float(np.log(mean) + top)
-    _, cluster, counts = np.unique(labels, return_inverse=True, return_counts=True)
-    sums = np.bincount(cluster, weights=w)
+    counts, sums = _distinct_sums(labels, w)
     distinct = sums.size
     if distinct > 1:
         variance = distinct / (distinct - 1) * np.sum((sums - counts * mean) ** 2) / n ** 2
@@ -117,8 +122,7 @@ def ratio_of_means(log_numerator, log_denominator, labels=None):
     mean_a, mean_b = a.mean(), b.mean()
     ln_ratio = float(np.log(mean_a) + np.max(log_numerator[np.isfinite(log_numerator)])
                      - np.log(mean_b) - np.max(log_denominator[np.isfinite(log_denominator)]))
-    _, cluster, counts = np.unique(labels, return_inverse=True, return_counts=True)
-    sums_a, sums_b = np.bincount(cluster, weights=a), np.bincount(cluster, weights=b)
+    counts, sums_a, sums_b = _distinct_sums(labels, a, b)
     distinct = sums_a.size
     z = (sums_a - counts * mean_a) / mean_a - (sums_b - counts * mean_b) / mean_b
     error = float(np.sqrt(distinct / (distinct - 1) * np.sum(z ** 2)) / n) if distinct > 1 else np.inf
@@ -248,8 +252,8 @@ def reweight(likelihood, samples, base_amplitude: float = 0.0, grid=None, minimu
     from ...inputs.config import grid_with_hypotheses
 
     grid = grid_with_hypotheses(-4.0, 4.0, 81) if grid is None else np.asarray(grid, dtype=float)
-    table = log_likelihood_grid(likelihood, samples, grid, progress=progress)
     labels = sample_labels(samples)
+    table = log_likelihood_grid(likelihood, samples, grid, progress=progress, labels=labels)
     return (estimates_from_table(table, grid, base_amplitude, minimum_effective_samples, labels),
             amplitude_curve(table, grid, base_amplitude, labels))
 
@@ -304,8 +308,8 @@ class Reweighting(EvidenceMethod):
             hypothesis = hypothesis_name(base) if hypothesis_name(base) in HYPOTHESES else "none"
             likelihood, _ = setup.likelihood(hypothesis)
             logger.info("%s: reweighting %d samples drawn under A = %g", state.label, len(frame), base)
-            table = log_likelihood_grid(likelihood, frame, grid, progress=state.progress)
             labels = sample_labels(frame)
+            table = log_likelihood_grid(likelihood, frame, grid, progress=state.progress, labels=labels)
             corrected_curve = None
             if column is not None:
                 source = frame[column].to_numpy(dtype=float)
