@@ -8,11 +8,13 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..common.errors import MemoryInferError
+from ..inputs.calibration import attach_calibration
 from ..inputs.checks import check_samples
-from ..inputs.config import amplitude_grid
+from ..inputs.config import DEFAULT_REFERENCE_FREQUENCY, amplitude_grid
 from ..inputs.event_data import (build_priors, file_detectors, injection_parameters, simulated_detectors,
                                  waveform_arguments)
-from ..inputs.readers import read_sample_settings, read_samples
+from ..inputs.readers import is_release, read_release, read_sample_settings, read_samples
+from ..inputs.samples import usable_samples
 from ..waveform.generator import segment_note, waveform_generator
 from .hypotheses import hypothesis_priors
 from .likelihood import MemoryTransient
@@ -33,6 +35,7 @@ class EventSetup:
     external_samples: object = None  # checked posterior samples from samples_file, if any
     external_settings: dict = field(default_factory=dict)  # how they were drawn, against this run's settings
     notes: list = field(default_factory=list)  # warnings found while preparing (e.g. a segment too short)
+    calibration: list = field(default_factory=list)  # one sentence per detector with a calibration model
 
     def likelihood(self, hypothesis: str, marginalize: bool = True):
         """(likelihood, priors) for a hypothesis, with the configured marginalizations (or none)."""
@@ -60,13 +63,16 @@ class EventSetup:
     def settings_fingerprint(self) -> dict:
         config = self.config
         return {"approximant": config["model"]["approximant"],
+                "reference_frequency": config["model"]["reference_frequency"],
+                "reference_frequency_from": config["model"].get("reference_frequency_from", "configuration"),
                 "early_inspiral_memory": config["model"]["early_inspiral_memory"],
                 "memory_taper": config["model"]["memory_taper"],
                 "minimum_frequency": config["data"]["minimum_frequency"],
                 "distance_marginalization": config["likelihood"]["distance_marginalization"],
                 "time_marginalization": config["likelihood"]["time_marginalization"],
                 "free_amplitude_limits": list(config["evidence"]["free_amplitude_limits"]),
-                "amplitude_grid": [float(x) for x in self.grid]}
+                "amplitude_grid": [float(x) for x in self.grid],
+                "calibration": dict(config["calibration"], detectors=list(self.calibration))}
 
 
 def sampled_columns(priors) -> list:
@@ -81,6 +87,20 @@ def prepare(config: dict) -> EventSetup:
         if method not in REGISTRY:
             raise MemoryInferError(f"unknown method '{method}' in [evidence]; choose from {', '.join(REGISTRY)}")
     data = config["data"]
+    frame = column_settings = path = None
+    file_settings, psds = {}, {}
+    if config["evidence"]["samples_file"]:
+        path = os.path.join(config.get("_directory", "."), config["evidence"]["samples_file"])
+        analysis = config["evidence"]["samples_analysis"]
+        if is_release(path):
+            release = read_release(path, analysis)
+            raw, psds = release["samples"], release["psds"]
+            file_settings = {k: release[k] for k in ("reference_frequency", "waveform_model") if k in release}
+        else:
+            raw = read_samples(path)
+            file_settings = read_sample_settings(path)
+        frame, column_settings = usable_samples(raw)
+    resolve_reference_frequency(config, file_settings, column_settings or {})
     arguments = waveform_arguments(config)
     generator = waveform_generator(float(data["duration"]), float(data["sampling_rate"]), float(data["start_time"]),
                                    arguments)
@@ -95,30 +115,87 @@ def prepare(config: dict) -> EventSetup:
         notes = [f"injection: {note}"] if note else []
         detectors = simulated_detectors(config, injection, generator)
     else:
-        detectors = file_detectors(config)
+        detectors = file_detectors(config, psds, os.path.basename(path) if path else None)
     priors = build_priors(config, injection)
+    check_prior_spins(config["model"]["approximant"], priors)
+    calibration = attach_calibration(config["calibration"], detectors, priors, config.get("_directory", "."))
     setup = EventSetup(config=config, detectors=detectors, generator=generator, priors=priors, injection=injection,
-                       grid=amplitude_grid(config), notes=notes)
-    if config["evidence"]["samples_file"]:
-        path = os.path.join(config.get("_directory", "."), config["evidence"]["samples_file"])
-        frame = read_samples(path)
-        check_samples(frame, sampled_columns(hypothesis_priors(priors, "none")),
-                      f"posterior samples in '{os.path.basename(path)}'")
+                       grid=amplitude_grid(config), notes=notes, calibration=calibration)
+    if frame is not None:
+        required = [name for name in sampled_columns(hypothesis_priors(priors, "none"))
+                    if not name.startswith("recalib_")]  # calibration is drawn from its prior when absent
+        check_samples(frame, required, f"posterior samples in '{os.path.basename(path)}'")
+        check_spin_support(config["model"]["approximant"], frame, f"the posterior samples in "
+                                                                  f"'{os.path.basename(path)}'")
         setup.external_samples = frame
-        setup.external_settings = sample_settings(config, path, frame)
+        setup.external_settings = sample_settings(config, file_settings, frame, column_settings)
     return setup
 
 
-def sample_settings(config: dict, path: str, frame) -> dict:
+def resolve_reference_frequency(config: dict, file_settings: dict, column_settings: dict) -> None:
+    """``[model] reference_frequency`` when given; else the samples file's own (its metadata, then its columns);
+    else 20 Hz. The choice and its source are recorded in ``config["model"]["reference_frequency_from"]``."""
+    model = config["model"]
+    if model["reference_frequency"] is not None:
+        model["reference_frequency_from"] = "configuration"
+    elif file_settings.get("reference_frequency") is not None:
+        model["reference_frequency"] = float(file_settings["reference_frequency"])
+        model["reference_frequency_from"] = "the samples file's metadata"
+    elif column_settings.get("reference_frequency") is not None:
+        model["reference_frequency"] = float(column_settings["reference_frequency"])
+        model["reference_frequency_from"] = "the samples file's columns"
+    else:
+        model["reference_frequency"] = DEFAULT_REFERENCE_FREQUENCY
+        model["reference_frequency_from"] = "default"
+
+
+def check_prior_spins(approximant: str, priors) -> None:
+    """One sentence when the priors sample spin tilts of a non-zero spin but the model takes aligned spins only."""
+    from ..waveform.models import takes_precessing_spins
+
+    def free(name):
+        prior = priors.get(name)
+        return prior is not None and not getattr(prior, "is_fixed", False) and type(prior).__name__ != "Constraint"
+
+    for i in ("1", "2"):
+        spin = priors.get(f"a_{i}")
+        spinning = free(f"a_{i}") or (spin is not None and getattr(spin, "is_fixed", False) and spin.peak > 0)
+        if spinning and (free(f"tilt_{i}") or free("phi_12") or free("phi_jl")) \
+                and not takes_precessing_spins(approximant):
+            raise MemoryInferError(f"the [priors] sample precessing spins (a_{i} with free tilts or azimuths), but "
+                                   f"the model '{approximant}' takes aligned spins only; set [model] approximant to "
+                                   "a precessing model such as IMRPhenomTPHM")
+
+
+def check_spin_support(approximant: str, values, where: str) -> None:
+    """One sentence when ``values`` (a table or priors' samples) hold in-plane spins the model cannot take."""
+    from ..waveform.models import takes_precessing_spins
+
+    in_plane = 0.0
+    for i in ("1", "2"):
+        if f"a_{i}" in values and f"tilt_{i}" in values:
+            in_plane = max(in_plane, float(np.max(np.abs(np.asarray(values[f"a_{i}"], float)
+                                                        * np.sin(np.asarray(values[f"tilt_{i}"], float))))))
+    if in_plane > 1e-6 and not takes_precessing_spins(approximant):
+        raise MemoryInferError(f"{where} hold precessing spins (in-plane spin up to {in_plane:.2g}), but the model "
+                               f"'{approximant}' takes aligned spins only; set [model] approximant to a precessing "
+                               "model such as IMRPhenomTPHM")
+
+
+def sample_settings(config: dict, file_settings: dict, frame, column_settings: dict | None = None) -> dict:
     """How outside samples were drawn (configuration keys first, then the file's metadata) against this run, and
     which column holds their own log-likelihood (None when absent: no proposal correction, no mismatch check)."""
     evidence, model = config["evidence"], config["model"]
-    metadata = read_sample_settings(path)
+    metadata = {key: (value, "file metadata") for key, value in file_settings.items()}
+    columns = column_settings or {}
+    for key, column in (("reference_frequency", "reference_frequency"), ("waveform_model", "waveform_approximant")):
+        if key not in metadata and column in columns:
+            metadata[key] = (columns[column], "file columns")
     out = {}
     for key, ours in (("reference_frequency", float(model["reference_frequency"])),
                       ("waveform_model", model["approximant"])):
         given = evidence[f"samples_{key}"]
-        theirs, source = (given, "configuration") if given is not None else (metadata.get(key), "file metadata")
+        theirs, source = (given, "configuration") if given is not None else metadata.get(key, (None, None))
         out[key] = {"samples": theirs, "this_run": ours, "from": source if theirs is not None else "not given",
                     "differs": None if theirs is None else theirs != ours}
     column = evidence["samples_log_likelihood"] or None

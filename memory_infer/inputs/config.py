@@ -27,7 +27,7 @@ EVIDENCE_SCHEMA = {
     },
     "injection": {"*": (NUMBER, None)},
     "model": {
-        "approximant": (str, "IMRPhenomTHM"), "reference_frequency": (NUMBER, 20.0),
+        "approximant": (str, "IMRPhenomTHM"), "reference_frequency": (NUMBER, None),
         "minimum_frequency": (NUMBER, None), "early_inspiral_memory": (bool, True),
         "memory_taper": (NUMBER, 1.0), "modes": (list, None),
     },
@@ -44,9 +44,15 @@ EVIDENCE_SCHEMA = {
         "free_amplitude_limits": (list, [-5.0, 5.0]), "minimum_effective_samples": (NUMBER, 50.0),
         "max_reweight_samples": (int, 2000), "samples_log_likelihood": (str, "log_likelihood"),
         "samples_reference_frequency": (NUMBER, None), "samples_waveform_model": (str, None),
-        "mismatch_threshold": (NUMBER, 0.1),
+        "mismatch_threshold": (NUMBER, 0.1), "samples_analysis": (str, None),
+    },
+    "calibration": {
+        "kind": (str, "none"), "amplitude_sigma": (NUMBER, 0.0), "phase_sigma": (NUMBER, 0.0),
+        "envelope_files": (dict, {}), "correction_type": (str, "data"), "spline_nodes": (int, 10),
+        "minimum_frequency": (NUMBER, None), "maximum_frequency": (NUMBER, None),
     },
 }
+DEFAULT_REFERENCE_FREQUENCY = 20.0  # Hz, when neither the configuration nor the samples file gives one
 PHASE_REFUSAL = ("analytic phase marginalization is not valid with memory and higher modes (the memory "
                  "does not change by an overall phase); sample the phase instead")
 
@@ -125,7 +131,22 @@ def load_evidence_config(path: str) -> dict:
         raise MemoryInferError("key 'free_amplitude_limits' in [evidence] must be [negative, positive]")
     if config["likelihood"]["phase_marginalization"]:
         raise MemoryInferError(PHASE_REFUSAL)
+    check_calibration(config["calibration"])
     return config
+
+
+def check_calibration(settings: dict) -> None:
+    """One sentence for a bad [calibration] section."""
+    if settings["kind"] not in ("none", "constant", "envelope"):
+        raise MemoryInferError("key 'kind' in [calibration] must be 'none', 'constant' or 'envelope'")
+    if settings["amplitude_sigma"] < 0 or settings["phase_sigma"] < 0:
+        raise MemoryInferError("keys 'amplitude_sigma' and 'phase_sigma' in [calibration] must not be negative")
+    if settings["spline_nodes"] < 4:
+        raise MemoryInferError("key 'spline_nodes' in [calibration] must be at least 4 (a cubic spline)")
+    if settings["correction_type"] not in ("data", "template"):
+        raise MemoryInferError("key 'correction_type' in [calibration] must be 'data' or 'template'")
+    if settings["kind"] == "envelope" and not settings["envelope_files"]:
+        raise MemoryInferError("[calibration] of kind 'envelope' needs envelope_files = { DETECTOR = \"file\" }")
 
 
 def amplitude_grid(config: dict):

@@ -7,6 +7,7 @@ import os
 import numpy as np
 
 from ..common.errors import MemoryInferError
+from .config import DEFAULT_REFERENCE_FREQUENCY
 from .checks import SOURCE_PARAMETERS, ZERO_DEFAULTS, check_physical
 from .detectors import NOISE_CURVES, noise_curve_path
 
@@ -17,7 +18,7 @@ def waveform_arguments(config: dict) -> dict:
     model, data = config["model"], config["data"]
     arguments = {
         "waveform_approximant": model["approximant"],
-        "reference_frequency": float(model["reference_frequency"]),
+        "reference_frequency": float(model["reference_frequency"] or DEFAULT_REFERENCE_FREQUENCY),
         "minimum_frequency": float(model["minimum_frequency"] or data["minimum_frequency"]),
         "early_inspiral_memory": bool(model["early_inspiral_memory"]),
         "memory_taper_duration": float(model["memory_taper"]),
@@ -91,8 +92,11 @@ def build_priors(config: dict, injection: dict | None):
     for name, spec in specs.items():
         priors[name] = _prior(name, spec, injection)
     has_masses = ("mass_1" in priors and "mass_2" in priors) or ("chirp_mass" in priors and "mass_ratio" in priors)
+    aligned = {f"{kind}_{i}" for i in ("1", "2") if f"chi_{i}" in priors for kind in ("a", "tilt")}
     for name in SOURCE_PARAMETERS:
         if name in priors or (name in ("mass_1", "mass_2") and has_masses):
+            continue
+        if name in aligned:  # aligned spin chi_i sampled: a fixed a_i would override it in bilby's conversion
             continue
         if injection is not None and name in injection:
             priors[name] = bilby.core.prior.DeltaFunction(injection[name], name=name)
@@ -148,18 +152,19 @@ def simulated_detectors(config: dict, injection: dict, generator):
     return detectors
 
 
-def file_detectors(config: dict):
-    """Strain and PSD per detector from files named in ``[data.files.NAME]``."""
+def file_detectors(config: dict, sample_psds: dict | None = None, samples_name: str | None = None):
+    """Strain and PSD per detector from files named in ``[data.files.NAME]``; ``psd_from_samples = true`` takes
+    the detector's PSD from the samples file (a catalog release's ``psds`` group, ``sample_psds``)."""
     data = config["data"]
     return detectors_from_files(data["files"], float(data["sampling_rate"]), float(data["duration"]),
                                 float(data["start_time"]), float(data["minimum_frequency"]),
                                 data["maximum_frequency"], float(data["window_roll_off"]),
-                                config.get("_directory", "."))
+                                config.get("_directory", "."), sample_psds or {}, samples_name)
 
 
 def detectors_from_files(files: dict, sampling_rate: float, duration: float, start_time: float,
                          minimum_frequency: float, maximum_frequency: float | None = None, roll_off: float = 0.2,
-                         directory: str = "."):
+                         directory: str = ".", sample_psds: dict | None = None, samples_name: str | None = None):
     """bilby interferometers with strain and PSD read from files, checked against the segment.
 
     ``files`` maps a detector name to ``{"strain": path, "psd": path}`` (or ``"psd_from_strain"``: off-source
@@ -191,7 +196,15 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
         detector.strain_data.roll_off = float(roll_off)
         detector.strain_data.set_from_time_domain_strain(strain, sampling_frequency=rate, duration=duration,
                                                          start_time=start)
-        if "psd" in entry:
+        if entry.get("psd_from_samples"):
+            if detector.name not in (sample_psds or {}):
+                where = f"the samples file '{samples_name}'" if samples_name else "no samples file"
+                raise MemoryInferError(f"[data.files.{detector.name}] takes its PSD from the samples file, but "
+                                       f"{where} holds no PSD for {detector.name}")
+            table = sample_psds[detector.name]
+            keep = table[:, 1] > 0
+            frequencies, psd = table[keep, 0], table[keep, 1]
+        elif "psd" in entry:
             frequencies, psd = read_psd(os.path.join(directory, entry["psd"]))
         elif "psd_from_strain" in entry:
             frequencies, psd, note = welch_psd(os.path.join(directory, entry["psd_from_strain"]), rate,
@@ -199,7 +212,8 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
                                                float(entry.get("welch_overlap", 0.5)), entry.get("channel"))
             logger.info("%s: %s", detector.name, note)
         else:
-            raise MemoryInferError(f"[data.files.{detector.name}] needs a 'psd' file or 'psd_from_strain'")
+            raise MemoryInferError(f"[data.files.{detector.name}] needs a 'psd' file, 'psd_from_strain' or "
+                                   "'psd_from_samples = true'")
         detector.power_spectral_density = bilby.gw.detector.PowerSpectralDensity(
             frequency_array=frequencies, psd_array=psd)
         detector.minimum_frequency = float(minimum_frequency)

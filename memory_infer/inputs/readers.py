@@ -145,9 +145,110 @@ def welch_psd(path: str, sampling_rate: float, segment: float, overlap: float, c
     return frequencies[keep], psd[keep], note
 
 
-def read_sample_settings(path: str) -> dict:
+# ---------------------------------------------------------------- catalog posterior releases
+
+RELEASE_SAMPLES = "posterior_samples"
+RELEASE_REFERENCE = ("meta_data/meta_data/f_ref", "meta_data/f_ref", "config_file/config/reference-frequency",
+                     "config_file/config/reference_frequency", "config_file/engine/fref")
+RELEASE_MODEL = ("approximant", "meta_data/meta_data/approximant", "config_file/config/waveform-approximant",
+                 "config_file/config/waveform_approximant", "config_file/engine/approx")
+
+
+def release_analyses(handle) -> list:
+    """The analyses of a catalog release file: top-level groups holding a ``posterior_samples`` table."""
+    import h5py
+
+    return [name for name, node in handle.items() if isinstance(node, h5py.Group) and RELEASE_SAMPLES in node]
+
+
+def is_release(path: str) -> bool:
+    if not path.endswith((".h5", ".hdf5", ".hdf")):
+        return False
+    import h5py
+
+    try:
+        with h5py.File(path, "r") as handle:
+            return bool(release_analyses(handle))
+    except OSError:
+        return False
+
+
+def _scalar_text(value):
+    """A dataset's value as one number or string (releases store both, often as 1-element byte arrays)."""
+    value = np.asarray(value).ravel()
+    if value.size == 0:
+        return None
+    item = value[0]
+    if isinstance(item, bytes):
+        item = item.decode()
+    if isinstance(item, str):
+        try:
+            return float(item)
+        except ValueError:
+            return item.strip()
+    return float(item) if np.isreal(item) else None
+
+
+def _release_group(handle, name: str, analysis: str | None):
+    analyses = release_analyses(handle)
+    if analysis is None:
+        if len(analyses) != 1:
+            _fail(f"catalog release '{name}' holds {len(analyses)} analyses ({', '.join(analyses)}); choose one with "
+                  "[evidence] samples_analysis")
+        analysis = analyses[0]
+    if analysis not in analyses:
+        _fail(f"catalog release '{name}' has no analysis '{analysis}'; it holds {', '.join(analyses)}")
+    return handle[analysis], analysis
+
+
+def read_release(path: str, analysis: str | None = None) -> dict:
+    """One analysis of a catalog posterior release (HDF5: a group per analysis with a structured
+    ``posterior_samples`` table, a ``psds`` group of two-column arrays per detector, and the configuration and
+    metadata that produced them): its samples, PSDs, reference frequency and waveform model."""
+    import h5py
+    import pandas as pd
+
+    _exists(path, "posterior samples")
+    name = os.path.basename(path)
+    try:
+        with h5py.File(path, "r") as handle:
+            group, analysis = _release_group(handle, name, analysis)
+            table = group[RELEASE_SAMPLES]
+            if isinstance(table, h5py.Dataset) and table.dtype.names:
+                data = table[()]
+                frame = pd.DataFrame({field: np.asarray(data[field]) for field in table.dtype.names})
+            elif isinstance(table, h5py.Group):
+                frame = pd.DataFrame({k: np.asarray(v[()]) for k, v in table.items() if isinstance(v, h5py.Dataset)})
+            else:
+                _fail(f"catalog release '{name}': {analysis}/{RELEASE_SAMPLES} is not a table of named columns")
+            psds = {}
+            if isinstance(group.get("psds"), h5py.Group):
+                for detector, dataset in group["psds"].items():
+                    values = np.asarray(dataset[()], dtype=float)
+                    if values.ndim == 2 and values.shape[1] == 2:
+                        psds[detector] = values
+            found = {}
+            for key, places in (("reference_frequency", RELEASE_REFERENCE), ("waveform_model", RELEASE_MODEL)):
+                for place in places:
+                    if place in group and isinstance(group[place], h5py.Dataset):
+                        value = _scalar_text(group[place][()])
+                        if value is not None:
+                            found[key] = float(value) if key == "reference_frequency" else str(value)
+                            break
+    except OSError:
+        _fail(f"catalog release '{name}' is not a readable HDF5 file")
+    if frame.empty:
+        _fail(f"catalog release '{name}': analysis '{analysis}' holds no samples")
+    return {"samples": frame, "psds": psds, "analysis": analysis, **found}
+
+
+def read_sample_settings(path: str, analysis: str | None = None) -> dict:
     """The reference frequency and waveform model the samples were drawn with, from a bilby result file's
-    metadata (``meta_data/likelihood/waveform_arguments`` in JSON or HDF5); empty when the file does not say."""
+    metadata (``meta_data/likelihood/waveform_arguments`` in JSON or HDF5) or a catalog release's analysis; empty
+    when the file does not say."""
+    if is_release(path):
+        release = read_release(path, analysis)
+        return {k: release[k] for k in ("reference_frequency", "waveform_model") if k in release}
     try:
         if path.endswith(".json"):
             with open(path) as handle:
@@ -174,15 +275,20 @@ def read_sample_settings(path: str) -> dict:
     return found
 
 
-def read_samples(path: str):
-    """Posterior samples as a pandas DataFrame from CSV, JSON (bilby result or a plain table) or HDF5."""
+def read_samples(path: str, analysis: str | None = None):
+    """Posterior samples as a pandas DataFrame from CSV, whitespace-separated text with a header (bilby's
+    ``*_posterior_samples.dat``), JSON (bilby result or a plain table) or HDF5 (bilby result, or a table)."""
     import pandas as pd
 
     _exists(path, "posterior samples")
     name = os.path.basename(path)
+    if is_release(path):
+        return read_release(path, analysis)["samples"]
     try:
         if path.endswith(".csv"):
             frame = pd.read_csv(path)
+        elif path.endswith((".dat", ".txt")):
+            frame = pd.read_csv(path, sep=r"\s+")
         elif path.endswith(".json"):
             with open(path) as handle:
                 content = json.load(handle)
@@ -200,7 +306,7 @@ def read_samples(path: str):
                 else:
                     frame = pd.DataFrame({k: np.asarray(v[()]) for k, v in group.items() if isinstance(v, h5py.Dataset)})
         else:
-            _fail(f"posterior samples file '{name}' must end in .csv, .json or .h5")
+            _fail(f"posterior samples file '{name}' must end in .csv, .dat, .txt, .json, .h5 or .hdf5")
     except (ValueError, OSError, KeyError, json.JSONDecodeError):
         _fail(f"posterior samples file '{name}' could not be read as a table")
     if frame.empty:

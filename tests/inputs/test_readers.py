@@ -1,3 +1,4 @@
+import json
 import h5py
 import numpy as np
 import pandas as pd
@@ -28,8 +29,8 @@ def test_bad_files_are_one_sentence(tmp_path):
     with pytest.raises(MemoryInferError, match="no dataset 'strain'"):
         read_strain(str(tmp_path / "no.h5"))
     with pytest.raises(MemoryInferError, match="must end in"):
-        (tmp_path / "x.dat").write_text("1")
-        read_samples(str(tmp_path / "x.dat"))
+        (tmp_path / "x.npy").write_text("1")
+        read_samples(str(tmp_path / "x.npy"))
 
 
 def test_samples_from_csv_json_and_hdf5(tmp_path):
@@ -91,3 +92,138 @@ def test_open_data_strain_layout(tmp_path, caplog):
     open_data_file(tmp_path / "c.hdf5", strain, 1126259446.0, 1 / 4096, duration=32)
     with pytest.raises(MemoryInferError, match="meta/Duration disagrees"):
         read_strain(str(tmp_path / "c.hdf5"))
+
+
+# ---------------------------------------------------------------- catalog posterior releases
+
+def write_release(path, analyses=("C01:IMRPhenomTHM", "C01:IMRPhenomTPHM"), reference="15.0", samples=40):
+    """A synthetic catalog release with the public layout: one group per analysis holding a structured
+    ``posterior_samples`` table, a ``psds`` group (frequency, PSD per detector), the configuration that produced it
+    (``config_file/config`` with byte-string values) and ``meta_data``; invented values."""
+    import h5py
+
+    rng = np.random.default_rng(4)
+    names = ["mass_1", "mass_2", "luminosity_distance", "theta_jn", "psi", "phase", "ra", "dec", "geocent_time",
+             "a_1", "a_2", "tilt_1", "tilt_2", "phi_12", "phi_jl", "log_likelihood", "chirp_mass"]
+    with h5py.File(path, "w") as handle:
+        handle.create_dataset("version/pesummary", data=np.array([b"0.0"]))  # what releases carry beside analyses
+        for k, analysis in enumerate(analyses):
+            table = np.zeros(samples, dtype=[(n, "<f8") for n in names])
+            table["mass_1"], table["mass_2"] = 36 + rng.normal(0, 0.5, samples), 29 + rng.normal(0, 0.5, samples)
+            table["luminosity_distance"] = 400 + rng.normal(0, 20, samples)
+            for n, v in (("theta_jn", 1.0), ("psi", 0.3), ("phase", 0.5), ("ra", 1.0), ("dec", 0.2),
+                         ("geocent_time", 1e9 + 2.0)):
+                table[n] = v
+            table["log_likelihood"] = rng.normal(100, 1, samples)
+            table["chirp_mass"] = (table["mass_1"] * table["mass_2"]) ** 0.6 / (table["mass_1"] + table["mass_2"]) ** 0.2
+            group = handle.create_group(analysis)
+            group.create_dataset("posterior_samples", data=table)
+            frequencies = np.linspace(10, 600, 1200)
+            for detector in ("H1", "L1"):
+                group.create_dataset(f"psds/{detector}", data=np.column_stack([frequencies,
+                                                                                np.full(frequencies.size, 1e-46 * (k + 1))]))
+            group.create_dataset("config_file/config/reference-frequency", data=np.array([reference.encode()]))
+            group.create_dataset("meta_data/meta_data/approximant", data=np.array([analysis.split(":")[1].encode()]))
+            group.create_dataset("approximant", data=np.array([analysis.split(":")[1].encode()]))
+    return path
+
+
+def test_release_reader_takes_the_analysis_its_psds_and_settings(tmp_path):
+    from memory_infer.common.errors import MemoryInferError
+    from memory_infer.inputs.readers import read_release, read_samples
+
+    path = write_release(tmp_path / "release.h5")
+    release = read_release(str(path), "C01:IMRPhenomTPHM")
+    assert release["analysis"] == "C01:IMRPhenomTPHM" and len(release["samples"]) == 40
+    assert release["reference_frequency"] == 15.0 and release["waveform_model"] == "IMRPhenomTPHM"
+    assert sorted(release["psds"]) == ["H1", "L1"] and release["psds"]["H1"][0, 1] == 2e-46
+    with pytest.raises(MemoryInferError, match="holds 2 analyses .*samples_analysis"):
+        read_samples(str(path))
+    with pytest.raises(MemoryInferError, match="no analysis 'C02:Other'; it holds C01:IMRPhenomTHM"):
+        read_release(str(path), "C02:Other")
+    single = write_release(tmp_path / "single.h5", analyses=("C01:IMRPhenomTHM",))
+    assert read_release(str(single))["analysis"] == "C01:IMRPhenomTHM"
+
+
+def test_release_drives_an_evidence_run_with_its_psds_and_reference_frequency(tmp_path, capsys):
+    """Strain from an open-data-layout HDF5 file, samples, PSD and reference frequency from one analysis of a
+    release: the run takes 15 Hz from the file (said so), the PSD is the release's, and reweighting runs."""
+    import h5py
+
+    from memory_infer.cli import main
+
+    write_release(tmp_path / "release.h5")
+    rate, duration, start = 1024.0, 4.0, 1e9
+    with h5py.File(tmp_path / "H1.hdf5", "w") as handle:
+        handle.create_dataset("strain/Strain", data=np.random.default_rng(0).normal(0, 1e-23, int(rate * duration)))
+        handle["strain/Strain"].attrs["Xspacing"] = 1 / rate
+        handle["strain/Strain"].attrs["Xstart"] = start
+    (tmp_path / "release.toml").write_text(f"""
+[event]
+label = "release-event"
+[data]
+kind = "files"
+duration = {duration}
+sampling_rate = {rate}
+start_time = {start}
+[data.files.H1]
+strain = "H1.hdf5"
+psd_from_samples = true
+[priors]
+mass_1 = {{ kind = "uniform", minimum = 30.0, maximum = 42.0 }}
+mass_2 = {{ kind = "uniform", minimum = 24.0, maximum = 34.0 }}
+luminosity_distance = {{ kind = "uniform", minimum = 100.0, maximum = 2000.0 }}
+theta_jn = 1.0
+phase = 0.5
+ra = 1.0
+dec = 0.2
+psi = 0.3
+geocent_time = 1000000002.0
+[evidence]
+methods = ["reweighting"]
+samples_file = "release.h5"
+samples_analysis = "C01:IMRPhenomTHM"
+minimum_effective_samples = 5
+""")
+    assert main(["evidence", str(tmp_path / "release.toml"), "--outdir", str(tmp_path / "out"), "--quiet"]) == 0
+    record = json.loads((tmp_path / "out" / "evidence.json").read_text())
+    assert record["settings"]["reference_frequency"] == 15.0
+    assert record["settings"]["reference_frequency_from"] == "the samples file's metadata"
+    check = next(iter(record["sample_checks"].values()))
+    assert check["reference_frequency"]["differs"] is False and check["waveform_model"]["samples"] == "IMRPhenomTHM"
+    assert len([m for m in record["methods"] if m["family"] == "reweighting"]) == 2
+
+
+def test_release_without_the_detectors_psd_gets_one_sentence(tmp_path, capsys):
+    from memory_infer.cli import main
+
+    write_release(tmp_path / "release.h5", analyses=("C01:IMRPhenomTHM",))
+    np.savetxt(tmp_path / "V1.txt", np.column_stack([1e9 + np.arange(4096) / 1024, np.zeros(4096)]))
+    (tmp_path / "v.toml").write_text("""
+[event]
+label = "v"
+[data]
+kind = "files"
+duration = 4.0
+sampling_rate = 1024.0
+start_time = 1e9
+[data.files.V1]
+strain = "V1.txt"
+psd_from_samples = true
+[priors]
+mass_1 = 36.0
+mass_2 = 29.0
+luminosity_distance = 400.0
+theta_jn = 1.0
+phase = 0.5
+ra = 1.0
+dec = 0.2
+psi = 0.3
+geocent_time = 1000000002.0
+[evidence]
+methods = ["reweighting"]
+samples_file = "release.h5"
+""")
+    assert main(["evidence", str(tmp_path / "v.toml"), "--outdir", str(tmp_path / "out")]) != 0
+    error = capsys.readouterr().err
+    assert "holds no PSD for V1" in error and "Traceback" not in error

@@ -18,6 +18,7 @@ import logging
 import numpy as np
 
 from ...common.errors import MemoryInferError, WaveformError
+from ...inputs.calibration import calibration_names, draw_calibration
 from ...results.estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, grid_index, prior_on_grid, sign_weight
 from ..hypotheses import HYPOTHESES, hypothesis_name
 from .base import EvidenceMethod, RunState, fixed_values
@@ -45,7 +46,8 @@ def log_likelihood_grid(likelihood, samples, amplitudes, progress: bool = False,
         first.setdefault(int(label), i)
     fixed = fixed_values(likelihood.priors)
     unique = np.empty((len(first), amplitudes.size))
-    failures = 0
+    failures = raised = 0
+    generator = likelihood.waveform_generator
     iterator = sorted(first.items())
     if progress:
         from tqdm import tqdm
@@ -59,15 +61,20 @@ def log_likelihood_grid(likelihood, samples, amplitudes, progress: bool = False,
             # own time (reconstructed, or from another run) would shift every grid time by the difference
             point["geocent_time"] = float(likelihood.interferometers.start_time)
             point.setdefault("time_jitter", 0.0)
+        caught = getattr(generator, "failures", 0)
         try:
             unique[label] = likelihood.log_likelihood_ratio_curve(point, amplitudes)
         except WaveformError:
             unique[label] = np.nan
             failures += 1
+            raised += 1
+        else:
+            if getattr(generator, "failures", 0) > caught:  # the generator caught it and returned no waveform
+                unique[label] = np.nan
+                failures += 1
     if failures:
-        generator = likelihood.waveform_generator
         if hasattr(generator, "failures"):
-            generator.failures += failures
+            generator.failures += raised
         logger.warning("%d of %d distinct samples had a failed waveform and are left out", failures, len(first))
     return unique[labels]
 
@@ -184,6 +191,8 @@ def reweighting_estimate(log_likelihoods, amplitudes, base_amplitude: float, num
 
 
 PROPOSAL = "importance reweighting with the proposal correction (the samples' own likelihood)"
+CALIBRATION_DRAWN = ("importance reweighting, calibration drawn per sample from its prior, with the proposal "
+                     "correction by ")
 
 
 def proposal_corrected(table, source, grid, minimum_effective_samples: float, labels=None):
@@ -309,13 +318,35 @@ class Reweighting(EvidenceMethod):
             likelihood, _ = setup.likelihood(hypothesis)
             logger.info("%s: reweighting %d samples drawn under A = %g", state.label, len(frame), base)
             labels = sample_labels(frame)
-            table = log_likelihood_grid(likelihood, frame, grid, progress=state.progress, labels=labels)
+            missing = [n for n in calibration_names(likelihood.priors) if n not in frame.columns]
+            nominal = None
+            if missing:  # samples without calibration parameters: one draw per sample from the prior
+                frame = frame.assign(**draw_calibration({n: likelihood.priors[n] for n in missing}, len(frame),
+                                                        seed))
+                nominal = log_likelihood_grid(likelihood, frame.drop(columns=missing), [base], labels=labels)[:, 0]
+                table = log_likelihood_grid(likelihood, frame, grid, progress=state.progress,
+                                            labels=np.arange(len(frame)))
+            else:
+                table = log_likelihood_grid(likelihood, frame, grid, progress=state.progress, labels=labels)
             corrected_curve = None
-            if column is not None:
-                source = frame[column].to_numpy(dtype=float)
+            if column is not None or nominal is not None:
+                source = frame[column].to_numpy(dtype=float) if column is not None else nominal
                 estimates, corrected_curve = proposal_corrected(table, source, grid, minimum, labels)
-                self._check_file_samples(state, name, table[:, grid_index(grid, base, exact=False)], source,
-                                         likelihood.noise_log_likelihood())
+                if nominal is not None:
+                    for estimate in estimates:
+                        estimate.method = CALIBRATION_DRAWN + ("the samples' own likelihood" if column
+                                                               else "this run's likelihood at nominal calibration")
+                        corrected_curve.method = estimates[0].method
+                if column is not None:
+                    recomputed = nominal if nominal is not None else table[:, grid_index(grid, base, exact=False)]
+                    self._check_file_samples(state, name, recomputed, source, likelihood.noise_log_likelihood())
+                if missing:
+                    state.result.sample_checks.setdefault(name, dict(setup.external_settings, mismatch=None))[
+                        "calibration"] = (f"{len(missing)} calibration parameters drawn per sample from their prior "
+                                          "(the samples carry none); proposal correction against the samples at "
+                                          "nominal calibration")
+                    state.warn(f"{state.label}: samples [{name}] carry no calibration parameters: drawn per sample "
+                               "from the calibration prior, Bayes factors by the proposal correction")
             else:
                 estimates = estimates_from_table(table, grid, base, minimum, labels)
                 if name.startswith("file"):

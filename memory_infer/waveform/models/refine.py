@@ -34,6 +34,7 @@ QUIET_AMPLITUDE = 1e-3  # samples where the (2, +-2) mode is below this fraction
 MAX_LEVELS = 8  # levels at most
 LEVEL_FACTOR = 4  # each level's step is a quarter of the one before: fewer model calls, each call's set-up dominates
 PRECESSING_STEP = 0.35  # in M: resolves a (2, 2) ringdown up to M omega = 0.85 within PHASE_STEP_LIMIT
+PRECESSING_SAMPLES = 1_000_000  # longer full-length precessing levels are refused: ~1 GB and ~9 s at the limit
 
 
 def dominant_phase_step(series: ModeSeries) -> np.ndarray:
@@ -104,6 +105,11 @@ def finer_levels(series: ModeSeries, generate, minimum_frequency: float, referen
         if not series.aligned_spins:  # full length each time: jump straight to a step of about 0.35 M
             while delta_t > PRECESSING_STEP * series.mass_seconds:
                 delta_t /= 2
+            samples = series.times.size * series.delta_t / delta_t
+            if samples > PRECESSING_SAMPLES:
+                raise WaveformError(f"this precessing binary needs {samples:.2g} samples at the merger's step over "
+                                    f"its whole length (limit {PRECESSING_SAMPLES:.0e}); raise [model] "
+                                    "minimum_frequency to shorten it")
             fine = generate(delta_t, minimum_frequency, reference_frequency)
         else:
             fine = _later_start(series, generate, delta_t, max(minimum_frequency, START_FRACTION * join_frequency),

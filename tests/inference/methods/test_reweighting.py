@@ -178,6 +178,10 @@ def test_proposal_correction_and_mismatch_on_outside_samples(tmp_path):
     base = event_config(tmp_path, name="ours.toml", detectors='["H1", "L1"]', noise_curve="ligo-design",
                         noise="gaussian", seed=11, distance=1500.0, priors=priors, live_points=60,
                         methods='["nested", "reweighting"]', hypotheses='["memory", "none"]')
+    with open(base) as handle:  # the analyst's own reference frequency: set, so the samples' 15 Hz is not adopted
+        text = handle.read().replace('approximant = "IMRPhenomTHM"', 'approximant = "IMRPhenomTHM"\nreference_frequency = 20.0')
+    with open(base, "w") as handle:
+        handle.write(text)
     quadrupole, outside = _outside_run(base, tmp_path, 20.0, [(2, 2), (2, -2)])
     assert "log_likelihood" in outside.posterior.columns
     result = run_event(prepare(load_evidence_config(_use_samples(base, quadrupole))), str(tmp_path / "ours"),
@@ -268,3 +272,33 @@ def test_time_marginalized_reweighting_equals_unmarginalized(tmp_path):
         print(numerator, a["ln_bf"], a["ln_bf_err"], b["ln_bf"], b["ln_bf_err"])
         assert a["reliable"] and b["reliable"]
         assert abs(a["ln_bf"] - b["ln_bf"]) < 3 * np.hypot(a["ln_bf_err"], b["ln_bf_err"])
+
+
+def test_a_waveform_the_generator_caught_is_left_out_too():
+    """With catch_waveform_errors the generator returns no waveform (the curve is -inf) and counts the failure:
+    the sample is NaN in the table, left out of n like a raised failure, and counted once."""
+    import pandas as pd
+
+    from memory_infer.inference.methods.reweighting import log_likelihood_grid, mean_ratio
+
+    class Generator:
+        failures = 0
+
+    class Catching:
+        priors, time_marginalization = {}, False
+
+        def __init__(self):
+            self.waveform_generator = Generator()
+
+        def log_likelihood_ratio_curve(self, point, amplitudes):
+            if point["x"] < 0:
+                self.waveform_generator.failures += 1
+                return np.full(len(amplitudes), -np.inf)
+            return point["x"] * np.asarray(amplitudes)
+
+    likelihood = Catching()
+    table = log_likelihood_grid(likelihood, pd.DataFrame({"x": [0.1, -1.0, 0.3]}), np.array([0.0, 1.0]))
+    assert np.isnan(table[1]).all() and np.isfinite(table[[0, 2]]).all()
+    assert likelihood.waveform_generator.failures == 1
+    ln_bf, _, _ = mean_ratio(table[:, 1] - table[:, 0])
+    assert ln_bf == pytest.approx(np.log(np.mean(np.exp([0.1, 0.3]))), rel=1e-12)
