@@ -25,3 +25,19 @@ def test_each_problem_is_one_sentence(tmp_path, extra, message):
     path = event_config(tmp_path, evidence_extra=extra)
     with pytest.raises(MemoryInferError, match=message):
         load_evidence_config(path)
+
+
+def test_the_readme_input_example_is_a_valid_configuration(tmp_path):
+    """The README's minimal configuration for published samples on open data passes the schema as printed."""
+    import os
+
+    from memory_infer.inputs.config import load_evidence_config
+
+    readme = open(os.path.join(os.path.dirname(__file__), "..", "..", "README.md")).read()
+    block = readme.split("A minimal configuration for published samples")[1].split("```toml")[1].split("```")[0]
+    path = tmp_path / "example.toml"
+    path.write_text(block)
+    config = load_evidence_config(str(path))
+    assert config["evidence"]["samples_analysis"] == "C01:IMRPhenomTHM"
+    assert config["data"]["files"]["L1"]["psd_from_samples"] is True
+    assert config["calibration"]["kind"] == "constant" and config["model"]["reference_frequency"] is None
