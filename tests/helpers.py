@@ -3,6 +3,13 @@ import json
 import os
 import sqlite3
 
+FIXED_SKY_AND_TIME = """theta_jn = 1.0
+phase = 0.5
+ra = 1.0
+dec = 0.2
+psi = 0.3
+geocent_time = 1000000002.0"""  # file-data tests: everything but the masses and distance fixed
+
 BASE_EVENT = """
 [event]
 label = "{label}"

@@ -7,7 +7,7 @@ import pytest
 
 from memory_infer.cli import main
 
-from helpers import event_config
+from helpers import FIXED_SKY_AND_TIME, event_config
 
 RATE, DURATION, START = 1024.0, 4.0, 1e9
 
@@ -41,12 +41,7 @@ psd = "{psd}"
 mass_1 = 36.0
 mass_2 = 29.0
 luminosity_distance = {{ kind = "uniform", minimum = 100.0, maximum = 2000.0 }}
-theta_jn = 1.0
-phase = 0.5
-ra = 1.0
-dec = 0.2
-psi = 0.3
-geocent_time = 1000000002.0
+{FIXED_SKY_AND_TIME}
 [evidence]
 methods = ["reweighting"]
 {extra}

@@ -4,6 +4,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from helpers import FIXED_SKY_AND_TIME
+
 from memory_infer.common.errors import MemoryInferError
 from memory_infer.inputs.readers import read_psd, read_samples, read_strain, welch_psd
 
@@ -128,6 +130,30 @@ def write_release(path, analyses=("C01:IMRPhenomTHM", "C01:IMRPhenomTPHM"), refe
     return path
 
 
+def release_config(path, detector, strain, masses="mass_1 = 36.0\nmass_2 = 29.0\nluminosity_distance = 400.0",
+                   evidence=""):
+    """An evidence configuration on file strain with the PSD and samples from ``release.h5``."""
+    path.write_text(f"""
+[event]
+label = "release-event"
+[data]
+kind = "files"
+duration = 4.0
+sampling_rate = 1024.0
+start_time = 1e9
+[data.files.{detector}]
+strain = "{strain}"
+psd_from_samples = true
+[priors]
+{masses}
+{FIXED_SKY_AND_TIME}
+[evidence]
+methods = ["reweighting"]
+samples_file = "release.h5"
+{evidence}
+""")
+
+
 def test_release_reader_takes_the_analysis_its_psds_and_settings(tmp_path):
     from memory_infer.common.errors import MemoryInferError
     from memory_infer.inputs.readers import read_release, read_samples
@@ -158,33 +184,11 @@ def test_release_drives_an_evidence_run_with_its_psds_and_reference_frequency(tm
         handle.create_dataset("strain/Strain", data=np.random.default_rng(0).normal(0, 1e-23, int(rate * duration)))
         handle["strain/Strain"].attrs["Xspacing"] = 1 / rate
         handle["strain/Strain"].attrs["Xstart"] = start
-    (tmp_path / "release.toml").write_text(f"""
-[event]
-label = "release-event"
-[data]
-kind = "files"
-duration = {duration}
-sampling_rate = {rate}
-start_time = {start}
-[data.files.H1]
-strain = "H1.hdf5"
-psd_from_samples = true
-[priors]
-mass_1 = {{ kind = "uniform", minimum = 30.0, maximum = 42.0 }}
-mass_2 = {{ kind = "uniform", minimum = 24.0, maximum = 34.0 }}
-luminosity_distance = {{ kind = "uniform", minimum = 100.0, maximum = 2000.0 }}
-theta_jn = 1.0
-phase = 0.5
-ra = 1.0
-dec = 0.2
-psi = 0.3
-geocent_time = 1000000002.0
-[evidence]
-methods = ["reweighting"]
-samples_file = "release.h5"
-samples_analysis = "C01:IMRPhenomTHM"
-minimum_effective_samples = 5
-""")
+    release_config(tmp_path / "release.toml", "H1", "H1.hdf5", masses="""
+mass_1 = { kind = "uniform", minimum = 30.0, maximum = 42.0 }
+mass_2 = { kind = "uniform", minimum = 24.0, maximum = 34.0 }
+luminosity_distance = { kind = "uniform", minimum = 100.0, maximum = 2000.0 }""",
+                   evidence='samples_analysis = "C01:IMRPhenomTHM"\nminimum_effective_samples = 5')
     assert main(["evidence", str(tmp_path / "release.toml"), "--outdir", str(tmp_path / "out"), "--quiet"]) == 0
     record = json.loads((tmp_path / "out" / "evidence.json").read_text())
     assert record["settings"]["reference_frequency"] == 15.0
@@ -199,31 +203,7 @@ def test_release_without_the_detectors_psd_gets_one_sentence(tmp_path, capsys):
 
     write_release(tmp_path / "release.h5", analyses=("C01:IMRPhenomTHM",))
     np.savetxt(tmp_path / "V1.txt", np.column_stack([1e9 + np.arange(4096) / 1024, np.zeros(4096)]))
-    (tmp_path / "v.toml").write_text("""
-[event]
-label = "v"
-[data]
-kind = "files"
-duration = 4.0
-sampling_rate = 1024.0
-start_time = 1e9
-[data.files.V1]
-strain = "V1.txt"
-psd_from_samples = true
-[priors]
-mass_1 = 36.0
-mass_2 = 29.0
-luminosity_distance = 400.0
-theta_jn = 1.0
-phase = 0.5
-ra = 1.0
-dec = 0.2
-psi = 0.3
-geocent_time = 1000000002.0
-[evidence]
-methods = ["reweighting"]
-samples_file = "release.h5"
-""")
+    release_config(tmp_path / "v.toml", "V1", "V1.txt")
     assert main(["evidence", str(tmp_path / "v.toml"), "--outdir", str(tmp_path / "out")]) != 0
     error = capsys.readouterr().err
     assert "holds no PSD for V1" in error and "Traceback" not in error
