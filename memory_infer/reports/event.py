@@ -137,6 +137,15 @@ def event_page(result: EventResult) -> str:
                          f"[{free['lower_90']:.2f}, {free['upper_90']:.2f}] ({html.escape(free['method'])})</p>"))
     for name, check in (result.sample_checks or {}).items():
         sections.append((f"Posterior samples from a file: {name}", _sample_check_html(check)))
+    settings = result.settings or {}
+    if settings.get("approximant"):
+        calibration = (settings.get("calibration") or {}).get("detectors") or ["none (the data taken as exactly "
+                                                                              "calibrated)"]
+        reference = settings.get("reference_frequency")
+        sections.append(("Model and calibration", f"<p>{html.escape(str(settings['approximant']))}"
+                         + ("" if reference is None else f", reference frequency {reference:g} Hz (from "
+                            f"{html.escape(str(settings.get('reference_frequency_from', 'configuration')))})")
+                         + ".</p><p>Calibration: " + "; ".join(html.escape(c) for c in calibration) + ".</p>"))
     if result.warnings:
         sections.append(("Warnings", "".join(f"<p class='warn'>{html.escape(w)}</p>" for w in result.warnings)))
     figures = result.figures

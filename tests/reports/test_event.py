@@ -16,3 +16,15 @@ def test_page_rebuilt_from_the_file_equals_the_one_written_at_run_time(small_eve
 def test_page_without_figures_data_still_renders():
     page = event_page(EventResult(event="bare"))
     assert "Memory evidence for bare" in page and "no reweighting in this run" not in page[:200]
+
+
+def test_page_states_the_model_reference_frequency_and_calibration():
+    result = EventResult(event="calibrated", settings={
+        "approximant": "IMRPhenomTHM", "reference_frequency": 15.0,
+        "reference_frequency_from": "the samples file's metadata",
+        "calibration": {"kind": "constant", "detectors": ["H1: cubic-spline calibration, 10 nodes from 20 to 512 Hz "
+                                                          "(constant, 20 free parameters)"]}})
+    page = event_page(result)
+    assert "reference frequency 15 Hz (from the samples file&#x27;s metadata)" in page
+    assert "H1: cubic-spline calibration, 10 nodes" in page
+    assert "exactly calibrated" in event_page(EventResult(event="plain", settings={"approximant": "IMRPhenomTHM"}))
