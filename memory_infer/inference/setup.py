@@ -13,7 +13,7 @@ from ..inputs.checks import check_samples
 from ..inputs.config import DEFAULT_REFERENCE_FREQUENCY, amplitude_grid
 from ..inputs.event_data import (build_priors, file_detectors, injection_parameters, simulated_detectors,
                                  waveform_arguments)
-from ..inputs.readers import is_release, read_release, read_sample_settings, read_samples
+from ..inputs.readers import read_sample_file
 from ..inputs.samples import usable_samples
 from ..waveform.generator import segment_note, waveform_generator
 from .hypotheses import hypothesis_priors
@@ -91,15 +91,10 @@ def prepare(config: dict) -> EventSetup:
     file_settings, psds = {}, {}
     if config["evidence"]["samples_file"]:
         path = os.path.join(config.get("_directory", "."), config["evidence"]["samples_file"])
-        analysis = config["evidence"]["samples_analysis"]
-        if is_release(path):
-            release = read_release(path, analysis)
-            raw, psds = release["samples"], release["psds"]
-            file_settings = {k: release[k] for k in ("reference_frequency", "waveform_model") if k in release}
-        else:
-            raw = read_samples(path)
-            file_settings = read_sample_settings(path)
-        frame, column_settings = usable_samples(raw)
+        content = read_sample_file(path, config["evidence"]["samples_analysis"])
+        psds = content["psds"]
+        file_settings = {k: content[k] for k in ("reference_frequency", "waveform_model") if k in content}
+        frame, column_settings = usable_samples(content["samples"])
     resolve_reference_frequency(config, file_settings, column_settings or {})
     arguments = waveform_arguments(config)
     generator = waveform_generator(float(data["duration"]), float(data["sampling_rate"]), float(data["start_time"]),

@@ -25,7 +25,6 @@ from bilby.gw.detector.calibration import CubicSpline
 
 from ..common.errors import MemoryInferError
 
-KINDS = ("none", "constant", "envelope")
 PREFIX = "recalib_{}_"
 
 
@@ -43,7 +42,8 @@ class NominalDefaultSpline(CubicSpline):
 
 def calibration_priors(settings: dict, detector: str, minimum_frequency: float, maximum_frequency: float,
                        directory: str = "."):
-    """bilby priors of one detector's spline nodes (fixed at 0 where a sigma is 0)."""
+    """bilby priors of one detector's spline nodes (fixed at 0 where a sigma is 0); an envelope's also carry
+    bilby's fixed node frequencies, which the model holds instead."""
     import bilby
 
     nodes = int(settings["spline_nodes"])
@@ -56,9 +56,6 @@ def calibration_priors(settings: dict, detector: str, minimum_frequency: float, 
                 name = f"recalib_{label}_{kind}_{k}"
                 priors[name] = (bilby.core.prior.Gaussian(0.0, sigma, name=name) if sigma > 0
                                 else bilby.core.prior.DeltaFunction(0.0, name=name))
-        for k, frequency in enumerate(np.logspace(np.log10(minimum_frequency), np.log10(maximum_frequency), nodes)):
-            name = f"recalib_{label}_frequency_{k}"
-            priors[name] = bilby.core.prior.DeltaFunction(float(frequency), name=name)
         return priors
     files = settings["envelope_files"]
     if detector not in files:

@@ -242,13 +242,18 @@ def read_release(path: str, analysis: str | None = None) -> dict:
     return {"samples": frame, "psds": psds, "analysis": analysis, **found}
 
 
-def read_sample_settings(path: str, analysis: str | None = None) -> dict:
-    """The reference frequency and waveform model the samples were drawn with, from a bilby result file's
-    metadata (``meta_data/likelihood/waveform_arguments`` in JSON or HDF5) or a catalog release's analysis; empty
-    when the file does not say."""
+def read_sample_file(path: str, analysis: str | None = None) -> dict:
+    """Any posterior-samples file: ``samples``, ``psds`` (a catalog release's, else empty) and, when the file says,
+    the ``reference_frequency`` and ``waveform_model`` the samples were drawn with."""
     if is_release(path):
-        release = read_release(path, analysis)
-        return {k: release[k] for k in ("reference_frequency", "waveform_model") if k in release}
+        return read_release(path, analysis)
+    return {"samples": read_samples(path), "psds": {}, **read_sample_settings(path)}
+
+
+def read_sample_settings(path: str) -> dict:
+    """The reference frequency and waveform model the samples were drawn with, from a bilby result file's
+    metadata (``meta_data/likelihood/waveform_arguments`` in JSON or HDF5); empty when the file does not say
+    (a catalog release's come with :func:`read_release`)."""
     try:
         if path.endswith(".json"):
             with open(path) as handle:

@@ -333,10 +333,10 @@ class Reweighting(EvidenceMethod):
                 source = frame[column].to_numpy(dtype=float) if column is not None else nominal
                 estimates, corrected_curve = proposal_corrected(table, source, grid, minimum, labels)
                 if nominal is not None:
+                    corrected_curve.method = CALIBRATION_DRAWN + (
+                        "the samples' own likelihood" if column else "this run's likelihood at nominal calibration")
                     for estimate in estimates:
-                        estimate.method = CALIBRATION_DRAWN + ("the samples' own likelihood" if column
-                                                               else "this run's likelihood at nominal calibration")
-                        corrected_curve.method = estimates[0].method
+                        estimate.method = corrected_curve.method
                 if column is not None:
                     recomputed = nominal if nominal is not None else table[:, grid_index(grid, base, exact=False)]
                     self._check_file_samples(state, name, recomputed, source, likelihood.noise_log_likelihood())
