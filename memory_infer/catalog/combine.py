@@ -1,4 +1,4 @@
-"""Catalog combination with consistent-sign bookkeeping (SPEC section 6).
+"""Catalog combination with consistent-sign bookkeeping (README, "Catalog").
 
 Independent events multiply evidences, so ln Bayes factors add and their errors add in quadrature:
 - consistent sign (general relativity): ``sum_i ln BF+_i``;
@@ -132,7 +132,7 @@ def _quadrature(errors):
 
 
 def combinations(entries) -> dict:
-    """The three catalog sums with errors in quadrature."""
+    """The four catalog sums (consistent sign, shared unknown sign, wrong sign, sign-agnostic), errors in quadrature."""
     used = [e for e in entries if e.included]
     plus = np.array([e.ln_bf_plus for e in used], dtype=float)
     minus = np.array([e.ln_bf_minus for e in used], dtype=float)

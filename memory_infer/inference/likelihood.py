@@ -1,7 +1,7 @@
 """The memory likelihood: bilby's ``GravitationalWaveTransient`` with the memory source model.
 
 The memory amplitude A enters linearly, so at one parameter point five noise-weighted inner
-products give ln L(A) for every A (SPEC section 5):
+products give ln L(A) for every A (README, "Conventions"):
 ``<d,h(A)> = <d,h_osc> + A <d,h_mem>``,
 ``<h(A),h(A)> = <h_osc,h_osc> + 2A <h_osc,h_mem> + A^2 <h_mem,h_mem>``;
 with time marginalization the ``<d,h>`` time series are linear in A in the same way, and bilby's
@@ -195,7 +195,7 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
 
 
 def fixed_point_log_ratio(products: InnerProducts) -> float:
-    """Fixed-parameter ``ln Lambda = <d - h_osc, h_mem> - <h_mem, h_mem> / 2`` (SPEC section 5.3)."""
+    """Fixed-parameter ``ln Lambda = <d - h_osc, h_mem> - <h_mem, h_mem> / 2``."""
     return float(np.real(products.d_mem) - products.osc_mem - products.mem_mem / 2)
 
 

@@ -124,7 +124,7 @@ class AmplitudeCurve(_FromDict):
 
 @dataclass
 class SignSummary(_FromDict):
-    """Per-event sign bookkeeping (SPEC section 6)."""
+    """Per-event sign bookkeeping (README, "Catalog")."""
 
     ln_bf_plus: float
     ln_bf_plus_err: float | None

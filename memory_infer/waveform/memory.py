@@ -5,18 +5,18 @@ Units: geometric (G = c = 1). Inputs are ``r h_lm / M`` sampled uniformly in ``t
 Flux form (Wiseman & Will, PRD 44, R2945 (1991)), r = 1:
 ``h_mem(t, N) = (1/4pi) int_{-inf}^t dt' oint dOmega' |dh/dt'|^2 (mbar(N).n')^2 / (1 - n'.N)``.
 Mode form: ``h_mem_lm = sqrt((l-2)!/(l+2)!) int dt' sum dh_{l'm'} conj(dh_{l''m''})
-oint -2Y_{l'm'} conj(-2Y_{l''m''}) conj(Y_lm) dOmega`` (couplings in :mod:`memory_infer.sphere`).
+oint -2Y_{l'm'} conj(-2Y_{l''m''}) conj(Y_lm) dOmega`` (couplings in :mod:`memory_infer.waveform.sphere`).
 
 Sign convention (the one place it is decided). Inputs and outputs are modes in lalsimulation's
 convention: its polarization basis is rotated by 90 degrees from (e_theta, e_phi) (Blanchet et al.,
 CQG 25, 165003 (2008)), so every oscillatory mode has the opposite sign there (leading order
 ``h_22 = +8 sqrt(pi/5) eta x e^{-2i Phi}``) while ``|dh/dt|^2`` is the same. The flux form gives the
 memory in the (e_theta, e_phi) basis; it is multiplied by ``LALSIMULATION_SIGN`` = -1 before it meets
-lalsimulation's modes. Checked against lalsimulation's own TaylorT4 memory modes (tests/test_memory.py),
+lalsimulation's modes. Checked against lalsimulation's own TaylorT4 memory modes (tests/waveform/test_memory.py),
 whose leading order is ``h_mem_20 = -(4/7) sqrt(5 pi / 6) eta x``.
 
 Sampling: the flux is taken from ``finer`` samplings of the late inspiral and merger where the data's
-grid does not resolve them (:mod:`memory_infer.models.refine`); the cumulative memory of each level is
+grid does not resolve them (:mod:`memory_infer.waveform.models.refine`); the cumulative memory of each level is
 joined continuously to the one before at the level's ``use_from`` time and read off at the data's times.
 
 The memory accumulated before the first sample (the early inspiral) is not in the modes;
@@ -249,37 +249,6 @@ def early_inspiral_offset(modes: dict, times, symmetric_mass_ratio: float | None
         raise ValueError("the early-inspiral memory needs the (2, 2) mode")
     eta_x = symmetric_mass_ratio * orbital_velocity_parameter(modes, times)
     return {mode: c * eta_x for mode, c in _leading_order_projection().items()}
-
-
-def memory_quadrature(modes: dict, times, theta: float, phi: float, n_theta: int = 24,
-                      n_phi: int = 48) -> np.ndarray:
-    """Slow reference: the flux form integrated on a sphere grid whose pole is the observer.
-
-    With e_theta, e_phi of N as the other two axes the kernel ``(mbar.n')^2/(1 - n'.N)`` becomes
-    ``(1 + cos th') e^{-2 i ph'} / 2``; Gauss-Legendre in cos th' times a uniform rule in ph'.
-    Returned in lalsimulation's convention like the mode sum. For tests only.
-    """
-    step = _uniform_step(times)
-    keys, stacked = _stack(modes)
-    derivatives = time_derivative(stacked, step)
-    north = np.array([np.sin(theta) * np.cos(phi), np.sin(theta) * np.sin(phi), np.cos(theta)])
-    e_theta = np.array([np.cos(theta) * np.cos(phi), np.cos(theta) * np.sin(phi), -np.sin(theta)])
-    e_phi = np.array([-np.sin(phi), np.cos(phi), 0.0])
-    cos_nodes, cos_weights = np.polynomial.legendre.leggauss(n_theta)
-    azimuths = np.arange(n_phi) * 2 * np.pi / n_phi
-    cos_grid, azimuth_grid = np.meshgrid(cos_nodes, azimuths, indexing="ij")
-    sin_grid = np.sqrt(1 - cos_grid ** 2)
-    directions = (sin_grid[..., None] * np.cos(azimuth_grid)[..., None] * e_theta
-                  + sin_grid[..., None] * np.sin(azimuth_grid)[..., None] * e_phi
-                  + cos_grid[..., None] * north).reshape(-1, 3)
-    source_theta = np.arccos(np.clip(directions[:, 2], -1, 1))
-    source_phi = np.arctan2(directions[:, 1], directions[:, 0])
-    kernel = ((1 + cos_grid) * np.exp(-2j * azimuth_grid) / 2).ravel()
-    weights = (cos_weights[:, None] * np.full(n_phi, 2 * np.pi / n_phi)[None, :]).ravel()
-    harmonics = np.array([spin_weighted_harmonic(-2, l, m, source_theta, source_phi) for l, m in keys])
-    strain_rate = harmonics.T @ derivatives
-    rate = (weights * kernel) @ np.abs(strain_rate) ** 2 / (4 * np.pi)
-    return LALSIMULATION_SIGN * cumulative_integral(rate, step)
 
 
 def energy_flux(modes: dict, times) -> np.ndarray:

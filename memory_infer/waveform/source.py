@@ -1,9 +1,9 @@
 """From modes to detector-ready polarizations: mode sum, memory, and the frequency domain.
 
-Frame (pinned by tests/test_signal.py against ``SimInspiralChooseTDWaveform``): modes are generated
+Frame (pinned by tests/waveform/test_source.py against ``SimInspiralChooseTDWaveform``): modes are generated
 at phi_ref = 0 and summed at polar angle = inclination and azimuth ``pi/2 - phase``.
 
-Frequency domain (SPEC section 4): the peak sits at t = 0 of a circular buffer of the segment's
+Frequency domain (README, "Conventions"): the peak sits at t = 0 of a circular buffer of the segment's
 length, the inspiral wraps to the buffer's end, and the memory plateau after the ringdown is
 brought back to its pre-inspiral value by a raised-cosine taper of ``taper_duration`` seconds, so
 the permanent step has no wrap-around jump and its taper's spectrum lies below the band.

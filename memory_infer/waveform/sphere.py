@@ -88,7 +88,7 @@ def triple_integral(l1: int, m1: int, l2: int, m2: int, l: int, m: int) -> float
 
 
 def memory_normalisation(l: int) -> float:
-    """``sqrt((l-2)!/(l+2)!)``, the factor of the memory mode of degree l (SPEC section 3)."""
+    """``sqrt((l-2)!/(l+2)!)``, the factor of the memory mode of degree l (Wiseman & Will, PRD 44, R2945 (1991), in mode form)."""
     return sqrt(factorial(l - 2) / factorial(l + 2))
 
 

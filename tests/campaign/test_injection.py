@@ -19,6 +19,9 @@ def test_reweighting_recovery_runs_and_is_calibrated_against_fast(tmp_path):
     assert main(["campaign", config, "--outdir", str(tmp_path / "full"), "--quiet"]) == 0
     summary = json.loads((tmp_path / "full" / "campaign.json").read_text())
     assert summary["calibration"]["count"] == 2
+    # two of our own estimators agree (consistency only, no outside value): reweighting a 40-live-point posterior
+    # over the phase carries a Monte-Carlo error of a few tenths of a nat (nested sampling's sqrt(H / n_live),
+    # Skilling, Bayesian Analysis 1, 833 (2006)); the two-point approximation's bias grows with ln BF: 20% allowed
     for fast, full in summary["calibration"]["pairs"]:
         assert abs(full - fast) < 0.5 + 0.2 * abs(fast)
 

@@ -45,8 +45,9 @@ def test_reweighting_amplitude_posterior_passes_a_pp_test(tmp_path):
 
 @pytest.mark.slow
 def test_design_network_forecast_is_of_order_a_thousand(tmp_path):
-    # published forecasts (from memory): of order a thousand or more binary black holes at second-generation
-    # design sensitivity for a confident memory detection; order of magnitude only, 1e2 to 1e4
+    # published forecasts: of order a thousand or more binary black holes at second-generation design sensitivity
+    # for a confident memory detection (PRD 101, 023011 (2020); PRD 101, 083026 (2020); PRD 107, 064056 (2023); their
+    # numbers from memory); order of magnitude only, 1e2 to 1e4
     from memory_infer.cli import main
 
     config = campaign_config(tmp_path, count=2500, network="hlv-design", noise="zero", detection_snr=12.0,

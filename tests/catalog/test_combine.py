@@ -95,8 +95,16 @@ def test_end_to_end_catalog_from_evidence_runs(tmp_path):
     assert main(["combine", *folders, "--outdir", str(tmp_path / "catalog")]) == 0
     result = json.loads((tmp_path / "catalog" / "catalog.json").read_text())
     assert result["n_events"] == 3 and not result["dropped"]
-    for key in ("consistent_sign", "wrong_sign", "sign_agnostic"):
-        assert set(result[key]) >= {"ln_bf", "ln_bf_err"}
+    # the sums are over each event's own ln BF+- as its evidence.json states them (sign table), errors in quadrature
+    # (independent events multiply evidences: common practice, no source)
+    signs = [json.loads((tmp_path / f"event-{i}" / "evidence.json").read_text())["sign"] for i in range(3)]
+    plus = np.array([s["ln_bf_plus"] for s in signs])
+    minus = np.array([s["ln_bf_minus"] for s in signs])
+    assert result["consistent_sign"]["ln_bf"] == pytest.approx(plus.sum(), abs=1e-12)
+    assert result["wrong_sign"]["ln_bf"] == pytest.approx(minus.sum(), abs=1e-12)
+    assert result["sign_agnostic"]["ln_bf"] == pytest.approx(np.sum(np.logaddexp(plus, minus) - np.log(2)), abs=1e-12)
+    assert result["consistent_sign"]["ln_bf_err"] == pytest.approx(
+        np.sqrt(np.sum([s["ln_bf_plus_err"] ** 2 for s in signs])), rel=1e-12)
     assert {"median", "lower_90", "upper_90", "density_ratio_at_zero"} <= set(result["amplitude"])
     assert result["amplitude"]["events"] == 3
     assert all(e["method"] == "importance reweighting" for e in result["events"])
@@ -104,7 +112,7 @@ def test_end_to_end_catalog_from_evidence_runs(tmp_path):
 
 
 def test_uninformative_catalog_gives_density_ratio_one_and_the_prior_interval():
-    # SPEC section 6: flat <L(A)/L(0)> leaves the prior unchanged; the prior [-5, 5] is limited to the grid [-4, 4]
+    # Bayes' theorem: a flat <L(A)/L(0)> leaves the prior unchanged; the prior [-5, 5] is limited to the grid [-4, 4]
     grid = np.linspace(-4, 4, 161)
     flat = {"amplitudes": grid.tolist(), "ln_mean_ratio": [0.0] * grid.size, "ln_mean_ratio_err": [0.0] * grid.size,
             "effective_sample_size": [800.0] * grid.size, "base_amplitude": 0.0, "number_of_samples": 800}

@@ -1,4 +1,4 @@
-"""Bad input: one clear sentence, a non-zero exit, and nothing written (DEVELOPERS.md, SPEC section 8)."""
+"""Bad input: one clear sentence, a non-zero exit, and nothing written (README, "Input formats")."""
 import os
 
 import numpy as np

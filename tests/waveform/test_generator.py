@@ -12,19 +12,6 @@ POINT = dict(mass_1=36.0, mass_2=29.0, luminosity_distance=400.0, a_1=0.0, a_2=0
              phi_12=0.0, phi_jl=0.0, theta_jn=1.0, phase=0.3, ra=1.0, dec=0.2, psi=0.3, geocent_time=1e9 + 1.0)
 
 
-def test_parts_are_the_difference_of_bilby_strains_at_a_equal_one_and_zero():
-    # consistency with bilby's own interface: frequency_domain_strain(A) = oscillatory + A x memory
-    generator = waveform_generator(2.0, 1024.0, 1e9, ARGUMENTS)
-    oscillatory, memory = generator.parts(POINT)
-    with_memory = {k: v.copy() for k, v in generator.frequency_domain_strain(dict(POINT, memory_amplitude=1.0)).items()}
-    without = generator.frequency_domain_strain(dict(POINT, memory_amplitude=0.0))
-    for key in ("plus", "cross"):
-        scale = np.max(np.abs(memory[key]))
-        assert scale > 0
-        assert np.max(np.abs(without[key] - oscillatory[key])) == 0.0
-        assert np.max(np.abs((with_memory[key] - without[key]) - memory[key])) < 1e-12 * scale
-
-
 def test_chirp_mass_parameters_are_converted_like_bilby():
     # bilby's conversion (chirp mass and mass ratio to component masses) runs before the source model
     generator = waveform_generator(2.0, 1024.0, 1e9, ARGUMENTS)

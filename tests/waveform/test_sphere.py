@@ -12,7 +12,7 @@ phi = np.linspace(0, 2 * np.pi, 9)
 
 
 def test_harmonics_match_closed_forms():
-    # Goldberg et al., J. Math. Phys. 8, 2155 (1967); closed forms as in SPEC section 2
+    # Goldberg et al., J. Math. Phys. 8, 2155 (1967); closed forms of -2Y_22, -2Y_21, -2Y_20
     closed = {
         (2, 2): np.sqrt(5 / (64 * np.pi)) * (1 + np.cos(theta)) ** 2 * np.exp(2j * phi),
         (2, 0): np.sqrt(15 / (32 * np.pi)) * np.sin(theta) ** 2 + 0j,
@@ -59,7 +59,7 @@ def test_wigner_3j_matches_sympy():
 @settings(max_examples=40, deadline=None)
 @given(st.integers(2, 4), st.integers(-4, 4), st.integers(2, 4), st.integers(-4, 4), st.integers(2, 8))
 def test_triple_integral_matches_quadrature(l1, m1, l2, m2, l):
-    # the two-3j form of SPEC section 3 against direct quadrature on the sphere (numerical reference)
+    # the two-3j form of the angular integral against direct quadrature on the sphere (numerical reference)
     if abs(m1) > l1 or abs(m2) > l2 or abs(m1 - m2) > l:
         return
     m = m1 - m2

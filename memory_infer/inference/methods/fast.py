@@ -1,4 +1,4 @@
-"""Fast approximations at one parameter point (SPEC section 5.3): no sampling, no Monte-Carlo error.
+"""Fast approximations at one parameter point: no sampling, no Monte-Carlo error.
 
 - fixed-parameter: ``ln Lambda = <d - h_osc, h_mem> - <h_mem, h_mem> / 2``;
 - two-point: also weighs the sign-degenerate partner (phase + pi/2, psi + pi/2) by its oscillatory

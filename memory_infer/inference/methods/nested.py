@@ -44,11 +44,13 @@ def nested_bayes_factor(numerator_result, denominator_result, numerator="memory"
                             family="nested")
 
 
-def sign_from_nested(plus: EvidenceEstimate, minus: EvidenceEstimate, sign_error: float | None) -> SignSummary:
+def sign_from_nested(plus: EvidenceEstimate, minus: EvidenceEstimate, plus_run_error: float,
+                     minus_run_error: float) -> SignSummary:
     """Sign bookkeeping from two nested-sampling Bayes factors (A = +1 and A = -1 against 0).
 
     The sign ln BF is ln Z(+1) - ln Z(-1): the shared A = 0 run cancels, so its error is that of the two
-    runs, ``sign_error = hypot(s(+1), s(-1))`` (not the quadrature of the two Bayes factors' errors)."""
+    runs' ln Z, ``hypot(s(+1), s(-1))`` (not the quadrature of the two Bayes factors' errors)."""
+    sign_error = float(np.hypot(plus_run_error, minus_run_error))
     return SignSummary(ln_bf_plus=plus.ln_bf, ln_bf_plus_err=plus.ln_bf_err, ln_bf_minus=minus.ln_bf,
                        ln_bf_minus_err=minus.ln_bf_err, ln_bf_sign=plus.ln_bf - minus.ln_bf,
                        ln_bf_sign_err=sign_error, weight_plus=sign_weight(plus.ln_bf, minus.ln_bf), method=plus.method,
@@ -89,5 +91,5 @@ class NestedSampling(EvidenceMethod):
                                            "method": "nested sampling with A free, equal-weight posterior samples",
                                            "samples": values.tolist()}
         if len(found) == 2:
-            error = float(np.hypot(results["memory"].log_evidence_err, results["flipped"].log_evidence_err))
-            state.propose_sign(1, sign_from_nested(found["memory"], found["flipped"], error))
+            state.propose_sign(1, sign_from_nested(found["memory"], found["flipped"], results["memory"].log_evidence_err,
+                                                   results["flipped"].log_evidence_err))

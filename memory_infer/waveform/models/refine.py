@@ -2,7 +2,7 @@
 
 The memory integrates ``|dh/dt|^2``. A fourth-order difference errs by about ``(omega dt)^4 / 30`` in
 the derivative, so modes sampled at the data's rate lose the flux of a light binary's merger and
-ringdown, which ring near or above the data's Nyquist frequency (SPEC section 3). Here the late part is
+ringdown, which ring near or above the data's Nyquist frequency (README, "Conventions"). Here the late part is
 generated again at steps divided by four level by level: each level is used from the first sample at which the
 previous one no longer resolves the dominant (2, +-2) mode (phase step above ``PHASE_STEP_LIMIT``), and
 it starts a little earlier (at ``START_FRACTION`` of that mode's frequency there). The needed step thus
