@@ -132,7 +132,32 @@ def load_evidence_config(path: str) -> dict:
     if config["likelihood"]["phase_marginalization"]:
         raise MemoryInferError(PHASE_REFUSAL)
     check_calibration(config["calibration"])
+    check_detector_keys(config)
     return config
+
+
+def analysis_detectors(data: dict) -> list:
+    """The bilby detector names an event's data use: ``detectors`` for simulated data, else those of the files."""
+    from .detectors import detector_of
+
+    if data["kind"] == "files":
+        return list(dict.fromkeys(detector_of(str(key)) for key in data["files"]))
+    return [str(name) for name in data["detectors"]]
+
+
+def check_detector_keys(config: dict) -> None:
+    """Every per-detector table names a detector of the analysis (or one of its interferometers), in one
+    sentence otherwise; noise curves are known names."""
+    from .detectors import NOISE_CURVES, interferometers_of, per_interferometer
+
+    data = config["data"]
+    detectors = analysis_detectors(data)
+    curves = per_interferometer(data["noise_curves"], detectors, "noise_curves in [data]")
+    for name in (member for detector in detectors for member in interferometers_of(detector)):
+        curve = curves.get(name, data["noise_curve"])
+        if curve not in NOISE_CURVES:
+            raise MemoryInferError(f"unknown noise curve '{curve}' for {name}; choose one of {', '.join(NOISE_CURVES)}")
+    per_interferometer(config["calibration"]["envelope_files"], detectors, "envelope_files in [calibration]")
 
 
 def check_calibration(settings: dict) -> None:

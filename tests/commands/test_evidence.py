@@ -166,7 +166,7 @@ def test_unknown_noise_curve(tmp_path, capsys):
 def test_unknown_detector(tmp_path, capsys):
     config = event_config(tmp_path, detectors='["X9"]')
     message = evidence_case(tmp_path, capsys, config)
-    assert message.startswith("memory-infer evidence: unknown detector among X9;")
+    assert message.startswith("memory-infer evidence: unknown detector 'X9'; use one of bilby's: A1, CE, ET,")
 
 
 def test_surrogate_model_unavailable(tmp_path, capsys):
@@ -241,3 +241,13 @@ def test_files_and_outside_samples_run_end_to_end(tmp_path, capsys):
     assert reweighted and all(m["effective_sample_size"] > 50 for m in reweighted)
     assert record["memory_snr"]["value"] > 0
     assert (tmp_path / "out" / "report.html").exists()
+
+
+def test_noise_curve_for_a_detector_not_analysed(tmp_path, capsys):
+    config = event_config(tmp_path, detectors='["H1", "L1"]', noise_curve="ligo-design")
+    text = open(config).read().replace('noise_curve = "ligo-design"', 'noise_curve = "ligo-design"\n'
+                                                                       'noise_curves = { XX = "ce" }')
+    open(config, "w").write(text)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == ("memory-infer evidence: noise_curves in [data] names 'XX', which is not a detector of this "
+                       "analysis (H1, L1).")
