@@ -42,3 +42,26 @@ def test_einstein_telescope_memory_snr_is_bilbys_with_et_d_on_all_three():
     assert count == 3
     assert ours == pytest.approx(reference, rel=1e-9)
     assert 0.5 < reference < 0.9  # measured 0.6671
+
+
+def rank_message(tmp_path, capsys, frame):
+    """Bad input to rank: exit 2, one sentence on standard error, no traceback, nothing written."""
+    table = tmp_path / "events.csv"
+    frame.to_csv(table, index=False)
+    output = tmp_path / "ranking.csv"
+    assert main(["rank", str(table), "--network", "hl-design", "--output", str(output)]) == 2
+    lines = [line for line in capsys.readouterr().err.splitlines() if line.strip()]
+    assert len(lines) == 1 and "Traceback" not in lines[0]
+    assert not output.exists()
+    return lines[0]
+
+
+EVENTS = {"label": ["a", "b"], "mass_1": [36.0, 30.0], "mass_2": [29.0, 25.0], "luminosity_distance": [300.0, 500.0],
+          "theta_jn": [1.4, 1.0], "phase": [0.3, 0.3], "ra": [1.0, 1.0], "dec": [0.2, 0.2], "psi": [0.3, 0.3]}
+
+
+def test_rank_refuses_a_text_column_in_one_sentence(tmp_path, capsys):
+    frame = pd.DataFrame(dict(EVENTS, note=["loud", "quiet"], mass_1=["36.0", "thirty"]))
+    assert rank_message(tmp_path, capsys, frame) == (
+        "memory-infer rank: event table 'events.csv' has text in the columns 'mass_1', 'note' (row 2: 'thirty'); "
+        "every column but 'label' must hold numbers.")
