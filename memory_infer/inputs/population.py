@@ -146,7 +146,8 @@ def truncation_warning(redshifts, redshift_max: float, share: float = 0.01) -> s
 
 def read_table(path: str, geocent_time: float, what: str = "injection table") -> list:
     """Explicit sources from CSV with bilby parameter names (spins default to zero); ``what`` names the table in
-    messages. Text outside a 'label' column and unphysical values are refused in one sentence."""
+    messages. Text outside a 'label' column, missing columns (all named at once) and unphysical values are refused
+    in one sentence."""
     import pandas as pd
 
     if not os.path.isfile(path):
@@ -164,13 +165,14 @@ def read_table(path: str, geocent_time: float, what: str = "injection table") ->
         raise MemoryInferError(f"{what} '{name}' has text in the column{'s' if len(text) > 1 else ''} "
                                f"{', '.join(repr(str(c)) for c in text)}{example}; every column but 'label' must "
                                "hold numbers")
+    missing = [k for k in SOURCE_PARAMETERS if k not in frame.columns and k not in ZERO_DEFAULTS and k != "geocent_time"]
+    if missing:
+        raise MemoryInferError(f"{what} '{name}' lacks the column{'s' if len(missing) > 1 else ''} "
+                               f"{', '.join(repr(m) for m in missing)}")
     sources = []
     for row, values in enumerate(frame.to_dict("records"), 1):
         source = dict(ZERO_DEFAULTS, geocent_time=geocent_time)
         source.update({k: float(v) for k, v in values.items() if k != "label"})
-        missing = [k for k in SOURCE_PARAMETERS if k not in source]
-        if missing:
-            raise MemoryInferError(f"{what} '{name}' lacks the column {missing[0]!r}")
         check_physical(source, f"row {row} of {what} '{name}'")
         sources.append(source)
     if not sources:

@@ -110,6 +110,19 @@ def test_missing_sample_columns(tmp_path, capsys):
                        "'luminosity_distance'.")
 
 
+def test_missing_sample_columns_all_at_once(tmp_path, capsys):
+    write_strain(tmp_path / "H1.txt")
+    write_psd(tmp_path / "H1_psd.txt")
+    pd.DataFrame({"phase": [0.1, 0.2]}).to_csv(tmp_path / "samples.csv", index=False)
+    config = files_config(tmp_path, extra='samples_file = "samples.csv"')
+    text = open(config).read().replace("mass_1 = 36.0\nmass_2 = 29.0", 'chirp_mass = { kind = "uniform", minimum = 25.0, '
+                                       'maximum = 30.0 }\nmass_ratio = { kind = "uniform", minimum = 0.5, maximum = 1.0 }')
+    open(config, "w").write(text)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == ("memory-infer evidence: posterior samples in 'samples.csv' lack the columns 'chirp_mass', "
+                       "'mass_ratio', 'luminosity_distance'.")
+
+
 def test_nan_samples(tmp_path, capsys):
     write_strain(tmp_path / "H1.txt")
     write_psd(tmp_path / "H1_psd.txt")

@@ -65,3 +65,15 @@ def test_rank_refuses_a_text_column_in_one_sentence(tmp_path, capsys):
     assert rank_message(tmp_path, capsys, frame) == (
         "memory-infer rank: event table 'events.csv' has text in the columns 'mass_1', 'note' (row 2: 'thirty'); "
         "every column but 'label' must hold numbers.")
+
+
+def test_rank_names_every_missing_column_at_once(tmp_path, capsys):
+    frame = pd.DataFrame({k: v for k, v in EVENTS.items() if k not in ("theta_jn", "ra", "psi")})
+    assert rank_message(tmp_path, capsys, frame) == (
+        "memory-infer rank: event table 'events.csv' lacks the columns 'theta_jn', 'ra', 'psi'.")
+
+
+def test_rank_names_the_row_of_a_missing_value(tmp_path, capsys):
+    frame = pd.DataFrame(dict(EVENTS, luminosity_distance=[300.0, np.nan]))
+    assert rank_message(tmp_path, capsys, frame) == (
+        "memory-infer rank: 'luminosity_distance' in row 2 of event table 'events.csv' is not a finite number.")
