@@ -74,35 +74,51 @@ def load_toml(path: str) -> dict:
         raise MemoryInferError(f"configuration file '{path}' is not valid TOML ({error})") from None
 
 
+def close_match(word: str, choices) -> str:
+    """`` (did you mean 'X'?)`` for the closest of ``choices`` to a misspelled ``word``, else empty."""
+    import difflib
+
+    lowered = {str(choice).lower(): str(choice) for choice in choices}
+    found = difflib.get_close_matches(str(word).lower(), list(lowered), n=1, cutoff=0.6)
+    return f" (did you mean '{lowered[found[0]]}'?)" if found else ""
+
+
 def apply_schema(raw: dict, schema: dict, source: str) -> dict:
-    """Fill defaults and check types; returns a new dict with every section of ``schema``."""
+    """Fill defaults and check types; returns a new dict with every section of ``schema``.
+
+    A misspelled key or section is named with its closest known spelling, together with the required key it
+    leaves missing."""
     for section in raw:
         if section not in schema:
-            raise MemoryInferError(f"unknown section [{section}] in {source}; known: {', '.join(schema)}")
+            raise MemoryInferError(f"unknown section [{section}] in {source}{close_match(section, schema)}; known: "
+                                   f"{', '.join(schema)}")
     config = {}
     for section, keys in schema.items():
         given = raw.get(section, {})
         if not isinstance(given, dict):
             raise MemoryInferError(f"[{section}] in {source} must be a table")
+        known = [key for key in keys if key != "*"]
+        unknown = [key for key in given if key not in keys and "*" not in keys]
+        missing = [key for key, (_, default) in keys.items() if default is REQUIRED and key not in given]
+        if missing and unknown:
+            raise MemoryInferError(f"key '{missing[0]}' is missing from [{section}] of {source}, and '{unknown[0]}' "
+                                   f"there is unknown{close_match(unknown[0], known)}")
+        if unknown:
+            raise MemoryInferError(f"unknown key '{unknown[0]}' in [{section}] of {source}"
+                                   f"{close_match(unknown[0], known)}")
+        if missing:
+            raise MemoryInferError(f"key '{missing[0]}' is missing from [{section}] of {source}")
         values = {}
         for key, value in given.items():
-            spec = keys.get(key, keys.get("*"))
-            if spec is None:
-                raise MemoryInferError(f"unknown key '{key}' in [{section}] of {source}")
-            kind = spec[0]
+            kind = keys.get(key, keys.get("*"))[0]
             if kind is not ANY:
                 ok = isinstance(value, kind) and not (kind in (NUMBER, int) and isinstance(value, bool))
-                if kind is NUMBER and isinstance(value, bool):
-                    ok = False
                 if not ok:
                     raise MemoryInferError(f"key '{key}' in [{section}] of {source} must be {_type_name(kind)}")
             values[key] = value
         for key, (_, default) in keys.items():
-            if key == "*" or key in values:
-                continue
-            if default is REQUIRED:
-                raise MemoryInferError(f"key '{key}' is missing from [{section}] of {source}")
-            values[key] = copy.deepcopy(default)
+            if key != "*" and key not in values:
+                values[key] = copy.deepcopy(default)
         config[section] = values
     return config
 

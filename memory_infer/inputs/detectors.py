@@ -13,6 +13,7 @@ from functools import lru_cache
 import numpy as np
 
 from ..common.errors import MemoryInferError
+from .config import close_match
 
 # our name -> (bilby file, what it is)
 NOISE_CURVES = {
@@ -95,15 +96,6 @@ def detector_of(name: str) -> str:
         if name == detector or name in members:
             return detector
     raise MemoryInferError(f"unknown detector '{name}'; use one of bilby's: {', '.join(known_detectors())}")
-
-
-def close_match(word: str, choices) -> str:
-    """`` (did you mean 'X'?)`` for the closest of ``choices`` to a misspelled ``word``, else empty."""
-    import difflib
-
-    lowered = {choice.lower(): choice for choice in choices}
-    found = difflib.get_close_matches(word.lower(), list(lowered), n=1, cutoff=0.6)
-    return f" (did you mean '{lowered[found[0]]}'?)" if found else ""
 
 
 def per_interferometer(table: dict, detectors, what: str) -> dict:

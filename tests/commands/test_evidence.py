@@ -161,7 +161,26 @@ def test_invalid_toml(tmp_path, capsys):
 def test_unknown_key(tmp_path, capsys):
     config = event_config(tmp_path, likelihood="distance_marginalisation = true")
     message = evidence_case(tmp_path, capsys, config)
-    assert message == "memory-infer evidence: unknown key 'distance_marginalisation' in [likelihood] of event.toml."
+    assert message == ("memory-infer evidence: unknown key 'distance_marginalisation' in [likelihood] of event.toml "
+                       "(did you mean 'distance_marginalization'?).")
+
+
+def test_misspelled_required_key(tmp_path, capsys):
+    config = event_config(tmp_path)
+    text = open(config).read().replace('label = "test-event"', 'lable = "test-event"')
+    open(config, "w").write(text)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == ("memory-infer evidence: key 'label' is missing from [event] of event.toml, and 'lable' there "
+                       "is unknown (did you mean 'label'?).")
+
+
+def test_misspelled_section(tmp_path, capsys):
+    config = event_config(tmp_path)
+    text = open(config).read().replace("[priors]", "[prior]")
+    open(config, "w").write(text)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message.startswith("memory-infer evidence: unknown section [prior] in event.toml (did you mean "
+                              "'priors'?); known: event, data,")
 
 
 def test_wrong_type(tmp_path, capsys):
