@@ -35,6 +35,23 @@ def check_physical(values: dict, where: str) -> None:
             raise MemoryInferError(f"'mass_2' in {where} exceeds 'mass_1' (bilby orders the masses)")
 
 
+def non_finite_sentence(numeric, columns: list, where: str) -> str:
+    """Where the first NaN or infinite value of a table sits (column, and row counted from 1), and how many rows
+    and other columns hold one."""
+    bad = ~np.isfinite(numeric)
+    column = int(np.argmax(bad.any(axis=0)))
+    rows = np.flatnonzero(bad[:, column])
+    value = "NaN" if np.isnan(numeric[rows[0], column]) else "an infinite value"
+    text = f"{where} hold {value} in column '{columns[column]}' at row {rows[0] + 1}"
+    if rows.size > 1:
+        text += f" (and {rows.size - 1} more row{'s' if rows.size > 2 else ''})"
+    others = [columns[k] for k in np.flatnonzero(bad.any(axis=0)) if k != column]
+    if others:
+        text += (f", as does the column '{others[0]}'" if len(others) == 1
+                 else f", as do the columns {', '.join(repr(c) for c in others)}")
+    return text
+
+
 def check_samples(frame, required, where: str):
     """Missing columns, non-finite values and unphysical values each get one sentence."""
     missing = [name for name in required if name not in frame.columns]
@@ -42,7 +59,7 @@ def check_samples(frame, required, where: str):
         raise MemoryInferError(f"{where} lack the column{'s' if len(missing) > 1 else ''} {', '.join(repr(m) for m in missing)}")
     numeric = frame[[c for c in required]].to_numpy(dtype=float)
     if not np.all(np.isfinite(numeric)):
-        raise MemoryInferError(f"{where} contain NaN or infinite values")
+        raise MemoryInferError(non_finite_sentence(numeric, list(required), where))
     check_physical({c: frame[c].to_numpy(dtype=float) for c in frame.columns
                     if c in ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "theta_jn", "tilt_1", "tilt_2",
                              "dec", "mass_ratio", "chirp_mass")}, where)

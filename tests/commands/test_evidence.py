@@ -126,9 +126,11 @@ def test_missing_sample_columns_all_at_once(tmp_path, capsys):
 def test_nan_samples(tmp_path, capsys):
     write_strain(tmp_path / "H1.txt")
     write_psd(tmp_path / "H1_psd.txt")
-    pd.DataFrame({"luminosity_distance": [400.0, np.nan]}).to_csv(tmp_path / "samples.csv", index=False)
+    pd.DataFrame({"luminosity_distance": [400.0, 410.0, np.nan, 420.0, np.nan]}).to_csv(tmp_path / "samples.csv",
+                                                                                      index=False)
     message = evidence_case(tmp_path, capsys, files_config(tmp_path, extra='samples_file = "samples.csv"'))
-    assert message == "memory-infer evidence: posterior samples in 'samples.csv' contain NaN or infinite values."
+    assert message == ("memory-infer evidence: posterior samples in 'samples.csv' hold NaN in column "
+                       "'luminosity_distance' at row 3 (and 1 more row).")
 
 
 def test_unphysical_samples(tmp_path, capsys):
