@@ -285,3 +285,34 @@ def test_noise_curve_for_a_detector_not_analysed(tmp_path, capsys):
     message = evidence_case(tmp_path, capsys, config)
     assert message == ("memory-infer evidence: noise_curves in [data] names 'XX', which is not a detector of this "
                        "analysis (H1, L1).")
+
+
+@pytest.mark.slow
+def test_ctrl_c_in_the_sampler_is_one_line_and_keeps_a_checkpoint(tmp_path):
+    """SIGINT (Ctrl-C) while dynesty samples: exit status 130, one line on standard error, no traceback, the run's
+    checkpoint kept so that the same command resumes it, and no result written."""
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    config = event_config(tmp_path, live_points=300, hypotheses='["memory", "none"]')
+    text = open(config).read().replace("checkpoint_seconds = 10.0", "checkpoint_seconds = 2.0")
+    open(config, "w").write(text)
+    environment = dict(os.environ, PYTHONPATH=os.pathsep.join([os.getcwd(), os.environ.get("PYTHONPATH", "")]))
+    process = subprocess.Popen([sys.executable, "-m", "memory_infer.cli", "evidence", config, "--outdir",
+                                str(tmp_path / "out"), "--quiet"], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                               text=True, env=environment)
+    assert "nested sampling" in process.stdout.readline()  # the first run is being set up
+    checkpoint = tmp_path / "out" / "runs" / "test-event_memory_resume.pickle"
+    deadline = time.time() + 90
+    while time.time() < deadline and not checkpoint.exists():  # dynesty is sampling: its first checkpoint is out
+        time.sleep(0.2)
+    time.sleep(1.0)
+    process.send_signal(signal.SIGINT)
+    output, error = process.communicate(timeout=120)
+    assert process.returncode == 130
+    lines = [line for line in error.splitlines() if line.strip()]
+    assert len(lines) == 1 and lines[0].startswith("memory-infer: interrupted during nested run 'test-event_memory';"), error
+    assert "Traceback" not in error + output and "Exception while calling" not in output
+    assert checkpoint.exists() and not os.path.exists(tmp_path / "out" / "evidence.json")
