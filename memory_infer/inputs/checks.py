@@ -10,6 +10,21 @@ SOURCE_PARAMETERS = ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "t
 ZERO_DEFAULTS = {"a_1": 0.0, "a_2": 0.0, "tilt_1": 0.0, "tilt_2": 0.0, "phi_12": 0.0, "phi_jl": 0.0}
 
 
+# solar masses: above the heaviest neutron stars (about 2-2.5) and below the lightest black holes seen in binaries
+# (common practice, no source); a binary with both masses below it may hold neutron stars
+NEUTRON_STAR_LIMIT = 3.0
+
+
+def light_binary_caution(mass_1: float, mass_2: float, approximant: str, where: str) -> str | None:
+    """A caution when both (detector-frame) masses lie below :data:`NEUTRON_STAR_LIMIT`: every model here is a
+    binary-black-hole (point-particle) model, without tides or tidal disruption; None otherwise."""
+    if not (float(mass_1) < NEUTRON_STAR_LIMIT and float(mass_2) < NEUTRON_STAR_LIMIT):
+        return None
+    return (f"both masses of {where} lie below {NEUTRON_STAR_LIMIT:g} solar masses ({float(mass_1):.3g} + "
+            f"{float(mass_2):.3g}), so it may hold neutron stars, but {approximant} is a binary-black-hole model "
+            "without tides or tidal disruption: its signal and memory may be wrong for such a binary")
+
+
 def check_physical(values: dict, where: str) -> None:
     """One sentence for the first unphysical value among bilby's standard parameters (numbers or arrays)."""
     rules = [

@@ -316,3 +316,25 @@ def test_ctrl_c_in_the_sampler_is_one_line_and_keeps_a_checkpoint(tmp_path):
     assert len(lines) == 1 and lines[0].startswith("memory-infer: interrupted during nested run 'test-event_memory';"), error
     assert "Traceback" not in error + output and "Exception while calling" not in output
     assert checkpoint.exists() and not os.path.exists(tmp_path / "out" / "evidence.json")
+
+
+def test_light_binary_with_a_black_hole_model_gets_a_caution(tmp_path, capsys):
+    """1.4 + 1.4 solar masses (a typical neutron-star binary) analysed with IMRPhenomTHM: a caution printed and
+    recorded in the result's warnings; a binary-black-hole pair gets none."""
+    import json
+
+    config = event_config(tmp_path, methods='["fast"]', distance=40.0)
+    text = open(config).read().replace("mass_1 = 36.0\nmass_2 = 29.0", "mass_1 = 1.4\nmass_2 = 1.4")
+    text = text.replace('approximant = "IMRPhenomTHM"', 'approximant = "IMRPhenomTHM"\nminimum_frequency = 60.0')
+    open(config, "w").write(text)
+    assert main(["evidence", config, "--outdir", str(tmp_path / "out"), "--quiet"]) == 0
+    printed = capsys.readouterr().out
+    expected = ("both masses of the injected binary lie below 3 solar masses (1.4 + 1.4), so it may hold neutron "
+                "stars, but IMRPhenomTHM is a binary-black-hole model without tides or tidal disruption")
+    assert f"caution: {expected}" in printed and f"warning: {expected}" in printed
+    warnings = json.loads((tmp_path / "out" / "evidence.json").read_text())["warnings"]
+    assert any(w.startswith(expected) for w in warnings)
+    from memory_infer.inputs.checks import light_binary_caution
+
+    assert light_binary_caution(36.0, 29.0, "IMRPhenomTHM", "x") is None
+    assert light_binary_caution(3.5, 1.4, "IMRPhenomTHM", "x") is None  # a light black hole and a neutron star

@@ -38,3 +38,10 @@ def test_output_into_a_closed_pipe_ends_quietly(tmp_path):
         assert process.wait(timeout=120) == 141  # as if ended by SIGPIPE (128 + 13)
         assert "Traceback" not in error and "BrokenPipeError" not in error, error
         assert (tmp_path / f"wave{len(flags)}" / "memory_waveform.csv").exists()  # the files were written whole
+
+
+def test_light_binary_gets_a_caution(tmp_path, capsys):
+    assert main(["waveform", "--mass-1", "1.4", "--mass-2", "1.4", "--distance", "40", "--start-frequency", "80",
+                 "--sampling-rate", "2048", "--segment", "8", "--outdir", str(tmp_path / "wave")]) == 0
+    assert ("caution: both masses of this binary lie below 3 solar masses (1.4 + 1.4), so it may hold neutron stars, "
+            "but IMRPhenomTHM is a binary-black-hole model") in capsys.readouterr().out
