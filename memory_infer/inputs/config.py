@@ -9,7 +9,7 @@ import copy
 import os
 import tomllib
 
-from ..common.errors import MemoryInferError
+from ..common.errors import MemoryInferError, close_match
 
 NUMBER = (int, float)
 ANY = object
@@ -72,15 +72,6 @@ def load_toml(path: str) -> dict:
             return tomllib.load(handle)
     except tomllib.TOMLDecodeError as error:
         raise MemoryInferError(f"configuration file '{path}' is not valid TOML ({error})") from None
-
-
-def close_match(word: str, choices) -> str:
-    """`` (did you mean 'X'?)`` for the closest of ``choices`` to a misspelled ``word``, else empty."""
-    import difflib
-
-    lowered = {str(choice).lower(): str(choice) for choice in choices}
-    found = difflib.get_close_matches(str(word).lower(), list(lowered), n=1, cutoff=0.6)
-    return f" (did you mean '{lowered[found[0]]}'?)" if found else ""
 
 
 def apply_schema(raw: dict, schema: dict, source: str) -> dict:

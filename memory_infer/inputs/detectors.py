@@ -12,8 +12,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from ..common.errors import MemoryInferError
-from .config import close_match
+from ..common.errors import MemoryInferError, close_match
 
 # our name -> (bilby file, what it is)
 NOISE_CURVES = {
