@@ -31,11 +31,21 @@ class InlineExecutor:
 PR_SET_PDEATHSIG = 1  # prctl(2): the signal a process gets when the thread that created it ends
 
 
+WORKER_FLAG = "MEMORY_INFER_CAMPAIGN_WORKER"  # set in each worker: Ctrl-C is the campaign's, even inside bilby
+
+
 def start_worker(campaign_pid: int) -> None:
-    """A worker's start: the allocator tuning the command line applies to itself, and death with the campaign."""
+    """A worker's start, as the command line sets up its own process: the allocator tuning, bilby's logger quiet
+    (its import sets it to INFO), Ctrl-C left to the campaign, and death with the campaign."""
+    import logging
+
+    import bilby  # noqa: F401
+
     from ..common.performance import tune_allocator
 
     tune_allocator()
+    logging.getLogger("bilby").setLevel(logging.WARNING)
+    os.environ[WORKER_FLAG] = "1"
     die_with(campaign_pid)
 
 
@@ -98,9 +108,9 @@ class ProcessExecutor:
 
     def close(self, now: bool = False):
         """Wait for running injections (they are stored), or with ``now`` (an interrupted campaign) end them."""
-        if now:
+        if now:  # SIGKILL: a worker's unfinished injection is simply run again when the campaign resumes
             for process in list((self.pool._processes or {}).values()):
-                process.terminate()
+                process.kill()
         self.pool.shutdown(wait=not now, cancel_futures=True)
 
 

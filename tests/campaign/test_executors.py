@@ -98,3 +98,28 @@ def test_a_killed_campaign_leaves_no_process_behind(tmp_path):
     while time.time() < deadline and session_processes(process.pid):
         time.sleep(0.1)
     assert session_processes(process.pid) == []
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+def test_ctrl_c_stops_a_campaign_in_one_line_with_its_workers(tmp_path):
+    """SIGINT to the campaign's whole process group, as a terminal's Ctrl-C sends it: exit status 130, one line on
+    standard error, the stored records kept, and no process of the campaign left."""
+    config = campaign_config(tmp_path, count=300)
+    command = [sys.executable, "-m", "memory_infer.cli", "campaign", config, "--outdir", str(tmp_path / "out"),
+               "--workers", "2", "--quiet"]
+    process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                               start_new_session=True)
+    records = tmp_path / "out" / "records.sqlite"
+    deadline = time.time() + 120
+    while time.time() < deadline and not stores_records(records):
+        time.sleep(0.2)
+    os.killpg(process.pid, signal.SIGINT)
+    output, error = process.communicate(timeout=60)
+    assert process.returncode == 130
+    assert [line for line in error.splitlines() if line.strip()] == [
+        "memory-infer campaign: interrupted; finished outputs are kept."], error
+    assert stores_records(records)
+    deadline = time.time() + 5
+    while time.time() < deadline and session_processes(process.pid):
+        time.sleep(0.1)
+    assert session_processes(process.pid) == []

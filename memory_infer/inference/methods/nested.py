@@ -5,6 +5,7 @@ from __future__ import annotations
 import contextlib
 import logging
 import os
+import signal
 import sys
 
 import numpy as np
@@ -41,9 +42,12 @@ def _checkpoint_and_stop(sampler, signum=None, frame=None):
 
     bilby's own handler ends the run with ``sys.exit`` from inside the likelihood call, and dynesty prints that
     call's parameters and a long traceback before letting it pass; ending the process here avoids both. As in
-    bilby, only the process that owns the sampler (not a pool worker) checkpoints and exits."""
+    bilby, only the process that owns the sampler (not a pool worker) checkpoints and exits; in a campaign's
+    worker, Ctrl-C is left to the campaign."""
     if sampler.npool not in (1, None) and getattr(sampler, "pool", None) is None:
         return
+    if signum == signal.SIGINT and os.environ.get("MEMORY_INFER_CAMPAIGN_WORKER"):  # set by campaign.executors
+        return  # a campaign's worker: Ctrl-C is the campaign's to handle (it ends its workers)
     kept = f"its checkpoint in {sampler.outdir} resumes it when the same command runs again"
     try:
         if getattr(sampler, "pbar", None) is not None:
