@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import argparse
 import logging
+import os
 import sys
 
 from .common.errors import MemoryInferError
@@ -60,13 +61,29 @@ def main(argv=None) -> int:
     show_library_messages()
     args = build_parser().parse_args(argv)
     try:
-        return _module(args.command).run(args)
+        code = _module(args.command).run(args)
+        sys.stdout.flush()  # inside the try: a reader gone before the last line is handled below, not at exit
+        return code
+    except BrokenPipeError:
+        return _reader_gone()
     except MemoryInferError as error:
         print(f"memory-infer {args.command}: {error}.", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print(f"memory-infer {args.command}: interrupted; finished outputs are kept.", file=sys.stderr)
         return 130
+
+
+def _reader_gone() -> int:
+    """Whoever read our output stopped early (``memory-infer waveform | head -1``): end quietly, as command-line
+    tools do, with the exit status of a process ended by SIGPIPE (128 + 13). What is still buffered goes nowhere."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        os.close(devnull)
+    except (OSError, ValueError):  # pragma: no cover - standard output not a file descriptor
+        pass
+    return 141
 
 
 if __name__ == "__main__":

@@ -131,3 +131,27 @@ def run_store(config_path, outdir, executor, window):
         executor.close()
         store.close()
     return stored(outdir)
+
+
+# ---------------------------------------------------------------- references
+
+def bilby_memory_snr(generator, source, detectors, asd_file, minimum_frequency, rate, duration, start):
+    """Optimal network SNR of the memory alone computed with bilby's own objects only: bilby's interferometers
+    for ``detectors`` (ET as its three), each with ``asd_file`` read by bilby and the band from
+    ``minimum_frequency``, bilby's detector response and ``optimal_snr_squared``; the memory is the generator's
+    strain at A = 1 minus that at A = 0."""
+    import bilby
+    import numpy as np
+
+    generator.start_time = start
+    with_memory = {k: v.copy() for k, v in generator.frequency_domain_strain(dict(source, memory_amplitude=1.0)).items()}
+    without = generator.frequency_domain_strain(dict(source, memory_amplitude=0.0))
+    memory = {k: with_memory[k] - without[k] for k in with_memory}
+    interferometers = bilby.gw.detector.InterferometerList(list(detectors))
+    for interferometer in interferometers:
+        interferometer.power_spectral_density = \
+            bilby.gw.detector.PowerSpectralDensity.from_amplitude_spectral_density_file(asd_file)
+        interferometer.minimum_frequency = minimum_frequency
+    interferometers.set_strain_data_from_zero_noise(rate, duration, start)
+    total = sum(np.real(i.optimal_snr_squared(i.get_detector_response(memory, source))) for i in interferometers)
+    return float(np.sqrt(total)), len(interferometers)

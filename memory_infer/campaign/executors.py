@@ -24,16 +24,80 @@ class InlineExecutor:
     def as_completed(futures):
         return iter(list(futures))
 
-    def close(self):
+    def close(self, now: bool = False):
         pass
 
 
+PR_SET_PDEATHSIG = 1  # prctl(2): the signal a process gets when the thread that created it ends
+
+
+WORKER_FLAG = "MEMORY_INFER_CAMPAIGN_WORKER"  # set in each worker: Ctrl-C is the campaign's, even inside bilby
+
+
+def start_worker(campaign_pid: int) -> None:
+    """A worker's start, as the command line sets up its own process: the allocator tuning, bilby's logger quiet
+    (its import sets it to INFO), Ctrl-C left to the campaign, and death with the campaign."""
+    import logging
+
+    import bilby  # noqa: F401
+
+    from ..common.performance import tune_allocator
+
+    tune_allocator()
+    logging.getLogger("bilby").setLevel(logging.WARNING)
+    os.environ[WORKER_FLAG] = "1"
+    die_with(campaign_pid)
+
+
+def die_with(campaign_pid: int) -> None:
+    """In a worker: be killed (SIGKILL) as soon as the process that started it ends, however it ends.
+
+    Linux's parent-death signal through ``prctl(2)`` (glibc via ctypes): the workers are started directly by the
+    campaign's main thread, so a SIGKILLed campaign leaves no worker behind. A campaign already gone by the time
+    this runs ends the worker at once."""
+    import ctypes
+    import signal
+    import sys
+
+    if sys.platform.startswith("linux"):
+        try:
+            ctypes.CDLL(None, use_errno=True).prctl(PR_SET_PDEATHSIG, int(signal.SIGKILL), 0, 0, 0)
+        except (OSError, AttributeError):  # pragma: no cover - no prctl: the campaign check below remains
+            pass
+    signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C is the campaign's to handle, not each worker's
+    if not _alive(campaign_pid):
+        os._exit(1)
+
+
+def _alive(pid: int) -> bool:
+    """Whether ``pid`` runs (a zombie, ended but not yet reaped, counts as ended)."""
+    try:
+        with open(f"/proc/{pid}/stat") as handle:
+            return handle.read().rsplit(")", 1)[1].split()[0] not in ("Z", "X")
+    except OSError:
+        try:
+            os.kill(pid, 0)
+        except ProcessLookupError:
+            return False
+        except PermissionError:
+            return True
+        return not os.path.isdir("/proc")
+
+
 class ProcessExecutor:
+    """Local worker processes, each a fresh interpreter ("spawn"), started from the campaign's main thread: they
+    inherit no pipes or locks from this threaded process (a forked worker could block for ever on a lock held by
+    a thread that does not exist in it, or on a pipe a forked sibling keeps open), and each dies with the
+    campaign (:func:`die_with`). Each worker imports the package once (a few seconds), then runs many injections.
+    A forkserver would not do: every worker it starts holds the server's own keep-alive pipe, so the server
+    outlives a killed campaign and the workers' parent-death signal never comes."""
+
     def __init__(self, workers: int):
         import multiprocessing
 
-        self.pool = concurrent.futures.ProcessPoolExecutor(max_workers=workers,
-                                                           mp_context=multiprocessing.get_context("fork"))
+        context = multiprocessing.get_context("spawn")
+        self.pool = concurrent.futures.ProcessPoolExecutor(max_workers=workers, mp_context=context,
+                                                           initializer=start_worker, initargs=(os.getpid(),))
 
     def submit(self, function, task):
         return self.pool.submit(function, task)
@@ -42,8 +106,12 @@ class ProcessExecutor:
     def as_completed(futures):
         return concurrent.futures.as_completed(futures)
 
-    def close(self):
-        self.pool.shutdown(cancel_futures=True)
+    def close(self, now: bool = False):
+        """Wait for running injections (they are stored), or with ``now`` (an interrupted campaign) end them."""
+        if now:  # SIGKILL: a worker's unfinished injection is simply run again when the campaign resumes
+            for process in list((self.pool._processes or {}).values()):
+                process.kill()
+        self.pool.shutdown(wait=not now, cancel_futures=True)
 
 
 class DaskExecutor:
@@ -92,7 +160,7 @@ class DaskExecutor:
 
         return as_completed(futures)
 
-    def close(self):
+    def close(self, now: bool = False):
         self.client.close()
         if self.cluster is not None:
             self.cluster.close()

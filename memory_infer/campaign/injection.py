@@ -39,16 +39,9 @@ def cached_detectors(network: str, minimum_frequency: float, duration: float = 0
     """One detector network per worker process and segment; each injection sets its own data.
 
     Keyed on the segment too: bilby caches each detector's frequency mask with its data's length."""
-    import bilby
+    from ..inputs.detectors import network_detectors
 
-    from ..inputs.detectors import network as network_members, power_spectral_density
-
-    members = network_members(network)
-    detectors = bilby.gw.detector.InterferometerList([name for name, _ in members])
-    for detector, (_, curve) in zip(detectors, members):
-        detector.power_spectral_density = power_spectral_density(curve)
-        detector.minimum_frequency = minimum_frequency
-    return detectors
+    return network_detectors(network, minimum_frequency)
 
 
 def noise_seed(campaign_seed: int, index: int) -> int:

@@ -44,8 +44,10 @@ def run(args) -> int:
     executor, window = make_executor(args, config)
     try:
         execute(tasks, store, executor, progress=not args.quiet, window=window)
-    finally:
-        executor.close()
+    except BaseException:  # interrupted (Ctrl-C) or failed: end the workers now; stored records are kept
+        executor.close(now=True)
+        raise
+    executor.close()
     records = store.records()
     store.close()
     summary = summarize(records, config)

@@ -38,7 +38,7 @@ def run(args) -> int:
     from ..inputs.population import read_table
 
     network(args.network)
-    sources = read_table(args.table, 1_000_000_002.0)
+    sources = read_table(args.table, 1_000_000_002.0, "event table")
     labels = pd.read_csv(args.table).get("label", pd.Series(range(len(sources)))).astype(str).tolist()
     rows = [{"label": label, "memory_snr": memory_snr({k: v for k, v in s.items() if k != "label"}, args.network,
                                                       args.duration, args.minimum_frequency)}

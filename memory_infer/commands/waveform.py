@@ -7,6 +7,7 @@ import numpy as np
 
 from ..common.errors import MemoryInferError
 from ..common.writing import atomic_path
+from ..inputs.checks import light_binary_caution
 from ..inputs.detectors import NOISE_CURVES, optimal_snr, psd_values
 from ..waveform.models import DEFAULT_APPROXIMANT, SUPPORTED, generate_modes
 from ..waveform.source import (EARLY_INSPIRAL_EFFECT, circular_layout, time_signal, to_frequency_domain,
@@ -78,6 +79,9 @@ def run(args) -> int:
               "use a longer --segment")
     if not args.no_early_inspiral:
         print(f"the early-inspiral memory (leading order, before the model's first sample) is {EARLY_INSPIRAL_EFFECT}")
+    caution = light_binary_caution(args.mass_1, args.mass_2, args.model, "this binary")
+    if caution:
+        print(f"caution: {caution}")
     print(f"wrote {table_path} and {figure_path}")
     return 0
 

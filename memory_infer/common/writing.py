@@ -1,7 +1,8 @@
 """Files out: atomic writes (temporary name, then rename), JSON with numpy values, provenance of a run.
 
 A failed run never half-writes an output: every file is written beside its final name and renamed
-onto it only when complete.
+onto it only when complete. The finished file gets the permissions of any newly created file (0666 less the
+process's umask, so 0644 under the usual 022), not the owner-only mode of a temporary file.
 """
 from __future__ import annotations
 
@@ -17,15 +18,31 @@ import numpy as np
 from .errors import MemoryInferError
 
 
+def current_umask() -> int:
+    """The process's umask, read without changing it where Linux reports it (``/proc/self/status``)."""
+    try:
+        with open("/proc/self/status") as handle:
+            for line in handle:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    mask = os.umask(0o022)  # elsewhere: set and restore at once
+    os.umask(mask)
+    return mask
+
+
 @contextlib.contextmanager
 def atomic_path(path: str):
-    """Yield a temporary path beside ``path``; rename it onto ``path`` only if the block succeeds."""
+    """Yield a temporary path beside ``path``; rename it onto ``path`` only if the block succeeds, with the
+    permissions the umask gives a new file (the block may write, replace or recreate the temporary file)."""
     directory = os.path.dirname(os.path.abspath(path))
     os.makedirs(directory, exist_ok=True)
     handle, temporary = tempfile.mkstemp(prefix=".partial-", suffix=os.path.splitext(path)[1], dir=directory)
     os.close(handle)
     try:
         yield temporary
+        os.chmod(temporary, 0o666 & ~current_umask())
         os.replace(temporary, path)
     finally:
         if os.path.exists(temporary):

@@ -2,6 +2,7 @@
 before anything is sampled or written."""
 from __future__ import annotations
 
+import logging
 import os
 from dataclasses import dataclass, field
 
@@ -9,7 +10,7 @@ import numpy as np
 
 from ..common.errors import MemoryInferError
 from ..inputs.calibration import attach_calibration
-from ..inputs.checks import check_samples
+from ..inputs.checks import check_samples, light_binary_caution
 from ..inputs.config import DEFAULT_REFERENCE_FREQUENCY, amplitude_grid
 from ..inputs.event_data import (build_priors, file_detectors, injection_parameters, simulated_detectors,
                                  waveform_arguments)
@@ -19,6 +20,8 @@ from ..waveform.generator import segment_note, waveform_generator
 from .hypotheses import hypothesis_priors
 from .likelihood import MemoryTransient
 from .methods import REGISTRY
+
+logger = logging.getLogger("memory_infer")
 
 
 @dataclass
@@ -124,7 +127,26 @@ def prepare(config: dict) -> EventSetup:
                                                                   f"'{os.path.basename(path)}'")
         setup.external_samples = frame
         setup.external_settings = sample_settings(config, file_settings, frame, column_settings)
+    caution = binary_caution(config, injection, priors, frame)
+    if caution:
+        logger.info("caution: %s", caution)
+        setup.notes.append(caution)
     return setup
+
+
+def binary_caution(config: dict, injection: dict | None, priors, frame) -> str | None:
+    """The light-binary caution (:func:`light_binary_caution`) for the injection, else the posterior samples'
+    median masses, else masses fixed in the priors."""
+    approximant = config["model"]["approximant"]
+    if injection is not None:
+        return light_binary_caution(injection["mass_1"], injection["mass_2"], approximant, "the injected binary")
+    if frame is not None and {"mass_1", "mass_2"} <= set(frame.columns):
+        return light_binary_caution(np.median(frame["mass_1"]), np.median(frame["mass_2"]), approximant,
+                                    "the posterior samples' binary (medians)")
+    fixed = [priors.get(name) for name in ("mass_1", "mass_2")]
+    if all(prior is not None and getattr(prior, "is_fixed", False) for prior in fixed):
+        return light_binary_caution(fixed[0].peak, fixed[1].peak, approximant, "the binary")
+    return None
 
 
 def resolve_reference_frequency(config: dict, file_settings: dict, column_settings: dict) -> None:

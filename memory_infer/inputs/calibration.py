@@ -41,9 +41,10 @@ class NominalDefaultSpline(CubicSpline):
 
 
 def calibration_priors(settings: dict, detector: str, minimum_frequency: float, maximum_frequency: float,
-                       directory: str = "."):
-    """bilby priors of one detector's spline nodes (fixed at 0 where a sigma is 0); an envelope's also carry
-    bilby's fixed node frequencies, which the model holds instead."""
+                       directory: str = ".", envelope_file: str | None = None):
+    """bilby priors of one interferometer's spline nodes (fixed at 0 where a sigma is 0); an envelope's also
+    carry bilby's fixed node frequencies, which the model holds instead. ``envelope_file`` defaults to the
+    interferometer's entry in ``envelope_files``."""
     import bilby
 
     nodes = int(settings["spline_nodes"])
@@ -57,22 +58,22 @@ def calibration_priors(settings: dict, detector: str, minimum_frequency: float, 
                 priors[name] = (bilby.core.prior.Gaussian(0.0, sigma, name=name) if sigma > 0
                                 else bilby.core.prior.DeltaFunction(0.0, name=name))
         return priors
-    files = settings["envelope_files"]
-    if detector not in files:
+    file_name = envelope_file or settings["envelope_files"].get(detector)
+    if file_name is None:
         raise MemoryInferError(f"[calibration] has kind 'envelope' but no file for {detector} in envelope_files")
-    path = os.path.join(directory, files[detector])
+    path = os.path.join(directory, file_name)
     if not os.path.isfile(path):
-        raise MemoryInferError(f"calibration envelope file '{files[detector]}' for {detector} does not exist")
+        raise MemoryInferError(f"calibration envelope file '{file_name}' for {detector} does not exist")
     try:
         table = np.genfromtxt(path)
     except ValueError:
         table = None
     if table is None or table.ndim != 2 or table.shape[1] != 7 or not np.all(np.isfinite(table)):
-        raise MemoryInferError(f"calibration envelope file '{files[detector]}' must have 7 numeric columns: "
+        raise MemoryInferError(f"calibration envelope file '{file_name}' must have 7 numeric columns: "
                                "frequency, median amplitude, median phase, amplitude and phase at -1 sigma, at "
                                "+1 sigma")
     if table[0, 0] > minimum_frequency or table[-1, 0] < maximum_frequency:
-        raise MemoryInferError(f"calibration envelope file '{files[detector]}' covers {table[0, 0]:g}-"
+        raise MemoryInferError(f"calibration envelope file '{file_name}' covers {table[0, 0]:g}-"
                                f"{table[-1, 0]:g} Hz, not the spline's {minimum_frequency:g}-{maximum_frequency:g} Hz")
     return bilby.gw.prior.CalibrationPriorDict.from_envelope_file(
         path, minimum_frequency, maximum_frequency, nodes, label, correction_type=settings["correction_type"])
@@ -92,13 +93,17 @@ def attach_calibration(settings: dict, detectors, priors, directory: str = ".") 
     one sentence per detector saying what was attached (empty for ``kind = "none"``)."""
     if settings["kind"] == "none":
         return []
+    from .detectors import detector_of, per_interferometer
+
+    names = list(dict.fromkeys(detector_of(detector.name) for detector in detectors))
+    files = per_interferometer(settings["envelope_files"], names, "envelope_files in [calibration]")
     notes = []
     for detector in detectors:
         low = float(settings["minimum_frequency"] or detector.minimum_frequency)
         high = float(settings["maximum_frequency"] or detector.maximum_frequency)
         if not 0 < low < high:
             raise MemoryInferError("[calibration] minimum_frequency must be positive and below maximum_frequency")
-        node_priors = calibration_priors(settings, detector.name, low, high, directory)
+        node_priors = calibration_priors(settings, detector.name, low, high, directory, files.get(detector.name))
         for name, prior in node_priors.items():
             # fixed nodes and the node frequencies stay out of the sampled priors: bilby's sampler draws a random
             # number even for a fixed prior, so they would change every seeded run; the model holds them instead

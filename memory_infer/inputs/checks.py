@@ -10,6 +10,21 @@ SOURCE_PARAMETERS = ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "t
 ZERO_DEFAULTS = {"a_1": 0.0, "a_2": 0.0, "tilt_1": 0.0, "tilt_2": 0.0, "phi_12": 0.0, "phi_jl": 0.0}
 
 
+# solar masses: above the heaviest neutron stars (about 2-2.5) and below the lightest black holes seen in binaries
+# (common practice, no source); a binary with both masses below it may hold neutron stars
+NEUTRON_STAR_LIMIT = 3.0
+
+
+def light_binary_caution(mass_1: float, mass_2: float, approximant: str, where: str) -> str | None:
+    """A caution when both (detector-frame) masses lie below :data:`NEUTRON_STAR_LIMIT`: every model here is a
+    binary-black-hole (point-particle) model, without tides or tidal disruption; None otherwise."""
+    if not (float(mass_1) < NEUTRON_STAR_LIMIT and float(mass_2) < NEUTRON_STAR_LIMIT):
+        return None
+    return (f"both masses of {where} lie below {NEUTRON_STAR_LIMIT:g} solar masses ({float(mass_1):.3g} + "
+            f"{float(mass_2):.3g}), so it may hold neutron stars, but {approximant} is a binary-black-hole model "
+            "without tides or tidal disruption: its signal and memory may be wrong for such a binary")
+
+
 def check_physical(values: dict, where: str) -> None:
     """One sentence for the first unphysical value among bilby's standard parameters (numbers or arrays)."""
     rules = [
@@ -35,6 +50,23 @@ def check_physical(values: dict, where: str) -> None:
             raise MemoryInferError(f"'mass_2' in {where} exceeds 'mass_1' (bilby orders the masses)")
 
 
+def non_finite_sentence(numeric, columns: list, where: str) -> str:
+    """Where the first NaN or infinite value of a table sits (column, and row counted from 1), and how many rows
+    and other columns hold one."""
+    bad = ~np.isfinite(numeric)
+    column = int(np.argmax(bad.any(axis=0)))
+    rows = np.flatnonzero(bad[:, column])
+    value = "NaN" if np.isnan(numeric[rows[0], column]) else "an infinite value"
+    text = f"{where} hold {value} in column '{columns[column]}' at row {rows[0] + 1}"
+    if rows.size > 1:
+        text += f" (and {rows.size - 1} more row{'s' if rows.size > 2 else ''})"
+    others = [columns[k] for k in np.flatnonzero(bad.any(axis=0)) if k != column]
+    if others:
+        text += (f", as does the column '{others[0]}'" if len(others) == 1
+                 else f", as do the columns {', '.join(repr(c) for c in others)}")
+    return text
+
+
 def check_samples(frame, required, where: str):
     """Missing columns, non-finite values and unphysical values each get one sentence."""
     missing = [name for name in required if name not in frame.columns]
@@ -42,7 +74,7 @@ def check_samples(frame, required, where: str):
         raise MemoryInferError(f"{where} lack the column{'s' if len(missing) > 1 else ''} {', '.join(repr(m) for m in missing)}")
     numeric = frame[[c for c in required]].to_numpy(dtype=float)
     if not np.all(np.isfinite(numeric)):
-        raise MemoryInferError(f"{where} contain NaN or infinite values")
+        raise MemoryInferError(non_finite_sentence(numeric, list(required), where))
     check_physical({c: frame[c].to_numpy(dtype=float) for c in frame.columns
                     if c in ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "theta_jn", "tilt_1", "tilt_2",
                              "dec", "mass_ratio", "chirp_mass")}, where)

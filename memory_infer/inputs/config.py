@@ -9,7 +9,7 @@ import copy
 import os
 import tomllib
 
-from ..common.errors import MemoryInferError
+from ..common.errors import MemoryInferError, close_match
 
 NUMBER = (int, float)
 ANY = object
@@ -75,34 +75,41 @@ def load_toml(path: str) -> dict:
 
 
 def apply_schema(raw: dict, schema: dict, source: str) -> dict:
-    """Fill defaults and check types; returns a new dict with every section of ``schema``."""
+    """Fill defaults and check types; returns a new dict with every section of ``schema``.
+
+    A misspelled key or section is named with its closest known spelling, together with the required key it
+    leaves missing."""
     for section in raw:
         if section not in schema:
-            raise MemoryInferError(f"unknown section [{section}] in {source}; known: {', '.join(schema)}")
+            raise MemoryInferError(f"unknown section [{section}] in {source}{close_match(section, schema)}; known: "
+                                   f"{', '.join(schema)}")
     config = {}
     for section, keys in schema.items():
         given = raw.get(section, {})
         if not isinstance(given, dict):
             raise MemoryInferError(f"[{section}] in {source} must be a table")
+        known = [key for key in keys if key != "*"]
+        unknown = [key for key in given if key not in keys and "*" not in keys]
+        missing = [key for key, (_, default) in keys.items() if default is REQUIRED and key not in given]
+        if missing and unknown:
+            raise MemoryInferError(f"key '{missing[0]}' is missing from [{section}] of {source}, and '{unknown[0]}' "
+                                   f"there is unknown{close_match(unknown[0], known)}")
+        if unknown:
+            raise MemoryInferError(f"unknown key '{unknown[0]}' in [{section}] of {source}"
+                                   f"{close_match(unknown[0], known)}")
+        if missing:
+            raise MemoryInferError(f"key '{missing[0]}' is missing from [{section}] of {source}")
         values = {}
         for key, value in given.items():
-            spec = keys.get(key, keys.get("*"))
-            if spec is None:
-                raise MemoryInferError(f"unknown key '{key}' in [{section}] of {source}")
-            kind = spec[0]
+            kind = keys.get(key, keys.get("*"))[0]
             if kind is not ANY:
                 ok = isinstance(value, kind) and not (kind in (NUMBER, int) and isinstance(value, bool))
-                if kind is NUMBER and isinstance(value, bool):
-                    ok = False
                 if not ok:
                     raise MemoryInferError(f"key '{key}' in [{section}] of {source} must be {_type_name(kind)}")
             values[key] = value
         for key, (_, default) in keys.items():
-            if key == "*" or key in values:
-                continue
-            if default is REQUIRED:
-                raise MemoryInferError(f"key '{key}' is missing from [{section}] of {source}")
-            values[key] = copy.deepcopy(default)
+            if key != "*" and key not in values:
+                values[key] = copy.deepcopy(default)
         config[section] = values
     return config
 
@@ -132,7 +139,32 @@ def load_evidence_config(path: str) -> dict:
     if config["likelihood"]["phase_marginalization"]:
         raise MemoryInferError(PHASE_REFUSAL)
     check_calibration(config["calibration"])
+    check_detector_keys(config)
     return config
+
+
+def analysis_detectors(data: dict) -> list:
+    """The bilby detector names an event's data use: ``detectors`` for simulated data, else those of the files."""
+    from .detectors import detector_of
+
+    if data["kind"] == "files":
+        return list(dict.fromkeys(detector_of(str(key)) for key in data["files"]))
+    return [str(name) for name in data["detectors"]]
+
+
+def check_detector_keys(config: dict) -> None:
+    """Every per-detector table names a detector of the analysis (or one of its interferometers), in one
+    sentence otherwise; noise curves are known names."""
+    from .detectors import NOISE_CURVES, interferometers_of, per_interferometer
+
+    data = config["data"]
+    detectors = analysis_detectors(data)
+    curves = per_interferometer(data["noise_curves"], detectors, "noise_curves in [data]")
+    for name in (member for detector in detectors for member in interferometers_of(detector)):
+        curve = curves.get(name, data["noise_curve"])
+        if curve not in NOISE_CURVES:
+            raise MemoryInferError(f"unknown noise curve '{curve}' for {name}; choose one of {', '.join(NOISE_CURVES)}")
+    per_interferometer(config["calibration"]["envelope_files"], detectors, "envelope_files in [calibration]")
 
 
 def check_calibration(settings: dict) -> None:

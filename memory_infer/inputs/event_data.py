@@ -9,7 +9,7 @@ import numpy as np
 from ..common.errors import MemoryInferError
 from .config import DEFAULT_REFERENCE_FREQUENCY
 from .checks import SOURCE_PARAMETERS, ZERO_DEFAULTS, check_physical
-from .detectors import NOISE_CURVES, noise_curve_path
+from .detectors import configured_detectors, detector_of, empty_detectors, interferometers_of, per_interferometer
 
 logger = logging.getLogger("memory_infer")
 
@@ -112,36 +112,13 @@ def build_priors(config: dict, injection: dict | None):
 
 # ---------------------------------------------------------------- detector data
 
-def _psd_for(name: str, detector: str, data: dict):
-    import bilby
-
-    curve = data["noise_curves"].get(detector, data["noise_curve"])
-    if curve not in NOISE_CURVES:
-        raise MemoryInferError(f"unknown noise curve '{curve}' for {detector}; choose one of {', '.join(NOISE_CURVES)}")
-    return bilby.gw.detector.PowerSpectralDensity(asd_file=noise_curve_path(curve))
-
-
-def _empty_detectors(names):
-    import bilby
-
-    try:
-        return bilby.gw.detector.InterferometerList(list(names))
-    except (ValueError, KeyError, OSError):
-        raise MemoryInferError(f"unknown detector among {', '.join(map(str, names))}; use bilby names such as H1, "
-                               "L1, V1, K1, ET, CE") from None
-
-
 def simulated_detectors(config: dict, injection: dict, generator):
     """Gaussian (seeded) or zero noise from the named curves, with the injection added."""
     import bilby
 
     data = config["data"]
-    detectors = _empty_detectors(data["detectors"])
-    for detector in detectors:
-        detector.power_spectral_density = _psd_for(detector.name, detector.name, data)
-        detector.minimum_frequency = float(data["minimum_frequency"])
-        if data["maximum_frequency"]:
-            detector.maximum_frequency = float(data["maximum_frequency"])
+    detectors = configured_detectors(data["detectors"], data["noise_curves"], data["noise_curve"],
+                                     data["minimum_frequency"], data["maximum_frequency"])
     bilby.core.utils.random.seed(int(data["seed"]))
     if data["noise"] == "zero":
         detectors.set_strain_data_from_zero_noise(data["sampling_rate"], data["duration"], data["start_time"])
@@ -169,17 +146,27 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
 
     ``files`` maps a detector name to ``{"strain": path, "psd": path}`` (or ``"psd_from_strain"``: off-source
     strain for Welch's method, with optional ``welch_segment``, ``welch_overlap``, and ``channel`` for frames);
-    relative paths are taken from ``directory``.
+    relative paths are taken from ``directory``. A detector of several interferometers (bilby's ET: ET1, ET2,
+    ET3) takes its strain per interferometer (``files["ET1"]``...); settings under its own name (a PSD file)
+    apply to each of them.
     """
     import bilby
 
     from .readers import read_psd, read_strain, welch_psd
 
-    names = list(files)
-    detectors = _empty_detectors(names)
+    names = list(dict.fromkeys(detector_of(str(key)) for key in files))
+    entries = per_interferometer(files, names, "[data.files]")
+    for name in names:
+        members = interferometers_of(name)
+        shared = files.get(name)
+        if len(members) > 1 and isinstance(shared, dict) and {"strain", "psd_from_strain"} & set(shared):
+            raise MemoryInferError(f"[data.files.{name}] gives one strain file to the {len(members)} "
+                                   f"interferometers {', '.join(members)}; give each its own "
+                                   f"([data.files.{members[0]}] strain = ...)")
+    detectors = empty_detectors(names)
     rate, duration, start = float(sampling_rate), float(duration), float(start_time)
     for detector in detectors:
-        entry = files[detector.name]
+        entry = entries.get(detector.name)
         if not isinstance(entry, dict) or "strain" not in entry:
             raise MemoryInferError(f"[data.files.{detector.name}] needs a 'strain' file")
         path = os.path.join(directory, entry["strain"])

@@ -144,25 +144,37 @@ def truncation_warning(redshifts, redshift_max: float, share: float = 0.01) -> s
             "the range truncates the detectable population, so raise redshift_max")
 
 
-def read_table(path: str, geocent_time: float) -> list:
-    """Explicit injections from CSV with bilby parameter names (spins default to zero)."""
+def read_table(path: str, geocent_time: float, what: str = "injection table") -> list:
+    """Explicit sources from CSV with bilby parameter names (spins default to zero); ``what`` names the table in
+    messages. Text outside a 'label' column, missing columns (all named at once) and unphysical values are refused
+    in one sentence."""
     import pandas as pd
 
     if not os.path.isfile(path):
-        raise MemoryInferError(f"injection table '{path}' does not exist")
+        raise MemoryInferError(f"{what} '{path}' does not exist")
+    name = os.path.basename(path)
     try:
         frame = pd.read_csv(path)
     except (ValueError, OSError):
-        raise MemoryInferError(f"injection table '{os.path.basename(path)}' is not a readable CSV") from None
+        raise MemoryInferError(f"{what} '{name}' is not a readable CSV") from None
+    text = [c for c in frame.columns if c != "label" and not pd.api.types.is_numeric_dtype(frame[c])]
+    if text:
+        column = frame[text[0]]
+        first = column[pd.to_numeric(column, errors="coerce").isna() & column.notna()]
+        example = f" (row {first.index[0] + 1}: {first.iloc[0]!r})" if len(first) else ""
+        raise MemoryInferError(f"{what} '{name}' has text in the column{'s' if len(text) > 1 else ''} "
+                               f"{', '.join(repr(str(c)) for c in text)}{example}; every column but 'label' must "
+                               "hold numbers")
+    missing = [k for k in SOURCE_PARAMETERS if k not in frame.columns and k not in ZERO_DEFAULTS and k != "geocent_time"]
+    if missing:
+        raise MemoryInferError(f"{what} '{name}' lacks the column{'s' if len(missing) > 1 else ''} "
+                               f"{', '.join(repr(m) for m in missing)}")
     sources = []
-    for row in frame.to_dict("records"):
+    for row, values in enumerate(frame.to_dict("records"), 1):
         source = dict(ZERO_DEFAULTS, geocent_time=geocent_time)
-        source.update({k: float(v) for k, v in row.items() if k != "label"})
-        missing = [k for k in SOURCE_PARAMETERS if k not in source]
-        if missing:
-            raise MemoryInferError(f"injection table '{os.path.basename(path)}' lacks the column {missing[0]!r}")
-        check_physical(source, f"injection table '{os.path.basename(path)}'")
+        source.update({k: float(v) for k, v in values.items() if k != "label"})
+        check_physical(source, f"row {row} of {what} '{name}'")
         sources.append(source)
     if not sources:
-        raise MemoryInferError(f"injection table '{os.path.basename(path)}' holds no injections")
+        raise MemoryInferError(f"{what} '{name}' holds no rows")
     return sources

@@ -55,3 +55,71 @@ def test_local_pool_and_dask_cluster_agree(tmp_path):
         cluster.close()
     assert code == 0
     assert stored(tmp_path / "dask") == local
+
+
+def session_processes(session: int) -> list:
+    """Live processes (zombies excluded: they have ended) of one session, from /proc (Linux)."""
+    out = []
+    for entry in os.listdir("/proc"):
+        if entry.isdigit():
+            try:
+                with open(f"/proc/{entry}/stat") as handle:
+                    fields = handle.read().rsplit(")", 1)[1].split()
+            except OSError:
+                continue
+            if int(fields[3]) == session and fields[0] not in ("Z", "X"):  # fields: state, ppid, pgrp, session
+                out.append(int(entry))
+    return out
+
+
+def stores_records(path) -> bool:
+    try:
+        with sqlite3.connect(path, timeout=0.1) as connection:
+            return connection.execute("SELECT COUNT(*) FROM records").fetchone()[0] > 0
+    except sqlite3.Error:  # not created yet, or busy
+        return False
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc; the parent-death signal is Linux's")
+def test_a_killed_campaign_leaves_no_process_behind(tmp_path):
+    config = campaign_config(tmp_path, count=300)
+    command = [sys.executable, "-m", "memory_infer.cli", "campaign", config, "--outdir", str(tmp_path / "out"),
+               "--workers", "2", "--quiet"]
+    process = subprocess.Popen(command, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, start_new_session=True)
+    records = tmp_path / "out" / "records.sqlite"
+    deadline = time.time() + 120
+    while time.time() < deadline and not (len(session_processes(process.pid)) >= 3 and stores_records(records)):
+        time.sleep(0.2)
+    running = session_processes(process.pid)
+    assert len(running) >= 3, running  # the campaign and its two workers, storing records
+    process.send_signal(signal.SIGKILL)
+    process.wait()
+    deadline = time.time() + 5
+    while time.time() < deadline and session_processes(process.pid):
+        time.sleep(0.1)
+    assert session_processes(process.pid) == []
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+def test_ctrl_c_stops_a_campaign_in_one_line_with_its_workers(tmp_path):
+    """SIGINT to the campaign's whole process group, as a terminal's Ctrl-C sends it: exit status 130, one line on
+    standard error, the stored records kept, and no process of the campaign left."""
+    config = campaign_config(tmp_path, count=300)
+    command = [sys.executable, "-m", "memory_infer.cli", "campaign", config, "--outdir", str(tmp_path / "out"),
+               "--workers", "2", "--quiet"]
+    process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                               start_new_session=True)
+    records = tmp_path / "out" / "records.sqlite"
+    deadline = time.time() + 120
+    while time.time() < deadline and not stores_records(records):
+        time.sleep(0.2)
+    os.killpg(process.pid, signal.SIGINT)
+    output, error = process.communicate(timeout=60)
+    assert process.returncode == 130
+    assert [line for line in error.splitlines() if line.strip()] == [
+        "memory-infer campaign: interrupted; finished outputs are kept."], error
+    assert stores_records(records)
+    deadline = time.time() + 5
+    while time.time() < deadline and session_processes(process.pid):
+        time.sleep(0.1)
+    assert session_processes(process.pid) == []

@@ -3,6 +3,7 @@ import json
 from memory_infer.commands.demo import EVENT_TEMPLATE, EVENTS
 from memory_infer.inference.setup import prepare
 from memory_infer.inputs.config import load_evidence_config
+from memory_infer.inputs.detectors import noise_curve_path
 
 
 def test_every_demo_event_is_a_valid_configuration(tmp_path):
@@ -17,3 +18,6 @@ def test_every_demo_event_is_a_valid_configuration(tmp_path):
         setup = prepare(load_evidence_config(str(path)))
         assert setup.injection["memory_amplitude"] == amplitude
         assert {d.name[:2] for d in setup.detectors} == {d[:2] for d in detectors}  # ET is three interferometers
+        for detector in setup.detectors:  # each interferometer has its detector's noise curve (ET: all three)
+            assert detector.power_spectral_density.asd_file == noise_curve_path(curves[detector.name[:2]])
+            assert detector.minimum_frequency == 20.0

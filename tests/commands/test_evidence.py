@@ -110,12 +110,27 @@ def test_missing_sample_columns(tmp_path, capsys):
                        "'luminosity_distance'.")
 
 
+def test_missing_sample_columns_all_at_once(tmp_path, capsys):
+    write_strain(tmp_path / "H1.txt")
+    write_psd(tmp_path / "H1_psd.txt")
+    pd.DataFrame({"phase": [0.1, 0.2]}).to_csv(tmp_path / "samples.csv", index=False)
+    config = files_config(tmp_path, extra='samples_file = "samples.csv"')
+    text = open(config).read().replace("mass_1 = 36.0\nmass_2 = 29.0", 'chirp_mass = { kind = "uniform", minimum = 25.0, '
+                                       'maximum = 30.0 }\nmass_ratio = { kind = "uniform", minimum = 0.5, maximum = 1.0 }')
+    open(config, "w").write(text)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == ("memory-infer evidence: posterior samples in 'samples.csv' lack the columns 'chirp_mass', "
+                       "'mass_ratio', 'luminosity_distance'.")
+
+
 def test_nan_samples(tmp_path, capsys):
     write_strain(tmp_path / "H1.txt")
     write_psd(tmp_path / "H1_psd.txt")
-    pd.DataFrame({"luminosity_distance": [400.0, np.nan]}).to_csv(tmp_path / "samples.csv", index=False)
+    pd.DataFrame({"luminosity_distance": [400.0, 410.0, np.nan, 420.0, np.nan]}).to_csv(tmp_path / "samples.csv",
+                                                                                      index=False)
     message = evidence_case(tmp_path, capsys, files_config(tmp_path, extra='samples_file = "samples.csv"'))
-    assert message == "memory-infer evidence: posterior samples in 'samples.csv' contain NaN or infinite values."
+    assert message == ("memory-infer evidence: posterior samples in 'samples.csv' hold NaN in column "
+                       "'luminosity_distance' at row 3 (and 1 more row).")
 
 
 def test_unphysical_samples(tmp_path, capsys):
@@ -148,7 +163,26 @@ def test_invalid_toml(tmp_path, capsys):
 def test_unknown_key(tmp_path, capsys):
     config = event_config(tmp_path, likelihood="distance_marginalisation = true")
     message = evidence_case(tmp_path, capsys, config)
-    assert message == "memory-infer evidence: unknown key 'distance_marginalisation' in [likelihood] of event.toml."
+    assert message == ("memory-infer evidence: unknown key 'distance_marginalisation' in [likelihood] of event.toml "
+                       "(did you mean 'distance_marginalization'?).")
+
+
+def test_misspelled_required_key(tmp_path, capsys):
+    config = event_config(tmp_path)
+    text = open(config).read().replace('label = "test-event"', 'lable = "test-event"')
+    open(config, "w").write(text)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == ("memory-infer evidence: key 'label' is missing from [event] of event.toml, and 'lable' there "
+                       "is unknown (did you mean 'label'?).")
+
+
+def test_misspelled_section(tmp_path, capsys):
+    config = event_config(tmp_path)
+    text = open(config).read().replace("[priors]", "[prior]")
+    open(config, "w").write(text)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message.startswith("memory-infer evidence: unknown section [prior] in event.toml (did you mean "
+                              "'priors'?); known: event, data,")
 
 
 def test_wrong_type(tmp_path, capsys):
@@ -166,7 +200,7 @@ def test_unknown_noise_curve(tmp_path, capsys):
 def test_unknown_detector(tmp_path, capsys):
     config = event_config(tmp_path, detectors='["X9"]')
     message = evidence_case(tmp_path, capsys, config)
-    assert message.startswith("memory-infer evidence: unknown detector among X9;")
+    assert message.startswith("memory-infer evidence: unknown detector 'X9'; use one of bilby's: A1, CE, ET,")
 
 
 def test_surrogate_model_unavailable(tmp_path, capsys):
@@ -241,3 +275,66 @@ def test_files_and_outside_samples_run_end_to_end(tmp_path, capsys):
     assert reweighted and all(m["effective_sample_size"] > 50 for m in reweighted)
     assert record["memory_snr"]["value"] > 0
     assert (tmp_path / "out" / "report.html").exists()
+
+
+def test_noise_curve_for_a_detector_not_analysed(tmp_path, capsys):
+    config = event_config(tmp_path, detectors='["H1", "L1"]', noise_curve="ligo-design")
+    text = open(config).read().replace('noise_curve = "ligo-design"', 'noise_curve = "ligo-design"\n'
+                                                                       'noise_curves = { XX = "ce" }')
+    open(config, "w").write(text)
+    message = evidence_case(tmp_path, capsys, config)
+    assert message == ("memory-infer evidence: noise_curves in [data] names 'XX', which is not a detector of this "
+                       "analysis (H1, L1).")
+
+
+@pytest.mark.slow
+def test_ctrl_c_in_the_sampler_is_one_line_and_keeps_a_checkpoint(tmp_path):
+    """SIGINT (Ctrl-C) while dynesty samples: exit status 130, one line on standard error, no traceback, the run's
+    checkpoint kept so that the same command resumes it, and no result written."""
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    config = event_config(tmp_path, live_points=300, hypotheses='["memory", "none"]')
+    text = open(config).read().replace("checkpoint_seconds = 10.0", "checkpoint_seconds = 2.0")
+    open(config, "w").write(text)
+    environment = dict(os.environ, PYTHONPATH=os.pathsep.join([os.getcwd(), os.environ.get("PYTHONPATH", "")]))
+    process = subprocess.Popen([sys.executable, "-m", "memory_infer.cli", "evidence", config, "--outdir",
+                                str(tmp_path / "out"), "--quiet"], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                               text=True, env=environment)
+    assert "nested sampling" in process.stdout.readline()  # the first run is being set up
+    checkpoint = tmp_path / "out" / "runs" / "test-event_memory_resume.pickle"
+    deadline = time.time() + 90
+    while time.time() < deadline and not checkpoint.exists():  # dynesty is sampling: its first checkpoint is out
+        time.sleep(0.2)
+    time.sleep(1.0)
+    process.send_signal(signal.SIGINT)
+    output, error = process.communicate(timeout=120)
+    assert process.returncode == 130
+    lines = [line for line in error.splitlines() if line.strip()]
+    assert len(lines) == 1 and lines[0].startswith("memory-infer: interrupted during nested run 'test-event_memory';"), error
+    assert "Traceback" not in error + output and "Exception while calling" not in output
+    assert checkpoint.exists() and not os.path.exists(tmp_path / "out" / "evidence.json")
+
+
+def test_light_binary_with_a_black_hole_model_gets_a_caution(tmp_path, capsys):
+    """1.4 + 1.4 solar masses (a typical neutron-star binary) analysed with IMRPhenomTHM: a caution printed and
+    recorded in the result's warnings; a binary-black-hole pair gets none."""
+    import json
+
+    config = event_config(tmp_path, methods='["fast"]', distance=40.0)
+    text = open(config).read().replace("mass_1 = 36.0\nmass_2 = 29.0", "mass_1 = 1.4\nmass_2 = 1.4")
+    text = text.replace('approximant = "IMRPhenomTHM"', 'approximant = "IMRPhenomTHM"\nminimum_frequency = 60.0')
+    open(config, "w").write(text)
+    assert main(["evidence", config, "--outdir", str(tmp_path / "out"), "--quiet"]) == 0
+    printed = capsys.readouterr().out
+    expected = ("both masses of the injected binary lie below 3 solar masses (1.4 + 1.4), so it may hold neutron "
+                "stars, but IMRPhenomTHM is a binary-black-hole model without tides or tidal disruption")
+    assert f"caution: {expected}" in printed and f"warning: {expected}" in printed
+    warnings = json.loads((tmp_path / "out" / "evidence.json").read_text())["warnings"]
+    assert any(w.startswith(expected) for w in warnings)
+    from memory_infer.inputs.checks import light_binary_caution
+
+    assert light_binary_caution(36.0, 29.0, "IMRPhenomTHM", "x") is None
+    assert light_binary_caution(3.5, 1.4, "IMRPhenomTHM", "x") is None  # a light black hole and a neutron star

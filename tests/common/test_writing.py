@@ -40,3 +40,24 @@ def test_provenance_names_versions_and_seed():
     record = provenance({"key": 1}, 7)
     assert record["seed"] == 7 and record["configuration"] == {"key": 1}
     assert record["versions"]["numpy"] == np.__version__
+
+
+@pytest.mark.parametrize("mask, expected", [(0o022, 0o644), (0o077, 0o600), (0o002, 0o664)])
+def test_outputs_honour_the_umask_and_stay_atomic(tmp_path, mask, expected):
+    # expected modes: 0666 less the umask, as open(2) gives a new file (POSIX; common practice, no source)
+    import stat
+
+    import pandas as pd
+
+    previous = os.umask(mask)
+    try:
+        write_json(str(tmp_path / "a.json"), {"x": 1})
+        write_text(str(tmp_path / "b.html"), "<p>y</p>")
+        with atomic_path(str(tmp_path / "c.csv")) as temporary:  # a library writing the temporary file itself
+            pd.DataFrame({"z": [1]}).to_csv(temporary, index=False)
+        write_text(str(tmp_path / "b.html"), "<p>again</p>")  # replacing an existing output
+    finally:
+        os.umask(previous)
+    for name in ("a.json", "b.html", "c.csv"):
+        assert stat.S_IMODE(os.stat(tmp_path / name).st_mode) == expected, name
+    assert sorted(os.listdir(tmp_path)) == ["a.json", "b.html", "c.csv"]  # no temporary file left

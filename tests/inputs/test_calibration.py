@@ -222,3 +222,26 @@ def test_calibration_in_nested_sampling_and_reweighting(tmp_path):
     print(f"nested {nested['ln_bf']:.3f} +- {nested['ln_bf_err']:.3f}; reweighted {reweighted['ln_bf']:.4f} +- "
           f"{reweighted['ln_bf_err']:.4f}; calibration drawn {estimate['ln_bf']:.4f} +- {estimate['ln_bf_err']:.4f} "
           f"(ESS {estimate['effective_sample_size']:.0f} of {estimate['number_of_samples']})")
+
+
+def test_envelope_under_a_detector_name_reaches_each_interferometer(tmp_path):
+    """``envelope_files = { ET = ... }`` gives ET1, ET2 and ET3 (bilby's ET) the same envelope, each its own nodes;
+    an envelope for a detector not analysed is refused."""
+    from memory_infer.common.errors import MemoryInferError
+    from memory_infer.inference.setup import prepare
+    from memory_infer.inputs.config import load_evidence_config
+
+    frequencies = np.logspace(np.log10(10), np.log10(2000), 40)
+    table = np.column_stack([frequencies, np.ones(40), np.zeros(40), np.full(40, 0.95), np.full(40, -0.03),
+                             np.full(40, 1.05), np.full(40, 0.03)])
+    np.savetxt(tmp_path / "ET_envelope.txt", table)
+    extra = '\n[calibration]\nkind = "envelope"\nspline_nodes = 5\nenvelope_files = { ET = "ET_envelope.txt" }\n'
+    path = event_config(tmp_path, detectors='["ET"]', noise_curve="et-d", evidence_extra=extra)
+    setup = prepare(load_evidence_config(path))
+    assert [d.calibration_model.prefix for d in setup.detectors] == ["recalib_ET1_", "recalib_ET2_", "recalib_ET3_"]
+    assert all(f"recalib_ET{k}_amplitude_0" in setup.priors for k in (1, 2, 3))
+    wrong = event_config(tmp_path, name="wrong.toml", detectors='["ET"]', noise_curve="et-d",
+                         evidence_extra=extra.replace("{ ET =", "{ H1 ="))
+    with pytest.raises(MemoryInferError, match=r"envelope_files in \[calibration\] names 'H1', which is not a "
+                                               r"detector of this analysis \(ET\)"):
+        load_evidence_config(wrong)

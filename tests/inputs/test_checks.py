@@ -23,3 +23,17 @@ def test_physical_values_pass_and_samples_need_their_columns():
     check_samples(frame, ["mass_1", "phase"], "samples")
     with pytest.raises(MemoryInferError, match="lack the column 'psi'"):
         check_samples(frame, ["mass_1", "psi"], "samples")
+
+
+def test_non_finite_samples_named_by_column_and_row():
+    import numpy as np
+    import pandas as pd
+
+    from memory_infer.inputs.checks import check_samples
+
+    frame = pd.DataFrame({"mass_1": [30.0, 31.0, 32.0], "luminosity_distance": [400.0, np.inf, 410.0],
+                          "phase": [0.1, np.nan, np.nan]})
+    with pytest.raises(MemoryInferError) as caught:
+        check_samples(frame, ["mass_1", "luminosity_distance", "phase"], "posterior samples in 's.dat'")
+    assert str(caught.value) == ("posterior samples in 's.dat' hold an infinite value in column 'luminosity_distance' "
+                                 "at row 2, as does the column 'phase'")

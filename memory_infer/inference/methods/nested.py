@@ -2,8 +2,11 @@
 dynesty's errors added in quadrature; the free-amplitude run gives the posterior of A."""
 from __future__ import annotations
 
+import contextlib
 import logging
 import os
+import signal
+import sys
 
 import numpy as np
 
@@ -26,11 +29,53 @@ def run_nested(likelihood, priors, label: str, outdir: str, live_points: int = 2
 
     if checkpoint_exists(outdir, label):
         logger.info("resuming nested run '%s' from its checkpoint in %s", label, outdir)
-    return bilby.run_sampler(
-        likelihood=likelihood, priors=priors, sampler="dynesty", nlive=int(live_points), sample="acceptance-walk",
-        naccept=int(accepted_walks), npool=int(pool), outdir=outdir, label=label, resume=True,
-        check_point_delta_t=float(checkpoint_seconds), rstate=np.random.default_rng(seed), print_progress=progress,
-        save="json", plot=False, check_point_plot=False)
+    with interrupt_in_one_line():
+        return bilby.run_sampler(
+            likelihood=likelihood, priors=priors, sampler="dynesty", nlive=int(live_points), sample="acceptance-walk",
+            naccept=int(accepted_walks), npool=int(pool), outdir=outdir, label=label, resume=True,
+            check_point_delta_t=float(checkpoint_seconds), rstate=np.random.default_rng(seed), print_progress=progress,
+            save="json", plot=False, check_point_plot=False)
+
+
+def _checkpoint_and_stop(sampler, signum=None, frame=None):
+    """Ctrl-C (or SIGTERM) during a run: checkpoint as bilby does, then one line and exit status 130.
+
+    bilby's own handler ends the run with ``sys.exit`` from inside the likelihood call, and dynesty prints that
+    call's parameters and a long traceback before letting it pass; ending the process here avoids both. As in
+    bilby, only the process that owns the sampler (not a pool worker) checkpoints and exits; in a campaign's
+    worker, Ctrl-C is left to the campaign."""
+    if sampler.npool not in (1, None) and getattr(sampler, "pool", None) is None:
+        return
+    if signum == signal.SIGINT and os.environ.get("MEMORY_INFER_CAMPAIGN_WORKER"):  # set by campaign.executors
+        return  # a campaign's worker: Ctrl-C is the campaign's to handle (it ends its workers)
+    kept = f"its checkpoint in {sampler.outdir} resumes it when the same command runs again"
+    try:
+        if getattr(sampler, "pbar", None) is not None:
+            sampler.pbar = sampler.pbar.close()
+        sampler.write_current_state()
+        sampler._close_pool()
+    except Exception:  # noqa: BLE001 - interrupted before the sampler had a state: nothing to keep
+        kept = "nothing of it was kept"
+    sys.stdout.flush()
+    sys.stderr.write(f"memory-infer: interrupted during nested run '{sampler.label}'; {kept}.\n")
+    sys.stderr.flush()
+    os._exit(int(getattr(sampler, "exit_code", 130) or 130))
+
+
+@contextlib.contextmanager
+def interrupt_in_one_line():
+    """While a bilby dynesty run is on, its interruption handler is :func:`_checkpoint_and_stop`."""
+    from bilby.core.sampler.dynesty import Dynesty
+
+    previous = Dynesty.__dict__.get("write_current_state_and_exit")
+    Dynesty.write_current_state_and_exit = _checkpoint_and_stop
+    try:
+        yield
+    finally:
+        if previous is None:
+            del Dynesty.write_current_state_and_exit
+        else:
+            Dynesty.write_current_state_and_exit = previous
 
 
 def nested_bayes_factor(numerator_result, denominator_result, numerator="memory", denominator="none"):
