@@ -36,6 +36,7 @@ class EventSetup:
     external_settings: dict = field(default_factory=dict)  # how they were drawn, against this run's settings
     notes: list = field(default_factory=list)  # warnings found while preparing (e.g. a segment too short)
     calibration: list = field(default_factory=list)  # one sentence per detector with a calibration model
+    data_notes: list = field(default_factory=list)  # how each strain file became the segment, and its PSD
 
     def likelihood(self, hypothesis: str, marginalize: bool = True):
         """(likelihood, priors) for a hypothesis, with the configured marginalizations (or none)."""
@@ -72,7 +73,8 @@ class EventSetup:
                 "time_marginalization": config["likelihood"]["time_marginalization"],
                 "free_amplitude_limits": list(config["evidence"]["free_amplitude_limits"]),
                 "amplitude_grid": [float(x) for x in self.grid],
-                "calibration": dict(config["calibration"], detectors=list(self.calibration))}
+                "calibration": dict(config["calibration"], detectors=list(self.calibration)),
+                "data_notes": list(self.data_notes)}
 
 
 def sampled_columns(priors) -> list:
@@ -111,11 +113,13 @@ def prepare(config: dict) -> EventSetup:
         detectors = simulated_detectors(config, injection, generator)
     else:
         detectors = file_detectors(config, psds, os.path.basename(path) if path else None)
+        notes = [note for note in getattr(detectors, "input_notes", []) if "without data" in note]
     priors = build_priors(config, injection)
     check_prior_spins(config["model"]["approximant"], priors)
     calibration = attach_calibration(config["calibration"], detectors, priors, config.get("_directory", "."))
     setup = EventSetup(config=config, detectors=detectors, generator=generator, priors=priors, injection=injection,
-                       grid=amplitude_grid(config), notes=notes, calibration=calibration)
+                       grid=amplitude_grid(config), notes=notes, calibration=calibration,
+                       data_notes=list(getattr(detectors, "input_notes", [])))
     if frame is not None:
         required = [name for name in sampled_columns(hypothesis_priors(priors, "none"))
                     if not name.startswith("recalib_")]  # calibration is drawn from its prior when absent
