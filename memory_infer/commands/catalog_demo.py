@@ -185,3 +185,24 @@ def demo_catalog(folder: str, live_points: int | None = 40, events=DEMO_EVENTS) 
     with open(path, "w") as handle:
         handle.write("\n".join(lines))
     return path
+
+
+def run_demo_catalog(args) -> int:
+    """``memory-infer demo --catalog``: the invented events' files, then the catalog command on them."""
+    import argparse
+    import time
+
+    from . import catalog
+
+    started = time.time()
+    outdir = os.path.abspath(args.outdir)
+    inputs = os.path.join(outdir, "catalog_inputs")
+    path = os.path.join(inputs, "catalog.toml")
+    if not os.path.isfile(path):  # made once; a rerun resumes the catalog
+        print(f"making {len(DEMO_EVENTS)} invented events (open-data strain, short bilby runs, pesummary releases)")
+        made = demo_catalog(inputs + ".partial", live_points=args.live_points)
+        os.replace(os.path.dirname(made), inputs)
+    code = catalog.run(argparse.Namespace(catalog=path, outdir=os.path.join(outdir, "catalog"),
+                                          workers=args.workers, scheduler=None, quiet=False))
+    print(f"demo catalog finished in {time.time() - started:.0f} s; open {os.path.join(outdir, 'catalog', 'report.html')}")
+    return code
