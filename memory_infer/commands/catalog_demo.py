@@ -19,6 +19,7 @@ DEMO_EVENTS = [
     ("fulmar-05", (36.0, 30.0), 300.0, 1.3, 0.0),
 ]
 FILE_RATE, FILE_SECONDS, RATE, DURATION, POST_TRIGGER = 4096.0, 32, 1024.0, 4.0, 2.0
+DEMO_LIVE_POINTS = 25  # short bilby runs: chirp mass, distance and phase free
 SKY = {"ra": 1.3, "dec": -0.2, "psi": 0.5, "phase": 0.8}
 RUN_CONFIG = """[config]
 trigger-time = {trigger}
@@ -82,7 +83,7 @@ maximum_frequency = 448.0
 {priors_text}
 [sampler]
 live_points = {live_points}
-accepted_walks = 10
+accepted_walks = 5
 progress = false
 """
 
@@ -98,9 +99,10 @@ def release_samples(folder: str, label: str, files: dict, trigger: float, inject
     from ..inputs.config import evidence_config
 
     chirp = bilby.gw.conversion.component_masses_to_chirp_mass(injection["mass_1"], injection["mass_2"])
+    ratio = injection["mass_2"] / injection["mass_1"]
     fixed = "\n".join(f"{k} = {injection[k]}" for k in ("theta_jn", "ra", "dec", "psi", "geocent_time"))
     priors_text = (f"chirp_mass = {{ kind = \"uniform\", minimum = {chirp * 0.9:.4f}, maximum = {chirp * 1.1:.4f} }}\n"
-                   f"mass_ratio = {{ kind = \"uniform\", minimum = 0.5, maximum = 1.0 }}\n"
+                   f"mass_ratio = {ratio!r}\n"
                    f"luminosity_distance = {{ kind = \"power_law\", alpha = 2, minimum = 50.0, maximum = 1500.0 }}\n"
                    f"phase = {{ kind = \"periodic\", minimum = 0.0, maximum = 6.283185307179586 }}\n{fixed}")
     raw = tomllib.loads(_segment_config(label, folder, files, trigger, priors_text, live_points))
@@ -108,7 +110,7 @@ def release_samples(folder: str, label: str, files: dict, trigger: float, inject
     likelihood, priors = setup.likelihood("none")
     with tempfile.TemporaryDirectory() as work:
         result = bilby.run_sampler(likelihood=likelihood, priors=priors, sampler="dynesty", nlive=int(live_points),
-                                   sample="acceptance-walk", naccept=10, outdir=work, label=label,
+                                   sample="acceptance-walk", naccept=5, outdir=work, label=label,
                                    rstate=np.random.default_rng(seed), print_progress=False, save=False, plot=False,
                                    check_point_plot=False, check_point_delta_t=3600)
     posterior = result.posterior.drop(columns=[c for c in ("memory_amplitude",) if c in result.posterior])
@@ -153,7 +155,7 @@ def write_release(path: str, analysis: str, posterior, psds: dict, trigger: floa
 
 
 def invented_event(folder: str, label: str, masses, distance: float, inclination: float, amplitude: float,
-                   seed: int, trigger: float, live_points: int | None = 40, stand_in: int = 120) -> dict:
+                   seed: int, trigger: float, live_points: int | None = 25, stand_in: int = 120) -> dict:
     """Strain files and a release for one invented event; ``live_points=None`` skips the bilby run and writes
     ``stand_in`` samples scattered around the injection instead (small tests only)."""
     injection = dict(mass_1=float(masses[0]), mass_2=float(masses[1]), luminosity_distance=float(distance),
@@ -169,7 +171,7 @@ def invented_event(folder: str, label: str, masses, distance: float, inclination
     return {"label": label, "release": release, "strain": files, "injection": injection}
 
 
-def demo_catalog(folder: str, live_points: int | None = 40, events=DEMO_EVENTS) -> str:
+def demo_catalog(folder: str, live_points: int | None = 25, events=DEMO_EVENTS) -> str:
     """Every demo event's files and a catalog file listing them; returns the catalog file's path."""
     os.makedirs(folder, exist_ok=True)
     lines = ["# invented demo catalog: releases and strain made by the demo itself", "[catalog]",
@@ -200,7 +202,7 @@ def run_demo_catalog(args) -> int:
     path = os.path.join(inputs, "catalog.toml")
     if not os.path.isfile(path):  # made once; a rerun resumes the catalog
         print(f"making {len(DEMO_EVENTS)} invented events (open-data strain, short bilby runs, pesummary releases)")
-        made = demo_catalog(inputs + ".partial", live_points=args.live_points)
+        made = demo_catalog(inputs + ".partial", live_points=DEMO_LIVE_POINTS)
         os.replace(os.path.dirname(made), inputs)
     code = catalog.run(argparse.Namespace(catalog=path, outdir=os.path.join(outdir, "catalog"),
                                           workers=args.workers, scheduler=None, quiet=False))
