@@ -19,7 +19,7 @@ DEMO_EVENTS = [
     ("fulmar-05", (36.0, 30.0), 300.0, 1.3, 0.0),
 ]
 FILE_RATE, FILE_SECONDS, RATE, DURATION, POST_TRIGGER = 4096.0, 32, 1024.0, 4.0, 2.0
-DEMO_LIVE_POINTS = 25  # short bilby runs: chirp mass, distance and phase free
+DEMO_LIVE_POINTS = 16  # short bilby runs: chirp mass and distance free
 SKY = {"ra": 1.3, "dec": -0.2, "psi": 0.5, "phase": 0.8}
 RUN_CONFIG = """[config]
 trigger-time = {trigger}
@@ -101,16 +101,17 @@ def release_samples(folder: str, label: str, files: dict, trigger: float, inject
     chirp = bilby.gw.conversion.component_masses_to_chirp_mass(injection["mass_1"], injection["mass_2"])
     ratio = injection["mass_2"] / injection["mass_1"]
     fixed = "\n".join(f"{k} = {injection[k]}" for k in ("theta_jn", "ra", "dec", "psi", "geocent_time"))
-    priors_text = (f"chirp_mass = {{ kind = \"uniform\", minimum = {chirp * 0.9:.4f}, maximum = {chirp * 1.1:.4f} }}\n"
-                   f"mass_ratio = {ratio!r}\n"
-                   f"luminosity_distance = {{ kind = \"power_law\", alpha = 2, minimum = 50.0, maximum = 1500.0 }}\n"
-                   f"phase = {{ kind = \"periodic\", minimum = 0.0, maximum = 6.283185307179586 }}\n{fixed}")
+    distance = injection["luminosity_distance"]
+    priors_text = (f"chirp_mass = {{ kind = \"uniform\", minimum = {chirp * 0.96:.4f}, maximum = {chirp * 1.04:.4f} }}\n"
+                   f"mass_ratio = {ratio!r}\nphase = {injection['phase']!r}\n"
+                   f"luminosity_distance = {{ kind = \"power_law\", alpha = 2, minimum = {0.4 * distance:.1f}, "
+                   f"maximum = {1.8 * distance:.1f} }}\n{fixed}")
     raw = tomllib.loads(_segment_config(label, folder, files, trigger, priors_text, live_points))
     setup = prepare(evidence_config(raw, f"the demo run of {label}", folder))
     likelihood, priors = setup.likelihood("none")
     with tempfile.TemporaryDirectory() as work:
         result = bilby.run_sampler(likelihood=likelihood, priors=priors, sampler="dynesty", nlive=int(live_points),
-                                   sample="acceptance-walk", naccept=5, outdir=work, label=label,
+                                   sample="acceptance-walk", naccept=2, dlogz=1.0, outdir=work, label=label,
                                    rstate=np.random.default_rng(seed), print_progress=False, save=False, plot=False,
                                    check_point_plot=False, check_point_delta_t=3600)
     posterior = result.posterior.drop(columns=[c for c in ("memory_amplitude",) if c in result.posterior])
@@ -155,7 +156,7 @@ def write_release(path: str, analysis: str, posterior, psds: dict, trigger: floa
 
 
 def invented_event(folder: str, label: str, masses, distance: float, inclination: float, amplitude: float,
-                   seed: int, trigger: float, live_points: int | None = 25, stand_in: int = 120) -> dict:
+                   seed: int, trigger: float, live_points: int | None = DEMO_LIVE_POINTS, stand_in: int = 120) -> dict:
     """Strain files and a release for one invented event; ``live_points=None`` skips the bilby run and writes
     ``stand_in`` samples scattered around the injection instead (small tests only)."""
     injection = dict(mass_1=float(masses[0]), mass_2=float(masses[1]), luminosity_distance=float(distance),
@@ -171,15 +172,20 @@ def invented_event(folder: str, label: str, masses, distance: float, inclination
     return {"label": label, "release": release, "strain": files, "injection": injection}
 
 
-def demo_catalog(folder: str, live_points: int | None = 25, events=DEMO_EVENTS) -> str:
-    """Every demo event's files and a catalog file listing them; returns the catalog file's path."""
+def demo_catalog(folder: str, live_points: int | None = DEMO_LIVE_POINTS, events=DEMO_EVENTS, workers: int = 1) -> str:
+    """Every demo event's files (made on ``workers`` processes) and a catalog file listing them; returns the
+    catalog file's path."""
     os.makedirs(folder, exist_ok=True)
     lines = ["# invented demo catalog: releases and strain made by the demo itself", "[catalog]",
              "name = \"invented demo catalog\"", ""]
-    for number, (label, masses, distance, inclination, amplitude) in enumerate(events):
-        trigger = 1_000_000_016.0 + 1000.0 * number
-        event = invented_event(folder, label, masses, distance, inclination, amplitude, seed=100 + number,
-                               trigger=trigger, live_points=live_points)
+    import concurrent.futures
+
+    with concurrent.futures.ProcessPoolExecutor(max_workers=max(1, int(workers))) as pool:
+        made = [pool.submit(invented_event, folder, label, masses, distance, inclination, amplitude, 100 + number,
+                            1_000_000_016.0 + 1000.0 * number, live_points)
+                for number, (label, masses, distance, inclination, amplitude) in enumerate(events)]
+        made = [future.result() for future in made]
+    for event, (label, masses, distance, inclination, amplitude) in zip(made, events):
         strain = ", ".join(f"{d} = \"{f}\"" for d, f in event["strain"].items())
         lines += ["[[events]]", f"label = \"{label}\"", f"release = \"{event['release']}\"",
                   f"strain = {{ {strain} }}", f"# injected memory amplitude {amplitude:g}", ""]
@@ -202,7 +208,7 @@ def run_demo_catalog(args) -> int:
     path = os.path.join(inputs, "catalog.toml")
     if not os.path.isfile(path):  # made once; a rerun resumes the catalog
         print(f"making {len(DEMO_EVENTS)} invented events (open-data strain, short bilby runs, pesummary releases)")
-        made = demo_catalog(inputs + ".partial", live_points=DEMO_LIVE_POINTS)
+        made = demo_catalog(inputs + ".partial", live_points=DEMO_LIVE_POINTS, workers=args.workers)
         os.replace(os.path.dirname(made), inputs)
     code = catalog.run(argparse.Namespace(catalog=path, outdir=os.path.join(outdir, "catalog"),
                                           workers=args.workers, scheduler=None, quiet=False))
