@@ -20,6 +20,7 @@ DEMO_EVENTS = [
 ]
 FILE_RATE, FILE_SECONDS, RATE, DURATION, POST_TRIGGER = 4096.0, 32, 1024.0, 4.0, 2.0
 DEMO_LIVE_POINTS = 16  # short bilby runs: chirp mass and distance free
+DEMO_MINIMUM_EFFECTIVE_SAMPLES = 15.0  # the short runs' posteriors hold some 20 samples
 SKY = {"ra": 1.3, "dec": -0.2, "psi": 0.5, "phase": 0.8}
 RUN_CONFIG = """[config]
 trigger-time = {trigger}
@@ -177,7 +178,9 @@ def demo_catalog(folder: str, live_points: int | None = DEMO_LIVE_POINTS, events
     catalog file's path."""
     os.makedirs(folder, exist_ok=True)
     lines = ["# invented demo catalog: releases and strain made by the demo itself", "[catalog]",
-             "name = \"invented demo catalog\"", ""]
+             "name = \"invented demo catalog\"", "",
+             "# the demo's short runs (16 live points) give only some 20 posterior samples per event", "[defaults.evidence]",
+             f"minimum_effective_samples = {DEMO_MINIMUM_EFFECTIVE_SAMPLES}", ""]
     import concurrent.futures
 
     with concurrent.futures.ProcessPoolExecutor(max_workers=max(1, int(workers))) as pool:
