@@ -83,7 +83,8 @@ def test_killed_catalog_resumes_to_the_same_catalog(catalog, uninterrupted, tmp_
     process.wait()
     before = _stored(outdir)
     assert 2 <= before < EVENTS, before  # killed mid-run, with events committed
-    print(f"killed with {before} of {EVENTS} events committed")
+    with capsys.disabled():
+        print(f"killed with {before} of {EVENTS} events committed")
     capsys.readouterr()
     assert main(["catalog", catalog, "--outdir", str(outdir), "--quiet"]) == 0
     assert f"resuming: {before} of {EVENTS} events already finished" in capsys.readouterr().out
