@@ -12,6 +12,7 @@ COMMANDS = {
     "waveform": "one binary's strain and memory: table, figure and memory-only SNR",
     "evidence": "Bayes factors for one event (nested sampling, reweighting, fast), with its report",
     "combine": "catalog combination of per-event results, with its report",
+    "catalog": "every event of a catalog from its releases and open-data strain, resumable, with one report",
     "campaign": "injection-recovery campaign: distributions, forecasts, calibration",
     "rank": "events ranked by memory-only SNR, to choose which to analyse first",
     "report": "rebuild a report from its result file alone (evidence.json, catalog.json or campaign.json)",

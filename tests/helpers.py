@@ -155,3 +155,50 @@ def bilby_memory_snr(generator, source, detectors, asd_file, minimum_frequency, 
     interferometers.set_strain_data_from_zero_noise(rate, duration, start)
     total = sum(np.real(i.optimal_snr_squared(i.get_detector_response(memory, source))) for i in interferometers)
     return float(np.sqrt(total)), len(interferometers)
+
+
+# ---------------------------------------------------------------- catalogs
+
+def small_catalog(folder, count=5, extra=""):
+    """``count`` invented events (open-data-layout strain, pesummary-written releases with samples scattered
+    around the injection: bookkeeping tests only) and one whose strain has a data gap inside its segment (refused);
+    returns the catalog file's path."""
+    from memory_infer.commands.catalog_demo import DEMO_EVENTS, invented_event
+    from memory_infer.inputs.open_data import write_open_data
+
+    folder = str(folder)
+    os.makedirs(folder, exist_ok=True)
+    lines = ["[catalog]", 'name = "small test catalog"', "", "[defaults.evidence]",
+             "minimum_effective_samples = 20.0", extra, ""]
+    for number in range(count):
+        label, masses, distance, inclination, amplitude = DEMO_EVENTS[number % len(DEMO_EVENTS)]
+        label = f"{label}-{number}"
+        event = invented_event(folder, label, masses, distance, inclination, amplitude, seed=200 + number,
+                               trigger=1_000_000_016.0 + 1000.0 * number, live_points=None, stand_in=60)
+        strain = ", ".join(f'{d} = "{f}"' for d, f in event["strain"].items())
+        lines += ["[[events]]", f'label = "{label}"', f'release = "{event["release"]}"', f"strain = {{ {strain} }}",
+                  ""]
+    import h5py
+    import numpy as np
+
+    gappy = os.path.join(folder, "H-H1_GWOSC_4KHZ_R1-1000000000-32-gap.hdf5")
+    with h5py.File(os.path.join(folder, event["strain"]["H1"]), "r") as handle:
+        strain, start = handle["strain/Strain"][()], handle["strain/Strain"].attrs["Xstart"]
+    mask = np.full(32, 127)
+    mask[15] = 0  # no data in the analysis segment
+    write_open_data(gappy, strain, 4096.0, start, "H1", mask)
+    lines += ["[[events]]", 'label = "gap-inside"', f'release = "{event["release"]}"',
+              f'strain = {{ H1 = "{os.path.basename(gappy)}" }}', ""]
+    path = os.path.join(folder, "catalog.toml")
+    with open(path, "w") as handle:
+        handle.write("\n".join(lines))
+    return path
+
+
+def without_wall_times(value):
+    """A catalog.json's content without wall times (the only part that may differ between runs)."""
+    if isinstance(value, dict):
+        return {k: without_wall_times(v) for k, v in value.items() if k != "wall_seconds"}
+    if isinstance(value, list):
+        return [without_wall_times(v) for v in value]
+    return value

@@ -97,6 +97,8 @@ def add_arguments(parser):
     parser.add_argument("--live-points", type=int, default=60, help="live points of each short nested run")
     parser.add_argument("--injections", type=int, default=2000, help="injections in the demo campaign")
     parser.add_argument("--workers", type=int, default=2, help="local processes for the campaign")
+    parser.add_argument("--catalog", action="store_true", help="instead, the invented demo catalog: releases from "
+                        "short bilby runs written by pesummary, open-data-layout strain, and the catalog command")
 
 
 def _write(path, text):
@@ -110,6 +112,10 @@ def run(args) -> int:
 
     from . import campaign, combine, evidence
 
+    if getattr(args, "catalog", False):
+        from .catalog_demo import run_demo_catalog
+
+        return run_demo_catalog(args)
     started = time.time()
     outdir = os.path.abspath(args.outdir)
     configs = os.path.join(outdir, "configs")

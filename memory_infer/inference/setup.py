@@ -14,7 +14,8 @@ from ..inputs.checks import check_samples, light_binary_caution
 from ..inputs.config import DEFAULT_REFERENCE_FREQUENCY, amplitude_grid
 from ..inputs.event_data import (build_priors, file_detectors, injection_parameters, simulated_detectors,
                                  waveform_arguments)
-from ..inputs.readers import read_sample_file
+from ..inputs.readers import is_release, read_sample_file
+from ..inputs.release_settings import apply_release_settings, read_release_settings, samples_stand_in_priors
 from ..inputs.samples import usable_samples
 from ..waveform.generator import segment_note, waveform_generator
 from .hypotheses import hypothesis_priors
@@ -39,6 +40,7 @@ class EventSetup:
     external_settings: dict = field(default_factory=dict)  # how they were drawn, against this run's settings
     notes: list = field(default_factory=list)  # warnings found while preparing (e.g. a segment too short)
     calibration: list = field(default_factory=list)  # one sentence per detector with a calibration model
+    data_notes: list = field(default_factory=list)  # how each strain file became the segment, and its PSD
 
     def likelihood(self, hypothesis: str, marginalize: bool = True):
         """(likelihood, priors) for a hypothesis, with the configured marginalizations (or none)."""
@@ -75,7 +77,11 @@ class EventSetup:
                 "time_marginalization": config["likelihood"]["time_marginalization"],
                 "free_amplitude_limits": list(config["evidence"]["free_amplitude_limits"]),
                 "amplitude_grid": [float(x) for x in self.grid],
-                "calibration": dict(config["calibration"], detectors=list(self.calibration))}
+                "calibration": dict(config["calibration"], detectors=list(self.calibration)),
+                "data_notes": list(self.data_notes), "origins": dict(self.config.get("_origins") or {}),
+                "segment": {"start_time": config["data"]["start_time"], "duration": config["data"]["duration"],
+                            "sampling_rate": config["data"]["sampling_rate"],
+                            "maximum_frequency": config["data"]["maximum_frequency"]}}
 
 
 def sampled_columns(priors) -> list:
@@ -98,7 +104,10 @@ def prepare(config: dict) -> EventSetup:
         psds = content["psds"]
         file_settings = {k: content[k] for k in ("reference_frequency", "waveform_model") if k in content}
         frame, column_settings = usable_samples(content["samples"])
+    origins = settings_from_release(config, path)
     resolve_reference_frequency(config, file_settings, column_settings or {})
+    if origins.get("reference_frequency") not in (None, "configuration", "default"):
+        config["model"]["reference_frequency_from"] = origins["reference_frequency"]
     arguments = waveform_arguments(config)
     generator = waveform_generator(float(data["duration"]), float(data["sampling_rate"]), float(data["start_time"]),
                                    arguments)
@@ -114,11 +123,18 @@ def prepare(config: dict) -> EventSetup:
         detectors = simulated_detectors(config, injection, generator)
     else:
         detectors = file_detectors(config, psds, os.path.basename(path) if path else None)
-    priors = build_priors(config, injection)
+        notes = [note for note in getattr(detectors, "input_notes", []) if "without data" in note]
+    if frame is not None and not config["priors"] and "nested" not in config["evidence"]["methods"]:
+        priors = samples_stand_in_priors(frame, os.path.basename(path))  # reweighting takes the samples' prior
+        origins["priors"] = "not needed: reweighting takes the samples' own prior"
+    else:
+        priors = build_priors(config, injection)
     check_prior_spins(config["model"]["approximant"], priors)
-    calibration = attach_calibration(config["calibration"], detectors, priors, config.get("_directory", "."))
+    calibration = release_calibration(config, detectors, priors)
     setup = EventSetup(config=config, detectors=detectors, generator=generator, priors=priors, injection=injection,
-                       grid=amplitude_grid(config), notes=notes, calibration=calibration)
+                       grid=amplitude_grid(config), notes=notes, calibration=calibration,
+                       data_notes=list(getattr(detectors, "input_notes", [])))
+    config["_origins"] = origins
     if frame is not None:
         required = [name for name in sampled_columns(hypothesis_priors(priors, "none"))
                     if not name.startswith("recalib_")]  # calibration is drawn from its prior when absent
@@ -219,3 +235,29 @@ def sample_settings(config: dict, file_settings: dict, frame, column_settings: d
     usable = column is not None and column in frame.columns and np.all(np.isfinite(frame[column].to_numpy(float)))
     out["log_likelihood_column"] = column if usable else None
     return out
+
+
+def settings_from_release(config: dict, path: str | None) -> dict:
+    """File data with a catalog release as samples: every segment and model setting the user left out comes from
+    the release (:mod:`memory_infer.inputs.release_settings`); returns setting -> origin (empty otherwise)."""
+    if path is None or config["data"]["kind"] != "files" or not is_release(path):
+        return {}
+    return apply_release_settings(config, read_release_settings(path, config["evidence"]["samples_analysis"]))
+
+
+def release_calibration(config: dict, detectors, priors) -> list:
+    """attach_calibration, with a release's own envelopes written to a temporary folder for bilby's reader."""
+    import tempfile
+
+    settings = config["calibration"]
+    envelopes = settings.pop("_envelopes", None)
+    if not envelopes:
+        return attach_calibration(settings, detectors, priors, config.get("_directory", "."))
+    with tempfile.TemporaryDirectory() as folder:
+        settings["envelope_files"] = {}
+        for name, table in envelopes.items():
+            np.savetxt(os.path.join(folder, f"{name}.txt"), table)
+            settings["envelope_files"][name] = os.path.join(folder, f"{name}.txt")
+        notes = attach_calibration(settings, detectors, priors, folder)
+    settings["envelope_files"] = {name: f"the release's calibration_envelope/{name}" for name in envelopes}
+    return notes

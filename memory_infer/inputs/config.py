@@ -116,8 +116,15 @@ def apply_schema(raw: dict, schema: dict, source: str) -> dict:
 
 def load_evidence_config(path: str) -> dict:
     """The per-event configuration with defaults filled in and checked."""
-    config = apply_schema(load_toml(path), EVIDENCE_SCHEMA, os.path.basename(path))
-    config["_directory"] = os.path.dirname(os.path.abspath(path))
+    return evidence_config(load_toml(path), os.path.basename(path), os.path.dirname(os.path.abspath(path)))
+
+
+def evidence_config(raw: dict, source: str, directory: str) -> dict:
+    """An event's configuration from its TOML mapping (``source`` names it in messages; relative paths are taken
+    from ``directory``); ``_given`` keeps the keys the user wrote, so settings left out can come from a release."""
+    config = apply_schema(raw, EVIDENCE_SCHEMA, source)
+    config["_directory"] = directory
+    config["_given"] = {section: sorted(keys) for section, keys in raw.items() if isinstance(keys, dict)}
     data, evidence = config["data"], config["evidence"]
     if data["kind"] not in ("simulated", "files"):
         raise MemoryInferError("key 'kind' in [data] must be 'simulated' or 'files'")

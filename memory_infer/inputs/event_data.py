@@ -148,11 +148,13 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
     strain for Welch's method, with optional ``welch_segment``, ``welch_overlap``, and ``channel`` for frames);
     relative paths are taken from ``directory``. A detector of several interferometers (bilby's ET: ET1, ET2,
     ET3) takes its strain per interferometer (``files["ET1"]``...); settings under its own name (a PSD file)
-    apply to each of them.
+    apply to each of them. A strain file may be longer than the segment and sampled at a
+    whole multiple of ``sampling_rate`` (:func:`file_segment`); ``psd_off_source = true`` takes the PSD by Welch's
+    method from the same file's data next to the segment.
     """
     import bilby
 
-    from .readers import read_psd, read_strain, welch_psd
+    from .readers import read_psd, welch_psd
 
     names = list(dict.fromkeys(detector_of(str(key)) for key in files))
     entries = per_interferometer(files, names, "[data.files]")
@@ -164,26 +166,21 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
                                    f"interferometers {', '.join(members)}; give each its own "
                                    f"([data.files.{members[0]}] strain = ...)")
     detectors = empty_detectors(names)
+    notes = []
     rate, duration, start = float(sampling_rate), float(duration), float(start_time)
     for detector in detectors:
         entry = entries.get(detector.name)
         if not isinstance(entry, dict) or "strain" not in entry:
             raise MemoryInferError(f"[data.files.{detector.name}] needs a 'strain' file")
         path = os.path.join(directory, entry["strain"])
-        strain, file_rate, file_start = read_strain(path, entry.get("channel"))
-        if abs(file_rate - rate) > 1e-6 * rate:
-            raise MemoryInferError(f"strain file '{entry['strain']}' is sampled at {file_rate:g} Hz, but the "
-                                   f"configuration says {rate:g} Hz")
-        if abs(strain.size / rate - duration) > 0.5 / rate:
-            raise MemoryInferError(f"strain file '{entry['strain']}' holds {strain.size / rate:g} s, but the "
-                                   f"configuration says {duration:g} s")
-        if abs(file_start - start) > 0.5 / rate:
-            raise MemoryInferError(f"strain file '{entry['strain']}' starts at {file_start:.6f}, but the "
-                                   f"configuration says {start:.6f}")
+        strain, psd_entry, found = file_segment(path, entry, rate, duration, start)
+        notes.extend(f"{detector.name}: {note}" for note in found)
         detector.strain_data.roll_off = float(roll_off)
         detector.strain_data.set_from_time_domain_strain(strain, sampling_frequency=rate, duration=duration,
                                                          start_time=start)
-        if entry.get("psd_from_samples"):
+        if psd_entry is not None:
+            frequencies, psd = psd_entry
+        elif entry.get("psd_from_samples"):
             if detector.name not in (sample_psds or {}):
                 where = f"the samples file '{samples_name}'" if samples_name else "no samples file"
                 raise MemoryInferError(f"[data.files.{detector.name}] takes its PSD from the samples file, but "
@@ -199,8 +196,8 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
                                                float(entry.get("welch_overlap", 0.5)), entry.get("channel"))
             logger.info("%s: %s", detector.name, note)
         else:
-            raise MemoryInferError(f"[data.files.{detector.name}] needs a 'psd' file, 'psd_from_strain' or "
-                                   "'psd_from_samples = true'")
+            raise MemoryInferError(f"[data.files.{detector.name}] needs a 'psd' file, 'psd_from_strain', "
+                                   "'psd_from_samples = true' or 'psd_off_source = true'")
         detector.power_spectral_density = bilby.gw.detector.PowerSpectralDensity(
             frequency_array=frequencies, psd_array=psd)
         detector.minimum_frequency = float(minimum_frequency)
@@ -210,4 +207,24 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
         if not np.all(np.isfinite(band)) or np.any(band <= 0):
             raise MemoryInferError(f"the PSD for {detector.name} does not cover the analysis band "
                                    f"{detector.minimum_frequency:g}-{detector.maximum_frequency:g} Hz")
+    detectors.input_notes = notes  # how each file became the segment (cuts, decimation, gaps, PSD), for the result
     return detectors
+
+
+def file_segment(path: str, entry: dict, rate: float, duration: float, start: float):
+    """(segment strain, (frequencies, PSD) when ``psd_off_source`` asks for one else None, notes) from a strain
+    file as published: cut, decimated and gap-checked (:mod:`memory_infer.inputs.open_data`)."""
+    from .open_data import off_source_psd, segment_from_file
+
+    psd = None
+    if entry.get("psd_off_source"):
+        frequencies, values, note = off_source_psd(path, rate, start, duration, entry.get("psd_duration"),
+                                                   entry.get("welch_segment"), float(entry.get("welch_overlap", 0.5)),
+                                                   entry.get("channel"))
+        psd = (frequencies, values)
+    strain, notes = segment_from_file(path, rate, start, duration, entry.get("channel"))
+    if psd is not None:
+        notes.append(note)
+    for line in notes:
+        logger.info("%s", line)
+    return strain, psd, notes

@@ -92,4 +92,20 @@ def catalog_page(result: CatalogResult) -> str:
         ("Per-event contributions", contributions_figure(result)),
         ("Events", table(["event", "ln BF₊", "ln BF₋", "method", "included", "reason dropped"], rows)),
     ]
+    if result.event_runs:
+        sections.append(("Each event's run", runs_html(result.event_runs)))
     return page(f"Memory evidence for a catalog of {result.n_events} events", sections, result.caution)
+
+
+def runs_html(runs) -> str:
+    """Every event of a catalog run with its status, a link to its page, and the reason when it was refused or
+    failed (never silently dropped)."""
+    rows = []
+    for run in runs:
+        link = (f"<a href='{html.escape(run['page'])}'>{html.escape(run['label'])}</a>" if run.get("page")
+                else html.escape(run["label"]))
+        wall = "—" if run.get("wall_seconds") is None else f"{run['wall_seconds']:.1f}"
+        rows.append(f"<tr><td>{link}</td><td>{html.escape(run['status'])}</td><td>{wall}</td>"
+                    f"<td>{html.escape(run.get('reason') or '')}</td></tr>")
+    return ("<table><tr><th>event</th><th>status</th><th>wall time (s)</th><th>reason</th></tr>"
+            + "".join(rows) + "</table>")

@@ -146,6 +146,8 @@ def event_page(result: EventResult) -> str:
                          + ("" if reference is None else f", reference frequency {reference:g} Hz (from "
                             f"{html.escape(str(settings.get('reference_frequency_from', 'configuration')))})")
                          + ".</p><p>Calibration: " + "; ".join(html.escape(c) for c in calibration) + ".</p>"))
+    if settings.get("origins") or settings.get("data_notes"):
+        sections.append(("Where each setting came from", _origins_html(settings)))
     if result.warnings:
         sections.append(("Warnings", "".join(f"<p class='warn'>{html.escape(w)}</p>" for w in result.warnings)))
     figures = result.figures
@@ -160,3 +162,18 @@ def event_page(result: EventResult) -> str:
     sections.append(("Provenance", table(["package", "version"], sorted(prov["versions"].items()))
                      + f"<p>seed {prov['seed']}; command <code>{html.escape(' '.join(prov['command']))}</code></p>"))
     return page(f"Memory evidence for {result.event}", sections, result.caution)
+
+
+def _origins_html(settings: dict) -> str:
+    """Each segment and model setting with its value and origin (configuration, the release, or default), and how
+    each strain file became the segment."""
+    segment = settings.get("segment") or {}
+    values = {"start_time": segment.get("start_time"), "duration": segment.get("duration"),
+              "sampling_rate": segment.get("sampling_rate"), "minimum_frequency": settings.get("minimum_frequency"),
+              "maximum_frequency": segment.get("maximum_frequency"),
+              "reference_frequency": settings.get("reference_frequency"), "waveform_model": settings.get("approximant"),
+              "calibration": (settings.get("calibration") or {}).get("kind")}
+    rows = [(key.replace("_", " "), "—" if values.get(key) is None else str(values.get(key)), origin)
+            for key, origin in (settings.get("origins") or {}).items()]
+    notes = "".join(f"<p>{html.escape(note)}</p>" for note in settings.get("data_notes") or [])
+    return table(["setting", "value", "from"], rows) + notes

@@ -27,5 +27,6 @@ class CatalogResult(ResultFile):
     expected_vs_observed: dict = field(default_factory=dict)
     method_rule: str = ""
     n_events: int = 0
+    event_runs: list = field(default_factory=list)  # a catalog run's events: status, reason, page, wall time
     caution: str = EVIDENCE
     provenance: dict | None = None

@@ -97,3 +97,27 @@ def test_slurm_campaign_equals_local_and_survives_a_cancelled_job(slurm, tmp_pat
     records = stored(outdir)
     assert sorted(records) == list(range(count))  # every injection exactly once (one row per id)
     assert all(record["status"] == "ok" for record in records.values())
+
+
+def test_slurm_catalog_equals_the_local_catalog(slurm, tmp_path):
+    """The same small catalog of invented events on one Slurm job (one node) and in this process: the same
+    catalog.json but for wall times."""
+    import json
+
+    from memory_infer.cli import main
+
+    from helpers import small_catalog, without_wall_times
+
+    catalog = small_catalog(tmp_path / "events", count=5)
+    text = open(catalog).read()
+    local = tmp_path / "events" / "local.toml"
+    local.write_text(text)
+    on_slurm = tmp_path / "events" / "slurm.toml"
+    on_slurm.write_text(text + '\n[cluster]\nkind = "slurm"\njobs = 1\ncores = 1\nmemory = "2GB"\n'
+                               'walltime = "00:20:00"\n')
+    assert main(["catalog", str(local), "--outdir", str(tmp_path / "here"), "--quiet"]) == 0
+    assert main(["catalog", str(on_slurm), "--outdir", str(tmp_path / "slurm"), "--quiet"]) == 0
+    assert list((tmp_path / "slurm" / "work" / "job-logs").glob("*.err"))  # the job really ran under Slurm
+    here = json.loads((tmp_path / "here" / "catalog.json").read_text())
+    there = json.loads((tmp_path / "slurm" / "catalog.json").read_text())
+    assert without_wall_times(here) == without_wall_times(there)

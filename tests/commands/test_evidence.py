@@ -86,18 +86,19 @@ def test_non_positive_psd(tmp_path, capsys):
 
 
 def test_wrong_sampling_rate(tmp_path, capsys):
-    write_strain(tmp_path / "H1.txt", np.zeros(int(2048 * DURATION)), rate=2048.0)
+    write_strain(tmp_path / "H1.txt", np.zeros(int(512 * DURATION)), rate=512.0)
     write_psd(tmp_path / "H1_psd.txt")
     message = evidence_case(tmp_path, capsys, files_config(tmp_path))
-    assert message == ("memory-infer evidence: strain file 'H1.txt' is sampled at 2048 Hz, but the configuration "
-                       "says 1024 Hz.")
+    assert message == ("memory-infer evidence: strain file 'H1.txt' is sampled at 512 Hz, below the analysis rate "
+                       "1024 Hz.")
 
 
 def test_wrong_duration(tmp_path, capsys):
     write_strain(tmp_path / "H1.txt", np.zeros(int(RATE * 2)), duration=2.0)
     write_psd(tmp_path / "H1_psd.txt")
     message = evidence_case(tmp_path, capsys, files_config(tmp_path))
-    assert message == "memory-infer evidence: strain file 'H1.txt' holds 2 s, but the configuration says 4 s."
+    assert message == ("memory-infer evidence: strain file 'H1.txt' covers 1000000000.000 to 1000000002.000, not "
+                       "the stretch 1000000000.000 to 1000000004.000.")
 
 
 def test_missing_sample_columns(tmp_path, capsys):

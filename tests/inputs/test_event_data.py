@@ -25,7 +25,7 @@ def test_detectors_from_files_check_the_segment(tmp_path):
     files = {"H1": {"strain": "H1.txt", "psd": "H1_psd.txt"}}
     detectors = detectors_from_files(files, rate, duration, start, 20.0, directory=str(tmp_path))
     assert detectors[0].name == "H1" and detectors[0].strain_data.duration == duration
-    with pytest.raises(MemoryInferError, match="holds 4 s, but the configuration says 8 s"):
+    with pytest.raises(MemoryInferError, match="covers 1000000000.000 to 1000000004.000, not the stretch 1000000000.000 to 1000000008.000"):
         detectors_from_files(files, rate, 8.0, start, 20.0, directory=str(tmp_path))
 
 

@@ -192,7 +192,10 @@ luminosity_distance = { kind = "uniform", minimum = 100.0, maximum = 2000.0 }"""
     assert main(["evidence", str(tmp_path / "release.toml"), "--outdir", str(tmp_path / "out"), "--quiet"]) == 0
     record = json.loads((tmp_path / "out" / "evidence.json").read_text())
     assert record["settings"]["reference_frequency"] == 15.0
-    assert record["settings"]["reference_frequency_from"] == "the samples file's metadata"
+    # the release's own configuration, named by its place in the file (file data with a release: every setting
+    # left out comes from the release)
+    assert record["settings"]["reference_frequency_from"] == ("release.h5: C01:IMRPhenomTHM/config_file/config/"
+                                                              "reference-frequency")
     check = next(iter(record["sample_checks"].values()))
     assert check["reference_frequency"]["differs"] is False and check["waveform_model"]["samples"] == "IMRPhenomTHM"
     assert len([m for m in record["methods"] if m["family"] == "reweighting"]) == 2

@@ -1,0 +1,118 @@
+"""``memory-infer catalog CATALOG.toml --outdir DIR``: every event of a catalog from its release and open-data
+strain, resumable, on local processes, a Dask scheduler or Slurm; then the catalog combination and one page
+linking each event's page. A folder of releases and strain files named as published works in place of the file."""
+from __future__ import annotations
+
+import os
+
+from ..campaign.catalog_run import STORE, execute_events, fingerprint, plan_events
+from ..campaign.config import CAMPAIGN_SCHEMA
+from ..campaign.store import RecordStore
+from ..catalog.combine import combine
+from ..common.errors import MemoryInferError
+from ..common.writing import atomic_path, provenance, write_text
+from ..inputs.catalog_config import load_catalog
+from ..inputs.config import apply_schema
+from ..reports.catalog import catalog_page
+from ..reports.event import event_page
+from ..reports.html import number
+from ..results.catalog import CatalogResult
+from ..results.event import EventResult
+from .campaign import make_executor
+
+
+def add_arguments(parser):
+    parser.add_argument("catalog", help="catalog file (TOML: [defaults] and [[events]]), or a folder of releases and "
+                                        "strain files named as the open-data archive names them")
+    parser.add_argument("--outdir", required=True, help="folder for the event store, each event's results and "
+                                                        "catalog.json with its report")
+    parser.add_argument("--workers", type=int, default=1, help="local worker processes (default 1)")
+    parser.add_argument("--scheduler", default=None, help="address of a running Dask scheduler (overrides --workers)")
+    parser.add_argument("--quiet", action="store_true", help="no progress bar")
+
+
+def event_files(record: dict, outdir: str) -> str | None:
+    """Write a finished event's evidence.json and report.html (from its stored record); returns the page's path
+    relative to ``outdir``."""
+    if record["status"] != "done":
+        return None
+    result = EventResult.from_json(record["result"], f"the stored result of '{record['label']}'")
+    folder = os.path.join(outdir, "events", _folder(record["label"]))
+    os.makedirs(folder, exist_ok=True)
+    result.save(os.path.join(folder, EventResult.FILE))
+    write_text(os.path.join(folder, "report.html"), event_page(result))
+    return os.path.relpath(os.path.join(folder, "report.html"), outdir)
+
+
+def _folder(label: str) -> str:
+    from ..campaign.catalog_run import safe_name
+
+    return safe_name(label)
+
+
+def catalog_result(records: list, name: str, outdir: str) -> CatalogResult:
+    """The catalog combination of the finished events, with every event's run listed (refused and failed ones
+    with their reason)."""
+    records = sorted(records, key=lambda r: r["index"])
+    done = [r for r in records if r["status"] == "done"]
+    runs = [{"label": r["label"], "status": r["status"], "reason": r["reason"],
+             "page": os.path.join("events", _folder(r["label"]), "report.html") if r["status"] == "done" else None,
+             "wall_seconds": r.get("wall_seconds")} for r in records]
+    if not done:
+        raise MemoryInferError("no event of the catalog finished: " +
+                               "; ".join(f"{r['label']}: {r['status']} ({r['reason']})" for r in records))
+    sources = [os.path.join("events", _folder(r["label"]), EventResult.FILE) for r in done]
+    result = combine([r["result"] for r in done], sources=sources)
+    result.dropped = result.dropped + [{"label": r["label"], "reason": f"{r['status']}: {r['reason']}",
+                                        "source": ""} for r in records if r["status"] != "done"]
+    for run in runs:
+        dropped = next((d for d in result.dropped if d["label"] == run["label"] and run["status"] == "done"), None)
+        if dropped is not None:
+            run["status"], run["reason"] = "left out of the combination", dropped["reason"]
+    result.event_runs = runs
+    result.provenance = provenance({"catalog": name, "events": [r["label"] for r in records]}, None)
+    result.provenance["command"] = ["memory-infer", "catalog"]
+    return result
+
+
+def run(args) -> int:
+    name, events, cluster = load_catalog(args.catalog)
+    config = apply_schema({"cluster": cluster}, {"cluster": CAMPAIGN_SCHEMA["cluster"]}, "the catalog's [cluster]")
+    if config["cluster"]["kind"] not in ("local", "address", "slurm", "htcondor"):
+        raise MemoryInferError("key 'kind' in [cluster] must be local, address, slurm or htcondor")
+    outdir = os.path.abspath(args.outdir)
+    os.makedirs(outdir, exist_ok=True)
+    tasks = plan_events(events, outdir)
+    store = RecordStore(os.path.join(outdir, STORE), fingerprint(tasks))
+    already = len(store.done())
+    if already:
+        print(f"resuming: {already} of {len(tasks)} events already finished")
+    executor, window = make_executor(args, config)
+    try:
+        execute_events(tasks, store, executor, on_record=lambda record: event_files(record, outdir),
+                       progress=not args.quiet, window=window)
+    finally:
+        executor.close()
+    records = store.records()
+    store.close()
+    for record in records:  # pages of events finished before an interruption
+        if record["status"] == "done" and not os.path.isfile(os.path.join(outdir, "events", _folder(record["label"]),
+                                                                          "report.html")):
+            event_files(record, outdir)
+    result = catalog_result(records, name, outdir).reloaded()
+    page = catalog_page(result)
+    import pandas as pd
+
+    result.save(os.path.join(outdir, CatalogResult.FILE))
+    with atomic_path(os.path.join(outdir, "events.csv")) as temporary:
+        pd.DataFrame(result.event_runs).merge(pd.DataFrame(result.events), on="label", how="left",
+                                              suffixes=("", "_combination")).to_csv(temporary, index=False)
+    write_text(os.path.join(outdir, "report.html"), page)
+    c = result.consistent_sign
+    print(f"catalog '{name}': {result.n_events} of {len(records)} events combined; consistent-sign ln BF = "
+          f"{number(c['ln_bf'], c['ln_bf_err'])}; wrong sign {result.wrong_sign['ln_bf']:.2f}")
+    for item in result.dropped:
+        print(f"left out {item['label']}: {item['reason']}")
+    print("a Bayes factor is evidence under the stated models and noise assumptions, not a detection claim")
+    print(f"wrote {outdir}/catalog.json, events.csv and report.html (each event under events/)")
+    return 0

@@ -1,0 +1,194 @@
+"""An event's segment and model from its posterior release: every setting the user leaves out is read from the
+release's own configuration (``config_file/config``, as pesummary stores the run's configuration) and metadata
+(``meta_data/meta_data``, ``approximant``, ``calibration_envelope``), and each value's origin is recorded."""
+from __future__ import annotations
+
+import ast
+import os
+import re
+
+import numpy as np
+
+from ..common.errors import MemoryInferError
+from .readers import _release_group, _scalar_text
+
+CONFIG = "config_file/config/"
+META = "meta_data/meta_data/"
+# setting -> places in one analysis group, first found wins
+PLACES = {
+    "trigger_time": (CONFIG + "trigger-time", CONFIG + "trigger_time", META + "trigger_time"),
+    "duration": (CONFIG + "duration", META + "duration"),
+    "post_trigger_duration": (CONFIG + "post-trigger-duration", CONFIG + "post_trigger_duration"),
+    "sampling_rate": (CONFIG + "sampling-frequency", CONFIG + "sampling_frequency", META + "sampling_frequency"),
+    "minimum_frequency": (CONFIG + "minimum-frequency", CONFIG + "minimum_frequency", META + "f_low"),
+    "maximum_frequency": (CONFIG + "maximum-frequency", CONFIG + "maximum_frequency", META + "f_final"),
+    "reference_frequency": (META + "f_ref", CONFIG + "reference-frequency", CONFIG + "reference_frequency"),
+    "waveform_model": ("approximant", META + "approximant", CONFIG + "waveform-approximant",
+                       CONFIG + "waveform_approximant"),
+    "detectors": (CONFIG + "detectors",),
+}
+DEFAULT_POST_TRIGGER = 2.0  # s, the usual post-trigger duration when the release does not give one
+ORIGIN_USER = "configuration"
+
+
+def _text(dataset):
+    value = np.asarray(dataset[()]).ravel()
+    if value.size == 0:
+        return None
+    item = value[0]
+    return item.decode() if isinstance(item, bytes) else item
+
+
+def _per_detector(value):
+    """A number, or a per-detector mapping written as text (``{ 'H1': 20, 'L1': 20 }`` or ``{H1: 20}``)."""
+    if isinstance(value, str) and value.strip().startswith("{"):
+        pairs = re.findall(r"['\"]?([A-Za-z0-9]+)['\"]?\s*:\s*([^,}]+)", value)
+        try:
+            return {key: float(number) for key, number in pairs}
+        except ValueError:
+            return None
+    return _scalar_text(np.asarray([value]))
+
+
+def _detector_list(value) -> list | None:
+    if value is None:
+        return None
+    try:
+        parsed = ast.literal_eval(value) if isinstance(value, str) and value.strip().startswith("[") else None
+    except (ValueError, SyntaxError):
+        parsed = None
+    if parsed is None:
+        parsed = re.findall(r"[A-Z][A-Z0-9]", str(value))
+    return [str(item) for item in parsed] or None
+
+
+def read_release_settings(path: str, analysis: str | None = None) -> dict:
+    """setting -> (value, where in the file) for what the release says; numbers as floats, per-detector
+    frequencies as mappings, detectors as a list, calibration envelopes as 7-column arrays per detector."""
+    import h5py
+
+    name = os.path.basename(path)
+    found = {}
+    try:
+        with h5py.File(path, "r") as handle:
+            group, analysis = _release_group(handle, name, analysis)
+            for setting, places in PLACES.items():
+                for place in places:
+                    if place in group and isinstance(group[place], h5py.Dataset):
+                        raw = _text(group[place])
+                        if setting == "detectors":
+                            value = _detector_list(raw)
+                        elif setting in ("minimum_frequency", "maximum_frequency"):
+                            value = _per_detector(raw)
+                        elif setting == "waveform_model":
+                            value = str(raw).strip() if raw is not None else None
+                        else:
+                            value = _scalar_text(np.asarray([raw]))
+                            value = float(value) if isinstance(value, float) else None
+                        if value is not None:
+                            found[setting] = (value, f"{name}: {analysis}/{place}")
+                            break
+            envelopes = group.get("calibration_envelope")
+            if isinstance(envelopes, h5py.Group):
+                tables = {det: np.asarray(data[()], float) for det, data in envelopes.items()
+                          if isinstance(data, h5py.Dataset) and np.ndim(data) == 2 and data.shape[1] == 7}
+                if tables:
+                    found["calibration_envelopes"] = (tables, f"{name}: {analysis}/calibration_envelope")
+            if "trigger_time" not in found and "posterior_samples" in group:
+                table = group["posterior_samples"]
+                if table.dtype.names and "geocent_time" in table.dtype.names:
+                    found["trigger_time"] = (float(np.median(table["geocent_time"])),
+                                             f"{name}: median geocent_time of {analysis}'s samples")
+    except OSError:
+        raise MemoryInferError(f"catalog release '{name}' is not a readable HDF5 file") from None
+    return found
+
+
+def _band_value(value, detectors, pick):
+    if isinstance(value, dict):
+        chosen = [value[d] for d in detectors if d in value] or list(value.values())
+        return float(pick(chosen))
+    return float(value)
+
+
+def apply_release_settings(config: dict, found: dict) -> dict:
+    """Fill every segment and model setting the user left out from ``found`` (:func:`read_release_settings`);
+    returns setting -> origin for every one of them (``configuration``, the release's place, or ``default``)."""
+    given = config.get("_given", {})
+    data, model = config["data"], config["model"]
+    detectors = list(data["files"]) or list(data["detectors"])
+    origins = {}
+
+    def take(section, key, setting, convert=float):
+        if key in given.get(section, []):
+            origins[setting] = ORIGIN_USER
+            return False
+        if setting in found:
+            config[section][key] = convert(found[setting][0])
+            origins[setting] = found[setting][1]
+            return True
+        origins[setting] = "default"
+        return False
+
+    take("data", "duration", "duration")
+    take("data", "sampling_rate", "sampling_rate")
+    take("data", "minimum_frequency", "minimum_frequency", lambda v: _band_value(v, detectors, max))
+    take("data", "maximum_frequency", "maximum_frequency", lambda v: _band_value(v, detectors, min))
+    take("model", "reference_frequency", "reference_frequency")
+    if "start_time" in given.get("data", []):
+        origins["start_time"] = ORIGIN_USER
+    elif "trigger_time" in found:
+        post, post_from = found.get("post_trigger_duration", (DEFAULT_POST_TRIGGER, "default"))
+        data["start_time"] = float(found["trigger_time"][0]) + float(post) - float(data["duration"])
+        origins["start_time"] = (f"trigger time ({found['trigger_time'][1]}) + post-trigger duration "
+                                 f"({post_from}) - duration")
+    else:
+        origins["start_time"] = "default"
+    if "approximant" in given.get("model", []):
+        origins["waveform_model"] = ORIGIN_USER
+    elif "waveform_model" in found:
+        from ..waveform.models import SUPPORTED
+
+        name, where = found["waveform_model"]
+        if name not in SUPPORTED:
+            raise MemoryInferError(f"the release's model '{name}' ({where}) is not one this tool runs "
+                                   f"({', '.join(SUPPORTED)}); set [model] approximant to choose one")
+        model["approximant"] = name
+        origins["waveform_model"] = where
+    else:
+        origins["waveform_model"] = "default"
+    calibration = config["calibration"]
+    if given.get("calibration"):
+        origins["calibration"] = ORIGIN_USER
+    elif "calibration_envelopes" in found and all(d in found["calibration_envelopes"][0] for d in detectors):
+        calibration["kind"] = "envelope"
+        calibration["_envelopes"] = {d: found["calibration_envelopes"][0][d] for d in detectors}
+        origins["calibration"] = found["calibration_envelopes"][1]
+    else:
+        origins["calibration"] = "none (the release holds no envelope for every detector)"
+    return origins
+
+
+def samples_stand_in_priors(frame, name: str):
+    """Priors for reweighting without [priors]: each source parameter the samples hold is marked as sampled
+    (uniform over the samples' range; reweighting never evaluates it, the samples carry their own prior), the
+    spins they lack are fixed at zero, and any other missing parameter is refused in one sentence."""
+    import bilby
+
+    from .checks import SOURCE_PARAMETERS, ZERO_DEFAULTS
+
+    priors = bilby.core.prior.PriorDict()
+    for key in SOURCE_PARAMETERS:
+        if key in frame.columns:
+            values = frame[key].to_numpy(float)
+            low, high = float(values.min()), float(values.max())
+            if high > low:
+                priors[key] = bilby.core.prior.Uniform(low, high, name=key)
+            else:
+                priors[key] = bilby.core.prior.DeltaFunction(low, name=key)
+        elif key in ZERO_DEFAULTS:
+            priors[key] = bilby.core.prior.DeltaFunction(0.0, name=key)
+        else:
+            raise MemoryInferError(f"the posterior samples in '{name}' lack the column '{key}', and there is no "
+                                   "[priors] entry to fix it")
+    return priors

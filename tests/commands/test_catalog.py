@@ -1,0 +1,103 @@
+"""``memory-infer catalog``: every event from its release and open-data strain, resumable after SIGKILL."""
+import json
+import os
+import signal
+import sqlite3
+import subprocess
+import sys
+import time
+
+import pytest
+
+from memory_infer.cli import main
+
+from helpers import small_catalog, without_wall_times
+
+EVENTS = 6  # five invented events and one with a data gap inside its segment
+
+
+@pytest.fixture(scope="module")
+def catalog(tmp_path_factory):
+    return small_catalog(tmp_path_factory.mktemp("catalog"), count=EVENTS - 1)
+
+
+def _stored(outdir):
+    path = os.path.join(outdir, "events.sqlite")
+    if not os.path.isfile(path):
+        return 0
+    try:
+        with sqlite3.connect(path, timeout=1) as connection:
+            return connection.execute("SELECT count(*) FROM records").fetchone()[0]
+    except sqlite3.OperationalError:
+        return 0
+
+
+@pytest.fixture(scope="module")
+def uninterrupted(catalog, tmp_path_factory):
+    outdir = tmp_path_factory.mktemp("whole")
+    assert main(["catalog", catalog, "--outdir", str(outdir), "--quiet"]) == 0
+    with open(outdir / "catalog.json") as handle:
+        return outdir, json.load(handle)
+
+
+@pytest.mark.slow
+def test_catalog_lists_every_event_with_its_page_or_reason(uninterrupted):
+    outdir, content = uninterrupted
+    runs = {run["label"]: run for run in content["event_runs"]}
+    assert len(runs) == EVENTS
+    assert runs["gap-inside"]["status"] == "refused"
+    assert "has no data (data-quality mask) for 1 s inside the analysis segment" in runs["gap-inside"]["reason"]
+    finished = [run for run in runs.values() if run["page"]]
+    assert len(finished) == EVENTS - 1  # every event but the refused one ran and has its page
+    for run in finished:
+        assert os.path.isfile(outdir / run["page"])
+    combined = [run for run in finished if run["status"] == "done"]
+    assert content["n_events"] == len(combined) >= 3
+    dropped = {d["label"]: d["reason"] for d in content["dropped"]}
+    for run in finished:  # an event below the effective-sample threshold is listed with its reason
+        if run["status"] != "done":
+            assert run["status"] == "left out of the combination" and "effective samples" in dropped[run["label"]]
+    assert set(dropped) | {run["label"] for run in combined} == set(runs)
+    done = combined
+    page = (outdir / "report.html").read_text()
+    assert "gap-inside" in page and "href='events/" in page
+    assert any(d["label"] == "gap-inside" for d in content["dropped"])
+    event = json.loads((outdir / done[0]["page"]).with_name("evidence.json").read_text())
+    assert event["settings"]["origins"]["start_time"].startswith("trigger time (")
+    assert event["settings"]["origins"]["priors"].startswith("not needed")
+
+
+@pytest.mark.slow
+def test_killed_catalog_resumes_to_the_same_catalog(catalog, uninterrupted, tmp_path, capsys):
+    """SIGKILL mid-run, then the same command: no event lost or repeated, the same catalog.json but for wall
+    times."""
+    outdir = tmp_path / "killed"
+    env = dict(os.environ, PYTHONPATH=os.getcwd() + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    process = subprocess.Popen([sys.executable, "-m", "memory_infer.cli", "catalog", catalog, "--outdir",
+                                str(outdir), "--quiet"], env=env, stdout=subprocess.DEVNULL,
+                               stderr=subprocess.DEVNULL)
+    deadline = time.time() + 600
+    while _stored(outdir) < 2 and process.poll() is None and time.time() < deadline:
+        time.sleep(0.05)
+    process.send_signal(signal.SIGKILL)
+    process.wait()
+    before = _stored(outdir)
+    assert 2 <= before < EVENTS, before  # killed mid-run, with events committed
+    with capsys.disabled():
+        print(f"killed with {before} of {EVENTS} events committed")
+    capsys.readouterr()
+    assert main(["catalog", catalog, "--outdir", str(outdir), "--quiet"]) == 0
+    assert f"resuming: {before} of {EVENTS} events already finished" in capsys.readouterr().out
+    assert _stored(outdir) == EVENTS
+    resumed = json.loads((outdir / "catalog.json").read_text())
+    assert without_wall_times(resumed) == without_wall_times(uninterrupted[1])
+
+
+def test_catalog_file_problems_are_one_sentence(tmp_path, capsys):
+    path = tmp_path / "bad.toml"
+    path.write_text('[[events]]\nlabel = "a"\nrelease = "r.h5"\n')
+    assert main(["catalog", str(path), "--outdir", str(tmp_path / "out")]) == 2
+    assert capsys.readouterr().err.strip() == "memory-infer catalog: event 1 of bad.toml needs 'strain'."
+    path.write_text('[[events]]\nlabel = "a"\nrelease = "r.h5"\nstrain = { H1 = "x.hdf5" }\ncolour = 1\n')
+    assert main(["catalog", str(path), "--outdir", str(tmp_path / "out")]) == 2
+    assert "unknown key 'colour' in event 1 of bad.toml" in capsys.readouterr().err

@@ -1,0 +1,22 @@
+"""The demo's invented events are files the trade's own readers take: gwpy reads the strain, pesummary the
+release."""
+import numpy as np
+import pytest
+
+from memory_infer.commands.catalog_demo import invented_event
+
+
+def test_invented_event_files_read_by_gwpy_and_pesummary(tmp_path):
+    gwpy = pytest.importorskip("gwpy.timeseries")
+    pesummary_io = pytest.importorskip("pesummary.io")
+    event = invented_event(str(tmp_path), "tern-01", (36.0, 30.0), 300.0, 0.9, 1.0, seed=4,
+                           trigger=1_000_000_016.0, live_points=None, stand_in=20)
+    assert event["strain"]["H1"] == "H-H1_GWOSC_4KHZ_R1-1000000000-32.hdf5"
+    series = gwpy.TimeSeries.read(str(tmp_path / event["strain"]["H1"]), format="hdf5.gwosc")
+    assert series.sample_rate.value == 4096.0 and series.t0.value == 1_000_000_000 and series.duration.value == 32
+    assert np.std(series.value) > 0
+    release = pesummary_io.read(str(tmp_path / event["release"]))
+    assert release.labels == ["C01:IMRPhenomTHM"]
+    samples = release.samples_dict["C01:IMRPhenomTHM"]
+    assert len(samples["mass_1"]) == 20 and abs(np.median(samples["mass_1"]) - 36.0) < 0.5
+    assert release.config["C01:IMRPhenomTHM"]["config"]["trigger-time"] == "1000000016.0"

@@ -1,0 +1,84 @@
+"""Settings from a release written by pesummary's own writer: values, origins, and the user's keys kept."""
+import numpy as np
+import pytest
+
+from memory_infer.common.errors import MemoryInferError
+from memory_infer.inputs.config import evidence_config
+from memory_infer.inputs.release_settings import apply_release_settings, read_release_settings
+
+CONFIG = """[config]
+trigger-time = 1000000016.0
+duration = 8
+post-trigger-duration = 2.0
+sampling-frequency = 2048
+minimum-frequency = { 'H1': 20, 'L1': 25 }
+maximum-frequency = { 'H1': 896, 'L1': 800 }
+reference-frequency = 50
+waveform-approximant = IMRPhenomTPHM
+detectors = ['H1', 'L1']
+"""
+
+
+@pytest.fixture(scope="module")
+def release(tmp_path_factory):
+    """A release by pesummary 1.8's writer (the trade's tool) with the run's configuration file, PSDs and
+    calibration envelopes (7 columns as releases hold them); invented values."""
+    pytest.importorskip("pesummary")
+    from pesummary.gw.file.formats.pesummary import write_pesummary
+
+    folder = tmp_path_factory.mktemp("release")
+    (folder / "config.ini").write_text(CONFIG)
+    frequencies = np.linspace(10, 1024, 50)
+    envelope = np.column_stack([frequencies, np.ones(50), np.zeros(50), 0.95 * np.ones(50), -0.02 * np.ones(50),
+                                1.05 * np.ones(50), 0.02 * np.ones(50)])
+    rng = np.random.default_rng(2)
+    samples = np.column_stack([rng.uniform(30, 40, 10), rng.uniform(20, 30, 10), rng.normal(size=10)])
+    write_pesummary(["mass_1", "mass_2", "log_likelihood"], samples, outdir=str(folder), label="C01:IMRPhenomTPHM",
+                    config=[str(folder / "config.ini")], hdf5=True, filename="release.h5",
+                    calibration={"C01:IMRPhenomTPHM": {"H1": envelope, "L1": envelope}},
+                    psd={"C01:IMRPhenomTPHM": {"H1": np.column_stack([frequencies, np.full(50, 1e-46)])}},
+                    file_kwargs={"C01:IMRPhenomTPHM": {"sampler": {}, "meta_data": {"f_ref": 50.0}}})
+    return str(folder / "release.h5")
+
+
+def _config(raw):
+    base = {"event": {"label": "x"}, "data": {"kind": "files", "files": {"H1": {"strain": "a"}, "L1": {"strain": "b"}}}}
+    for section, values in raw.items():
+        base.setdefault(section, {}).update(values)
+    return evidence_config(base, "test", ".")
+
+
+def test_every_setting_left_out_comes_from_the_release_with_its_origin(release):
+    found = read_release_settings(release)
+    assert found["trigger_time"][0] == 1000000016.0 and found["duration"][0] == 8.0
+    assert found["minimum_frequency"][0] == {"H1": 20.0, "L1": 25.0}
+    assert found["detectors"][0] == ["H1", "L1"] and found["waveform_model"][0] == "IMRPhenomTPHM"
+    assert sorted(found["calibration_envelopes"][0]) == ["H1", "L1"]
+    config = _config({})
+    origins = apply_release_settings(config, found)
+    data = config["data"]
+    assert (data["duration"], data["sampling_rate"], data["start_time"]) == (8.0, 2048.0, 1000000010.0)
+    # one band for the network: the highest lower edge and the lowest upper edge of the detectors
+    assert (data["minimum_frequency"], data["maximum_frequency"]) == (25.0, 800.0)
+    assert config["model"]["reference_frequency"] == 50.0 and config["model"]["approximant"] == "IMRPhenomTPHM"
+    assert config["calibration"]["kind"] == "envelope" and sorted(config["calibration"]["_envelopes"]) == ["H1", "L1"]
+    assert origins["duration"] == "release.h5: C01:IMRPhenomTPHM/config_file/config/duration"
+    assert origins["reference_frequency"] == "release.h5: C01:IMRPhenomTPHM/meta_data/meta_data/f_ref"
+    assert origins["start_time"].startswith("trigger time (release.h5: C01:IMRPhenomTPHM/config_file/config/"
+                                            "trigger-time) + post-trigger duration")
+
+
+def test_the_users_settings_are_kept(release):
+    config = _config({"data": {"duration": 4.0, "start_time": 1000000013.0}, "model": {"approximant": "IMRPhenomTHM"}})
+    origins = apply_release_settings(config, read_release_settings(release))
+    assert config["data"]["duration"] == 4.0 and config["data"]["start_time"] == 1000000013.0
+    assert config["model"]["approximant"] == "IMRPhenomTHM"
+    assert origins["duration"] == origins["start_time"] == origins["waveform_model"] == "configuration"
+    assert config["data"]["sampling_rate"] == 2048.0  # still from the release
+
+
+def test_a_model_this_tool_does_not_run_is_one_sentence(release, tmp_path):
+    found = read_release_settings(release)
+    found["waveform_model"] = ("NRSur7dq4", "release.h5: C01/approximant")
+    with pytest.raises(MemoryInferError, match="the release's model 'NRSur7dq4' .* is not one this tool runs"):
+        apply_release_settings(_config({}), found)
