@@ -20,7 +20,8 @@ import numpy as np
 
 from ..common.errors import MemoryInferError
 from ..results.catalog import CatalogResult
-from ..results.estimates import RULE, cumulative_distribution, normalized_density, preferred, prior_on_grid
+from ..results.estimates import (RULE, cumulative_distribution, event_pair, normalized_density, prior_on_grid,
+                                 sample_set_name)
 from ..results.event import EventResult
 
 CONSISTENCY_KEYS = ("amplitude_grid", "early_inspiral_memory", "free_amplitude_limits")
@@ -79,18 +80,22 @@ def _as_result(record) -> EventResult:
 
 
 def _select(record: EventResult, source: str) -> EventEntry:
-    """ln BF+ and ln BF- of one event by the one rule (:func:`memory_infer.results.estimates.preferred`)."""
+    """ln BF+ and ln BF- of one event by the one rule (:func:`memory_infer.results.estimates.event_pair`), the
+    same pair the event's headline and sign table show, named with its sample set."""
     label = str(record.event)
     methods = record.methods or []
     snr = (record.memory_snr or {}).get("value")
-    chosen = preferred(methods, ("memory", "flipped"))
+    chosen = event_pair(methods)
+    if chosen is not None and "flipped" not in chosen:
+        return EventEntry(label, chosen["memory"].ln_bf, None, None, method=sample_set_name(chosen["memory"]),
+                          included=False, reason="no sample set holds ln BF- (A = -1 vs 0) beside ln BF+",
+                          memory_snr=snr, source=source)
     if chosen is not None:
         plus, minus = chosen["memory"], chosen["flipped"]
-        family = {"nested": "nested sampling", "reweighting": "importance reweighting",
-                  "two-point": "two-point approximation"}[plus.family]
         curve = None if plus.family == "two-point" else record.amplitude_curve
-        return EventEntry(label, plus.ln_bf, minus.ln_bf, plus.ln_bf_err, plus.ln_bf_err, minus.ln_bf_err, family,
-                          memory_snr=snr, source=source, curve=None if curve is None else curve.to_dict())
+        return EventEntry(label, plus.ln_bf, minus.ln_bf, plus.ln_bf_err, plus.ln_bf_err, minus.ln_bf_err,
+                          sample_set_name(plus), memory_snr=snr, source=source,
+                          curve=None if curve is None else curve.to_dict())
     unreliable = next((m for m in methods if m.family == "reweighting" and m.numerator == "memory"), None)
     if unreliable is not None:
         return EventEntry(label, None, None, None, method="importance reweighting", included=False,

@@ -114,8 +114,12 @@ def event_page(result: EventResult) -> str:
     sections = [("Bayes factors", table(["method", "hypotheses", "ln BF ± error", "effective samples", "usable", "note"], rows))]
     headline = result.headline
     if headline:
-        sections[0] = (sections[0][0], f"<p>Headline: ln BF (memory vs none) = <b>{number(headline['ln_bf'], headline['ln_bf_err'])}</b> "
-                       f"by {html.escape(headline['method'])}. Rule: {html.escape(headline['rule'])}.</p>"
+        minus = ("" if headline.get("ln_bf_minus") is None else
+                 f"; ln BF₋ (A = −1 vs 0) = {number(headline['ln_bf_minus'], headline.get('ln_bf_minus_err'))} "
+                 "from the same samples")
+        sections[0] = (sections[0][0], f"<p>Headline: ln BF₊ (memory, A = +1 vs 0) = "
+                       f"<b>{number(headline['ln_bf'], headline['ln_bf_err'])}</b> by {html.escape(headline['method'])}"
+                       f"{minus}. Rule: {html.escape(headline['rule'])}.</p>"
                        + _cross_check_text(headline.get("cross_check")) + sections[0][1])
     sign = result.sign
     if sign:

@@ -51,9 +51,21 @@ def number(value, error=None, digits=2) -> str:
     return text
 
 
+class Markup(str):
+    """A table cell that is already HTML (a link), written as it is."""
+
+
+def link(target: str, text: str) -> Markup:
+    return Markup(f"<a href='{html.escape(target)}'>{html.escape(text)}</a>")
+
+
+def _cell(value) -> str:
+    return value if isinstance(value, Markup) else html.escape(str(value))
+
+
 def table(headers, rows) -> str:
     head = "".join(f"<th>{html.escape(str(h))}</th>" for h in headers)
-    body = "".join("<tr>" + "".join(f"<td>{html.escape(str(c))}</td>" for c in row) + "</tr>" for row in rows)
+    body = "".join("<tr>" + "".join(f"<td>{_cell(c)}</td>" for c in row) + "</tr>" for row in rows)
     return f"<table><tr>{head}</tr>{body}</table>"
 
 

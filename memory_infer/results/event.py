@@ -5,7 +5,7 @@ from dataclasses import dataclass, field
 
 from .base import ResultFile
 from .cautions import EVIDENCE
-from .estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, headline
+from .estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, consistent_sign, event_pair, headline
 
 
 @dataclass
@@ -36,6 +36,10 @@ class EventResult(ResultFile):
     figures: dict = field(default_factory=dict)
     sample_checks: dict = field(default_factory=dict)  # outside samples: their settings and likelihood mismatch
 
-    def choose_headline(self) -> None:
-        """Set ``headline`` by the one rule (:func:`memory_infer.results.estimates.headline`)."""
+    def choose_headline(self, signs=None) -> None:
+        """Set ``headline`` and ``sign`` by the one rule (:func:`memory_infer.results.estimates.event_pair`):
+        the sign table holds the headline's ln BF+ and its ln BF- from the same sample set. ``signs`` are the
+        candidate sign summaries in order of preference (default: the present one)."""
         self.headline = headline(self.methods)
+        candidates = list(signs) if signs is not None else [self.sign]
+        self.sign = consistent_sign(event_pair(self.methods), candidates)

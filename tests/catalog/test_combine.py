@@ -99,7 +99,13 @@ def test_end_to_end_catalog_from_evidence_runs(tmp_path):
         assert set(result[key]) >= {"ln_bf", "ln_bf_err"}
     assert {"median", "lower_90", "upper_90", "density_ratio_at_zero"} <= set(result["amplitude"])
     assert result["amplitude"]["events"] == 3
-    assert all(e["method"] == "importance reweighting" for e in result["events"])
+    assert all(e["method"].startswith("importance reweighting from the A = 0 posterior") for e in result["events"])
+    for folder, entry in zip(folders, result["events"]):  # the catalog shows each event's own headline pair
+        evidence = json.loads(open(f"{folder}/evidence.json").read())
+        assert (entry["ln_bf_plus"], entry["ln_bf_minus"]) == (evidence["headline"]["ln_bf"],
+                                                               evidence["headline"]["ln_bf_minus"])
+        assert (evidence["sign"]["ln_bf_plus"], evidence["sign"]["ln_bf_minus"]) == (entry["ln_bf_plus"],
+                                                                                     entry["ln_bf_minus"])
     assert (tmp_path / "catalog" / "events.csv").exists() and (tmp_path / "catalog" / "report.html").exists()
 
 
