@@ -7,7 +7,7 @@ import numpy as np
 
 from ..results.estimates import normalized_density
 from ..results.event import EventResult
-from .html import figure_to_html, new_figure, number, page, table
+from .html import figure_to_html, new_figure, number, number_or_undefined, page, table
 
 
 def whitened_figure(whitened: dict) -> str:
@@ -108,7 +108,8 @@ def _cross_check_text(check) -> str:
 
 def event_page(result: EventResult) -> str:
     """The per-event report: numbers with errors and methods, then the figures."""
-    rows = [(m.method, f"{m.numerator} vs {m.denominator}", number(m.ln_bf, m.ln_bf_err),
+    rows = [(m.method, f"{m.numerator} vs {m.denominator}",
+             number_or_undefined(m.ln_bf, m.ln_bf_err, m.family in ("reweighting", "nested")),
              "" if m.effective_sample_size is None else f"{m.effective_sample_size:.0f} of {m.number_of_samples}",
              "yes" if m.reliable else "NO", m.note) for m in result.methods]
     sections = [("Bayes factors", table(["method", "hypotheses", "ln BF ± error", "effective samples", "usable", "note"], rows))]
@@ -123,11 +124,13 @@ def event_page(result: EventResult) -> str:
                        + _cross_check_text(headline.get("cross_check")) + sections[0][1])
     sign = result.sign
     if sign:
+        undefined = not sign.method.startswith("two-point")
         sections.append(("Sign of the memory", table(
             ["ln BF₊ (A=+1 vs 0)", "ln BF₋ (A=−1 vs 0)", "sign ln BF (+ vs −)", "weight of A = +1 against −1",
              "posterior mass of A > 0 (A free)", "method"],
-            [(number(sign.ln_bf_plus, sign.ln_bf_plus_err), number(sign.ln_bf_minus, sign.ln_bf_minus_err),
-              number(sign.ln_bf_sign, sign.ln_bf_sign_err), f"{sign.weight_plus:.3f}",
+            [(number_or_undefined(sign.ln_bf_plus, sign.ln_bf_plus_err, undefined),
+              number_or_undefined(sign.ln_bf_minus, sign.ln_bf_minus_err, undefined),
+              number_or_undefined(sign.ln_bf_sign, sign.ln_bf_sign_err, undefined), f"{sign.weight_plus:.3f}",
               "—" if sign.mass_above_zero is None else f"{sign.mass_above_zero:.3f}", sign.method)])
             + f"<p>{html.escape(sign.note)}</p>"))
     snr = result.memory_snr

@@ -18,6 +18,7 @@ RULE = ("ln BF+ (A = +1 vs 0) and ln BF- (A = -1 vs 0) from one family and one s
         "the reliable pair with the smallest Monte-Carlo error on ln BF+ (importance reweighting or nested "
         "sampling); the two-point approximation, which has no error, only when neither is available; ln BF+ "
         "alone when no sample set holds both; the other estimates are reported as cross-checks")
+ERROR_UNDEFINED_TEXT = "error undefined: fewer than two effective samples"
 
 
 class _FromDict:
