@@ -59,6 +59,8 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventRes
                                     "method": "leading-order memory accumulated before the model's first sample",
                                     "effect": EARLY_INSPIRAL_EFFECT}
     result.settings = setup.settings_fingerprint()
+    result.injection = None if setup.injection is None else {k: float(v) for k, v in setup.injection.items()}
+    result.control = EventResult.control_reason(bool(config["event"].get("control", False)), result.injection)
     failures = setup.generator.failures - failures_before
     result.waveform_failures = {"count": failures, "treatment": FAILURE_TREATMENT}
     if failures:

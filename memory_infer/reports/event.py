@@ -106,6 +106,24 @@ def _cross_check_text(check) -> str:
             + ("" if size is None else f" ({size:+.1f} combined standard errors)") + ".</p>")
 
 
+INJECTION_UNITS = {"mass_1": "M☉ (detector frame)", "mass_2": "M☉ (detector frame)", "luminosity_distance": "Mpc",
+                   "theta_jn": "rad", "phase": "rad", "ra": "rad", "dec": "rad", "psi": "rad", "geocent_time": "s (GPS)",
+                   "memory_amplitude": "(1 = general relativity)"}
+
+
+def injection_text(result: EventResult) -> str:
+    """The injected parameters, the memory amplitude A first, and whether the event is a control."""
+    injection = dict(result.injection)
+    order = ["memory_amplitude"] + sorted(k for k in injection if k != "memory_amplitude")
+    rows = [("memory amplitude A" if key == "memory_amplitude" else key, f"{injection[key]:.6g}",
+             INJECTION_UNITS.get(key, "")) for key in order if key in injection]
+    text = table(["parameter", "injected value", "unit"], rows)
+    if result.control:
+        text += (f"<p>A control event ({html.escape(result.control)}): a catalog keeps it out of its sums and "
+                 "shows it apart.</p>")
+    return text
+
+
 def event_page(result: EventResult) -> str:
     """The per-event report: numbers with errors and methods, then the figures."""
     rows = [(m.method, f"{m.numerator} vs {m.denominator}",
@@ -138,6 +156,8 @@ def event_page(result: EventResult) -> str:
         sections.append(("Memory signal-to-noise ratio", f"<p>{snr['value']:.3f} at {html.escape(snr['point'])}; "
                          f"{html.escape(snr['method'])}. Expected ln BF for a perfectly known signal: ρ²/2 = "
                          f"{snr['value'] ** 2 / 2:.3f} (Finn, PRD 46, 5236 (1992)).</p>"))
+    if result.injection:
+        sections.append(("Injection (simulated data)", injection_text(result)))
     free = result.free_amplitude
     if free:
         sections.append(("Memory amplitude, A free", f"<p>median {free['median']:.2f}, 90% interval "

@@ -80,6 +80,17 @@ def test_unreliable_reweighting_is_dropped_and_nothing_usable_is_an_error():
     assert result["dropped"][0]["reason"] == "too few effective samples (2.0)"
 
 
+def test_controls_are_shown_apart_and_kept_out_of_every_sum():
+    control = dict(record("null", -0.4, -0.5, curve=gaussian_curve(0.0, 0.5)), control="injected without memory (A = 0)",
+                   injection={"memory_amplitude": 0.0, "mass_1": 30.0})
+    flagged = dict(record("flag", 2.0, -2.0), control="marked as a control in its configuration ([event] control = true)")
+    result = combine([record("a", 1.0, -1.0, curve=gaussian_curve(1.0, 0.5)), control, flagged]).to_json()
+    assert result["consistent_sign"]["ln_bf"] == pytest.approx(1.0) and result["n_events"] == 1
+    assert [c["label"] for c in result["controls"]] == ["null", "flag"] and result["dropped"] == []
+    assert result["controls"][0]["injected_amplitude"] == 0.0 and result["amplitude"]["events"] == 1
+    assert [e["label"] for e in result["events"]] == ["a"]
+
+
 @pytest.mark.slow
 def test_end_to_end_catalog_from_evidence_runs(tmp_path):
     from memory_infer.cli import main

@@ -28,3 +28,15 @@ def test_page_states_the_model_reference_frequency_and_calibration():
     assert "reference frequency 15 Hz (from the samples file&#x27;s metadata)" in page
     assert "H1: cubic-spline calibration, 10 nodes" in page
     assert "exactly calibrated" in event_page(EventResult(event="plain", settings={"approximant": "IMRPhenomTHM"}))
+
+
+def test_a_simulated_event_page_lists_its_injection():
+    from memory_infer.reports.event import event_page
+
+    result = EventResult(event="sim", injection={"memory_amplitude": 0.0, "mass_1": 36.0, "luminosity_distance": 900.0},
+                         control=EventResult.control_reason(False, {"memory_amplitude": 0.0}))
+    text = event_page(result)
+    assert "Injection (simulated data)" in text and "<td>memory amplitude A</td><td>0</td>" in text
+    assert "<td>luminosity_distance</td><td>900</td><td>Mpc</td>" in text and "A control event" in text
+    assert EventResult.control_reason(True, None).startswith("marked as a control")
+    assert EventResult.control_reason(False, {"memory_amplitude": 1.0}) == ""
