@@ -14,8 +14,7 @@ def _distribution_figure(values, key):
     fig, axis = new_figure(figsize=(7, 3.4))
     axis.hist(values, bins=60, color="C3", alpha=0.7)
     axis.set_xlabel(f"ln BF₊ per detected injection ({key})")
-    axis.set_ylabel("injections")
-    axis.set_yscale("log")
+    axis.set_ylabel("injections (count)")
     return figure_to_html(fig, "ln BF distribution")
 
 
@@ -31,9 +30,12 @@ def _cumulative_figure(summary):
         events = np.asarray(bands["events"], dtype=float)
         axis.plot(events, known * events, color="0.4", ls=":", label="known-sign bound (mean ρ²/2 per event)")
     axis.axhline(threshold["threshold"], color="k", ls="--", lw=0.8, label=f"ln BF = {threshold['threshold']:g}")
-    for name, style in (("median", "-"), ("lower_90", ":"), ("upper_90", ":")):
+    crossing = {"median": "catalog size where the median crosses", "lower_90": "where the 95% curve crosses",
+                "upper_90": "where the 5% curve crosses"}
+    for name, style in (("median", "-"), ("lower_90", "-."), ("upper_90", ":")):
         if threshold.get(name):
-            axis.axvline(threshold[name], color="C0", ls=style, lw=0.8)
+            axis.axvline(threshold[name], color="C0", ls=style, lw=0.8,
+                         label=f"{crossing[name]} ({threshold[name]:.0f} events)")
     axis.set_xscale("log")
     axis.set_xlabel("number of detected events in the catalog")
     axis.set_ylabel("catalog ln BF₊")

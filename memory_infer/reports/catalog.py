@@ -50,12 +50,12 @@ def amplitude_figure(result) -> str:
         for label, curve in amplitude["event_curves"].items():
             axis.plot(grid, normalized_density(grid, curve), lw=0.8, alpha=0.6, label=label)
         axis.plot(grid, np.exp(amplitude["ln_density"]), color="k", lw=2, label="catalog")
-        axis.axvline(1.0, color="k", ls="--", lw=0.8)
+        axis.axvline(1.0, color="k", ls="--", lw=0.8, label="general relativity (A = 1)")
         axis.legend(fontsize=6, ncol=2)
     else:
         axis.text(0.5, 0.5, amplitude.get("note", "no amplitude curves"), transform=axis.transAxes, ha="center")
-    axis.set_xlabel("shared memory amplitude A (1 = general relativity)")
-    axis.set_ylabel("posterior density")
+    axis.set_xlabel("shared memory amplitude A (dimensionless; 1 = general relativity)")
+    axis.set_ylabel("posterior density [per unit A]")
     return figure_to_html(fig, "catalog amplitude posterior")
 
 

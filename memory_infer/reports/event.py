@@ -15,37 +15,51 @@ def whitened_figure(whitened: dict) -> str:
     fig, axes = new_figure(len(whitened), 1, figsize=(8, 2.4 * len(whitened)), squeeze=False)
     for axis, (name, series) in zip(axes[:, 0], whitened.items()):
         axis.plot(series["time"], series["data"], color="0.7", lw=0.7, label="whitened data")
-        axis.plot(series["time"], series["model_without_memory"], color="C0", lw=1.0, label="model, no memory")
+        axis.plot(series["time"], series["model_without_memory"], color="C0", lw=1.0, label="model, no memory (A = 0)")
         axis.plot(series["time"], series["model_with_memory"], color="C3", lw=1.0, ls="--",
-                  label="model with memory (A = 1)")
-        axis.set_ylabel(name)
+                  label="model, GR memory (A = 1)")
+        axis.set_ylabel(f"{name} whitened strain\n[noise standard deviations]", fontsize=8)
         axis.legend(fontsize=7, loc="upper left")
     axes[-1, 0].set_xlabel("time from merger at geocentre [s]")
     return figure_to_html(fig, "whitened data and models")
 
 
-def memory_spectrum_figure(spectrum: dict) -> str:
+def draw_spectrum(spectrum: dict):
+    """The memory's 2 sqrt(f)|h(f)| against each detector's noise ASD, both in strain per root hertz, in band."""
     fig, axis = new_figure(figsize=(8, 4))
+    low = float(spectrum["minimum_frequency"])
+    high = low
     for index, (name, series) in enumerate(spectrum["detectors"].items()):
-        f = np.asarray(series["frequency"])
-        axis.loglog(f, series["memory"], color=f"C{index}", label=f"{name} memory 2√f|h̃|")
+        f = np.asarray(series["frequency"], dtype=float)
+        memory = np.asarray(series["memory"], dtype=float)
         asd = np.array([np.nan if a is None else a for a in series["asd"]], dtype=float)
-        good = np.isfinite(asd)
-        axis.loglog(f[good], asd[good], color=f"C{index}", lw=0.8, ls=":", label=f"{name} ASD")
-    axis.axvline(spectrum["minimum_frequency"], color="0.5", ls="--", lw=0.8)
+        band = f >= low  # outside the analysis band the response is masked to zero: nothing to draw
+        shown = band & (memory > 0)
+        axis.loglog(f[shown], memory[shown], color=f"C{index}",
+                    label=f"{name}: memory signal, 2√f |h̃(f)| (GR memory, A = 1)")
+        good = band & np.isfinite(asd) & (asd > 0)
+        axis.loglog(f[good], asd[good], color=f"C{index}", lw=0.8, ls=":", label=f"{name}: noise ASD √S(f)")
+        if np.any(good):
+            high = max(high, float(f[good].max()))
+    axis.set_xlim(low, high if high > low else None)
     axis.set_xlabel("frequency [Hz]")
-    axis.set_ylabel("[1/√Hz]")
+    axis.set_ylabel("strain amplitude spectral density [1/√Hz]")
     axis.legend(fontsize=7)
-    return figure_to_html(fig, "memory spectrum and noise")
+    return fig
 
 
-def amplitude_figure(result: EventResult) -> str:
+def memory_spectrum_figure(spectrum: dict) -> str:
+    return figure_to_html(draw_spectrum(spectrum), "memory spectrum and noise")
+
+
+def draw_amplitude(result: EventResult):
+    """The posterior of the memory amplitude A: the free-A nested run and the reweighted curve."""
     limits = result.figures.get("free_amplitude_limits") or result.settings.get("free_amplitude_limits", [-5, 5])
     fig, axis = new_figure(figsize=(7, 3.5))
     drawn = False
     if result.free_amplitude and result.free_amplitude.get("samples"):
         axis.hist(result.free_amplitude["samples"], bins=40, density=True, alpha=0.5, color="C2",
-                  label="nested sampling, A free")
+                  label="nested sampling with A free (samples)")
         drawn = True
     if result.amplitude_curve:
         grid = np.asarray(result.amplitude_curve.amplitudes)
@@ -55,13 +69,24 @@ def amplitude_figure(result: EventResult) -> str:
                   label="reweighting: ⟨L(A)/L(0)⟩, uniform prior")
         drawn = True
     axis.axvline(1.0, color="k", lw=0.8, ls="--", label="general relativity (A = 1)")
-    axis.axvline(0.0, color="0.5", lw=0.8, ls=":")
-    axis.set_xlabel("memory amplitude A")
-    axis.set_ylabel("posterior density")
+    axis.axvline(0.0, color="0.5", lw=0.8, ls=":", label="no memory (A = 0)")
+    axis.set_xlabel("memory amplitude A (dimensionless; 1 = general relativity)")
+    axis.set_ylabel("posterior density [per unit A]")
     axis.legend(fontsize=7)
     if not drawn:
         axis.text(0.5, 0.5, "no free-amplitude run or reweighting", transform=axis.transAxes, ha="center")
-    return figure_to_html(fig, "posterior of the memory amplitude")
+    return fig
+
+
+def amplitude_figure(result: EventResult) -> str:
+    return figure_to_html(draw_amplitude(result), "posterior of the memory amplitude")
+
+
+def weights_label(name: str) -> str:
+    """A sample set's legend: which run drew the samples and which weight they get."""
+    return {"none": "samples of the no-memory run (A = 0): weight L(A = 1) / L(A = 0)",
+            "memory": "samples of the GR-memory run (A = 1): weight L(A = 0) / L(A = 1)"}.get(
+        name, f"samples {name}: weight L(A = 1) / L(samples' A)")
 
 
 def weights_figure(weights: dict) -> str:
@@ -72,9 +97,9 @@ def weights_figure(weights: dict) -> str:
         lw = np.asarray(log_weights, dtype=float)
         lw = lw[np.isfinite(lw)]
         if lw.size:
-            axis.hist((lw - lw.max()) / np.log(10), bins=40, histtype="step", label=name)
-    axis.set_xlabel("log10 of the importance weight relative to the largest")
-    axis.set_ylabel("samples")
+            axis.hist((lw - lw.max()) / np.log(10), bins=40, histtype="step", label=weights_label(name))
+    axis.set_xlabel("log10 of the importance weight relative to the largest (dimensionless)")
+    axis.set_ylabel("samples (count)")
     if weights:
         axis.legend(fontsize=7)
     return figure_to_html(fig, "importance weights")
