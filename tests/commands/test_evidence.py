@@ -241,3 +241,18 @@ def test_files_and_outside_samples_run_end_to_end(tmp_path, capsys):
     assert reweighted and all(m["effective_sample_size"] > 50 for m in reweighted)
     assert record["memory_snr"]["value"] > 0
     assert (tmp_path / "out" / "report.html").exists()
+
+
+def test_the_shipped_example_configurations_are_valid_and_differ_only_in_size():
+    # configs/example_event.toml is the quick one; configs/example_event_full.toml the four-hypothesis run
+    import os
+
+    from memory_infer.inputs.config import load_evidence_config
+
+    root = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+    quick = load_evidence_config(os.path.join(root, "configs", "example_event.toml"))
+    full = load_evidence_config(os.path.join(root, "configs", "example_event_full.toml"))
+    assert quick["evidence"]["nested_hypotheses"] == ["memory", "none"]
+    assert full["evidence"]["nested_hypotheses"] == ["memory", "none", "flipped", "free"]
+    assert quick["injection"] == full["injection"] and quick["priors"] == full["priors"]
+    assert quick["sampler"]["live_points"] < full["sampler"]["live_points"]
