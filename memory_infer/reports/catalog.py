@@ -88,7 +88,8 @@ def catalog_page(result: CatalogResult) -> str:
         ("Consistency of the events with the shared amplitude", consistency_text(result.consistency)),
         ("Cumulative evidence", cumulative_figure(result)),
         ("Per-event contributions", contributions_figure(result)),
-        ("Events", table(["event", "ln BF₊", "ln BF₋", "method and sample set", "included", "reason dropped"], rows)),
+        ("Events", table(["event", "ln BF₊", "ln BF₋", "method and sample set", "included", "reason dropped"],
+                         rows)),
     ]
     if result.controls:
         sections.append(("Control events (not in any sum above)", controls_text(result.controls)))
@@ -102,16 +103,17 @@ def catalog_size(count: int) -> str:
 def expected_text(versus: dict) -> str:
     """The consistent-sign sum against its expectation under GR memory, with the spread of that expectation."""
     if versus.get("expected_ln_bf_plus") is None:
-        return f"<p>observed Σ ln BF₊ = {versus['observed_ln_bf_plus']:.2f}; no event has a memory SNR, so there is " \
-               "no expectation to compare with.</p>"
+        return (f"<p>observed Σ ln BF₊ = {versus['observed_ln_bf_plus']:.2f}; no event has a memory SNR, so "
+                "there is no expectation to compare with.</p>")
     if "expected_spread" not in versus:  # a catalog.json written before the spread was recorded
-        return (f"<p>expected Σ ρ²/2 = {versus['expected_ln_bf_plus']:.2f} (spread not recorded), observed Σ ln BF₊ = "
-                f"{versus['observed_ln_bf_plus']:.2f} ({html.escape(versus['method'])})</p>")
+        return (f"<p>expected Σ ρ²/2 = {versus['expected_ln_bf_plus']:.2f} (spread not recorded), observed "
+                f"Σ ln BF₊ = {versus['observed_ln_bf_plus']:.2f} ({html.escape(versus['method'])})</p>")
     deviation = versus["standard_deviations"]
     text = (f"<p>Over the {versus['events_with_snr']} events with a memory SNR: expected under GR memory "
             f"Σ ρ²/2 = {versus['expected_ln_bf_plus']:.2f} ± {versus['expected_spread']:.2f} (mean ± standard "
             f"deviation of the sum); without memory {versus['expected_without_memory']:.2f} ± "
-            f"{versus['expected_spread']:.2f}; observed Σ ln BF₊ = {number(versus['observed_ln_bf_plus'], versus['observed_err'])}"
+            f"{versus['expected_spread']:.2f}; observed Σ ln BF₊ = "
+            f"{number(versus['observed_ln_bf_plus'], versus['observed_err'])}"
             f" (Monte-Carlo error), {deviation:+.1f} standard deviations from the GR expectation (two-sided p = "
             f"{versus['p_value']:.2g}).</p><p>{html.escape(versus['method'])}.</p>")
     if versus["p_value"] < 0.01:

@@ -132,8 +132,8 @@ def _cross_check_text(check) -> str:
 
 
 INJECTION_UNITS = {"mass_1": "M☉ (detector frame)", "mass_2": "M☉ (detector frame)", "luminosity_distance": "Mpc",
-                   "theta_jn": "rad", "phase": "rad", "ra": "rad", "dec": "rad", "psi": "rad", "geocent_time": "s (GPS)",
-                   "memory_amplitude": "(1 = general relativity)"}
+                   "theta_jn": "rad", "phase": "rad", "ra": "rad", "dec": "rad", "psi": "rad",
+                   "geocent_time": "s (GPS)", "memory_amplitude": "(1 = general relativity)"}
 
 
 def injection_text(result: EventResult) -> str:
