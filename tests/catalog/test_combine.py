@@ -105,13 +105,15 @@ def test_end_to_end_catalog_from_evidence_runs(tmp_path):
         folders.append(str(outdir))
     assert main(["combine", *folders, "--outdir", str(tmp_path / "catalog")]) == 0
     result = json.loads((tmp_path / "catalog" / "catalog.json").read_text())
-    assert result["n_events"] == 3 and not result["dropped"]
+    assert result["n_events"] == 2 and not result["dropped"]  # event-2, injected without memory, is a control
+    assert [c["label"] for c in result["controls"]] == ["event-2"] and result["controls"][0]["injected_amplitude"] == 0
     for key in ("consistent_sign", "wrong_sign", "sign_agnostic"):
         assert set(result[key]) >= {"ln_bf", "ln_bf_err"}
     assert {"median", "lower_90", "upper_90", "density_ratio_at_zero"} <= set(result["amplitude"])
-    assert result["amplitude"]["events"] == 3
-    assert all(e["method"].startswith("importance reweighting from the A = 0 posterior") for e in result["events"])
-    for folder, entry in zip(folders, result["events"]):  # the catalog shows each event's own headline pair
+    assert result["amplitude"]["events"] == 2
+    shown = result["events"] + result["controls"]
+    assert all(e["method"].startswith("importance reweighting from the A = 0 posterior") for e in shown)
+    for folder, entry in zip(folders, shown):  # the catalog shows each event's own headline pair
         evidence = json.loads(open(f"{folder}/evidence.json").read())
         assert (entry["ln_bf_plus"], entry["ln_bf_minus"]) == (evidence["headline"]["ln_bf"],
                                                                evidence["headline"]["ln_bf_minus"])
