@@ -57,17 +57,23 @@ def draw_amplitude(result: EventResult):
     limits = result.figures.get("free_amplitude_limits") or result.settings.get("free_amplitude_limits", [-5, 5])
     fig, axis = new_figure(figsize=(7, 3.5))
     drawn = False
+    shown = [0.0, 1.0]  # the x range: A = 0, A = 1 and where the posterior has mass
     if result.free_amplitude and result.free_amplitude.get("samples"):
-        axis.hist(result.free_amplitude["samples"], bins=40, density=True, alpha=0.5, color="C2",
-                  label="nested sampling with A free (samples)")
+        samples = np.asarray(result.free_amplitude["samples"], dtype=float)
+        axis.hist(samples, bins=40, density=True, alpha=0.5, color="C2", label="nested sampling with A free (samples)")
+        shown += [float(samples.min()), float(samples.max())]
         drawn = True
     if result.amplitude_curve:
         grid = np.asarray(result.amplitude_curve.amplitudes)
         ln = np.asarray(result.amplitude_curve.ln_mean_ratio)
         inside = (grid >= limits[0]) & (grid <= limits[1])
-        axis.plot(grid[inside], normalized_density(grid[inside], ln[inside]), color="C3",
-                  label="reweighting: ⟨L(A)/L(0)⟩, uniform prior")
+        density = normalized_density(grid[inside], ln[inside])
+        axis.plot(grid[inside], density, color="C3", label="reweighting: ⟨L(A)/L(0)⟩, uniform prior")
+        mass = grid[inside][density > 1e-3 * density.max()]
+        shown += [float(mass.min()), float(mass.max())]
         drawn = True
+    margin = 0.1 * (max(shown) - min(shown))
+    axis.set_xlim(max(min(shown) - margin, limits[0]), min(max(shown) + margin, limits[1]))
     axis.axvline(1.0, color="k", lw=0.8, ls="--", label="general relativity (A = 1)")
     axis.axvline(0.0, color="0.5", lw=0.8, ls=":", label="no memory (A = 0)")
     axis.set_xlabel("memory amplitude A (dimensionless; 1 = general relativity)")
