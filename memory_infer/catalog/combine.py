@@ -20,8 +20,10 @@ import numpy as np
 
 from ..common.errors import MemoryInferError
 from ..results.catalog import CatalogResult
-from ..results.estimates import RULE, cumulative_distribution, normalized_density, preferred, prior_on_grid
+from ..results.estimates import (RULE, cumulative_distribution, event_pair, normalized_density, prior_on_grid,
+                                 sample_set_name)
 from ..results.event import EventResult
+from .consistency import expected_versus_observed, leave_one_out
 
 CONSISTENCY_KEYS = ("amplitude_grid", "early_inspiral_memory", "free_amplitude_limits")
 METHOD_RULE = f"per event, for A = +1 and A = -1 against 0 from one method: {RULE}"
@@ -40,6 +42,8 @@ class EventEntry:
     reason: str = ""
     memory_snr: float | None = None
     source: str = ""
+    control: str = ""  # why the event is a control, kept out of the sums and shown apart ("" otherwise)
+    injected_amplitude: float | None = None
     curve: dict | None = field(default=None, repr=False)
 
     def public(self) -> dict:
@@ -79,18 +83,22 @@ def _as_result(record) -> EventResult:
 
 
 def _select(record: EventResult, source: str) -> EventEntry:
-    """ln BF+ and ln BF- of one event by the one rule (:func:`memory_infer.results.estimates.preferred`)."""
+    """ln BF+ and ln BF- of one event by the one rule (:func:`memory_infer.results.estimates.event_pair`), the
+    same pair the event's headline and sign table show, named with its sample set."""
     label = str(record.event)
     methods = record.methods or []
     snr = (record.memory_snr or {}).get("value")
-    chosen = preferred(methods, ("memory", "flipped"))
+    chosen = event_pair(methods)
+    if chosen is not None and "flipped" not in chosen:
+        return EventEntry(label, chosen["memory"].ln_bf, None, None, method=sample_set_name(chosen["memory"]),
+                          included=False, reason="no sample set holds ln BF- (A = -1 vs 0) beside ln BF+",
+                          memory_snr=snr, source=source)
     if chosen is not None:
         plus, minus = chosen["memory"], chosen["flipped"]
-        family = {"nested": "nested sampling", "reweighting": "importance reweighting",
-                  "two-point": "two-point approximation"}[plus.family]
         curve = None if plus.family == "two-point" else record.amplitude_curve
-        return EventEntry(label, plus.ln_bf, minus.ln_bf, plus.ln_bf_err, plus.ln_bf_err, minus.ln_bf_err, family,
-                          memory_snr=snr, source=source, curve=None if curve is None else curve.to_dict())
+        return EventEntry(label, plus.ln_bf, minus.ln_bf, plus.ln_bf_err, plus.ln_bf_err, minus.ln_bf_err,
+                          sample_set_name(plus), memory_snr=snr, source=source,
+                          curve=None if curve is None else curve.to_dict())
     unreliable = next((m for m in methods if m.family == "reweighting" and m.numerator == "memory"), None)
     if unreliable is not None:
         return EventEntry(label, None, None, None, method="importance reweighting", included=False,
@@ -101,9 +109,14 @@ def _select(record: EventResult, source: str) -> EventEntry:
 
 
 def select_events(records: list, sources=None) -> tuple:
-    """(entries, dropped): one entry per result, with duplicates and mismatched settings dropped."""
+    """(entries, dropped): one entry per result, with duplicates and mismatched settings dropped, and control
+    events (injected without memory, or marked ``control = true``) kept out of the sums and not counted as
+    dropped."""
     sources = sources or [""] * len(records)
     entries = [_select(record, source) for record, source in zip(records, sources)]
+    for entry, record in zip(entries, records):
+        entry.control = record.control or ""
+        entry.injected_amplitude = None if record.injection is None else record.injection.get("memory_amplitude")
     settings = [json.dumps({k: (r.settings or {}).get(k) for k in CONSISTENCY_KEYS}, sort_keys=True)
                 for r in records]
     reference = Counter(settings).most_common(1)[0][0] if settings else None
@@ -122,7 +135,11 @@ def select_events(records: list, sources=None) -> tuple:
             entry.reason = f"settings differ from the rest of the catalog: {', '.join(differing)}"
             continue
         seen[entry.label] = entry.source
-    dropped = [{"label": e.label, "reason": e.reason, "source": e.source} for e in entries if not e.included]
+        if entry.control:
+            entry.included = False
+            entry.reason = f"control event, shown apart: {entry.control}"
+    dropped = [{"label": e.label, "reason": e.reason, "source": e.source} for e in entries
+               if not e.included and not e.control]
     return entries, dropped
 
 
@@ -233,16 +250,6 @@ def _summarize(grid, ln_total, limits) -> dict:
             "_ln_density": np.log(np.maximum(density, 1e-300)).tolist()}
 
 
-def expected_versus_observed(entries) -> dict:
-    used = [e for e in entries if e.included]
-    snrs = [e.memory_snr for e in used if e.memory_snr is not None]
-    return {"expected_ln_bf_plus": float(np.sum(np.square(snrs)) / 2) if snrs else None,
-            "observed_ln_bf_plus": float(np.sum([e.ln_bf_plus for e in used])),
-            "events_with_snr": len(snrs),
-            "method": "expected: sum of rho_mem^2 / 2 at each event's reference point (Finn, PRD 46, 5236 (1992)); "
-                      "observed: the consistent-sign sum"}
-
-
 def ranked(entries) -> list:
     """Included events by their contribution to the consistent-sign sum, largest first."""
     return sorted([e for e in entries if e.included], key=lambda e: -e.ln_bf_plus)
@@ -253,15 +260,19 @@ def combine(records: list, limits=None, sources=None) -> CatalogResult:
     records = [_as_result(r) for r in records]
     entries, dropped = select_events(records, sources)
     if not any(e.included for e in entries):
-        raise MemoryInferError("no event is usable: " + "; ".join(f"{d['label']}: {d['reason']}" for d in dropped))
+        raise MemoryInferError("no event is usable: " + "; ".join(f"{e.label}: {e.reason}" for e in entries))
     if limits is None:
         first = next(r for r, e in zip(records, entries) if e.included)
         limits = (first.settings or {}).get("free_amplitude_limits")
     order = ranked(entries)
     cumulative = np.cumsum([e.ln_bf_plus for e in order])
     cumulative_err = np.sqrt(np.cumsum([0.0 if e.ln_bf_plus_err is None else e.ln_bf_plus_err ** 2 for e in order]))
-    return CatalogResult(**combinations(entries), amplitude=amplitude_posterior(entries, limits),
-                         events=[e.public() for e in entries], ranking=[e.label for e in order],
+    amplitude = amplitude_posterior(entries, limits)
+    tension = (leave_one_out(amplitude["grid"], amplitude["event_curves"]) if amplitude.get("grid")
+               else leave_one_out([], {}))
+    return CatalogResult(**combinations(entries), amplitude=amplitude,
+                         events=[e.public() for e in entries if not e.control], ranking=[e.label for e in order],
                          cumulative_ln_bf_plus=cumulative.tolist(), cumulative_ln_bf_plus_err=cumulative_err.tolist(),
-                         dropped=dropped, expected_vs_observed=expected_versus_observed(entries),
+                         dropped=dropped, expected_vs_observed=expected_versus_observed(order),
+                         controls=[e.public() for e in entries if e.control], consistency=tension,
                          method_rule=METHOD_RULE, n_events=int(sum(e.included for e in entries)))

@@ -5,7 +5,7 @@ import os
 
 from ..catalog.combine import combine, find_records, load_record
 from ..common.writing import atomic_path, provenance, write_text
-from ..reports.catalog import catalog_page
+from ..reports.catalog import catalog_page, catalog_size
 from ..reports.html import number
 from ..results.catalog import CatalogResult
 
@@ -26,13 +26,18 @@ def run(args) -> int:
     os.makedirs(args.outdir, exist_ok=True)
     result.save(os.path.join(args.outdir, CatalogResult.FILE))
     with atomic_path(os.path.join(args.outdir, "events.csv")) as temporary:
-        pd.DataFrame(result.events).to_csv(temporary, index=False)
+        pd.DataFrame(result.events + result.controls).to_csv(temporary, index=False)
     write_text(os.path.join(args.outdir, "report.html"), page)
     c = result.consistent_sign
-    print(f"catalog of {result.n_events} events: consistent-sign ln BF = {number(c['ln_bf'], c['ln_bf_err'])}; "
+    print(f"{catalog_size(result.n_events)}: consistent-sign ln BF = {number(c['ln_bf'], c['ln_bf_err'])}; "
           f"wrong sign {result.wrong_sign['ln_bf']:.2f}; sign-agnostic {result.sign_agnostic['ln_bf']:.2f}; "
           f"shared unknown sign {result.shared_unknown_sign['ln_bf']:.2f}")
     for item in result.dropped:
         print(f"dropped {item['label']}: {item['reason']}")
+    for item in result.controls:
+        print(f"control {item['label']} ({item['control']}): kept out of the sums")
+    for label in (result.consistency or {}).get("in_tension", []):
+        print(f"warning: {label} is in tension with the rest of the catalog (leave-one-out p = "
+              f"{result.consistency['events'][label]['p_value']:.2g})")
     print(f"wrote {args.outdir}/catalog.json, events.csv and report.html")
     return 0

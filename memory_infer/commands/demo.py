@@ -107,10 +107,53 @@ def _write(path, text):
     return path
 
 
+def event_configuration(index: int, event, live_points: int) -> str:
+    """The configuration text of one demo event (``event`` is a row of ``EVENTS``)."""
+    label, detectors, curves, distance, masses, inclination, amplitude, hypotheses = event
+    return EVENT_TEMPLATE.format(
+        label=label, network="+".join(detectors), detectors=repr(detectors).replace("'", '"'),
+        curves=", ".join(f'{k} = "{v}"' for k, v in curves.items()), seed=100 + index, mass_1=masses[0],
+        mass_2=masses[1], distance=distance, inclination=inclination, amplitude=amplitude,
+        live_points=live_points, hypotheses=repr(hypotheses).replace("'", '"'))
+
+
+def run_events(outdir: str, live_points: int, events=None, started: float | None = None) -> list:
+    """Write and run every demo event's configuration; returns the events' output folders."""
+    import argparse
+
+    from . import evidence
+
+    events = EVENTS if events is None else events
+    started = time.time() if started is None else started
+    configs = os.path.join(outdir, "configs")
+    os.makedirs(configs, exist_ok=True)
+    event_dirs = []
+    for index, event in enumerate(EVENTS):
+        if event not in events:
+            continue
+        label, detectors, amplitude = event[0], event[1], event[6]
+        path = _write(os.path.join(configs, f"{label}.toml"), event_configuration(index, event, live_points))
+        event_dir = os.path.join(outdir, "events", label)
+        print(f"demo [{time.time() - started:5.0f} s]: event {label} ({'+'.join(detectors)}, A = {amplitude:g})",
+              flush=True)
+        evidence.run(argparse.Namespace(config=path, outdir=event_dir, quiet=True))
+        event_dirs.append(event_dir)
+    return event_dirs
+
+
+def combine_events(outdir: str, event_dirs) -> None:
+    """The catalog of the demo's events, in ``outdir``/catalog."""
+    import argparse
+
+    from . import combine
+
+    combine.run(argparse.Namespace(results=list(event_dirs), outdir=os.path.join(outdir, "catalog")))
+
+
 def run(args) -> int:
     import argparse
 
-    from . import campaign, combine, evidence
+    from . import campaign
 
     if getattr(args, "catalog", False):
         from .catalog_demo import run_demo_catalog
@@ -119,22 +162,9 @@ def run(args) -> int:
     started = time.time()
     outdir = os.path.abspath(args.outdir)
     configs = os.path.join(outdir, "configs")
-    os.makedirs(configs, exist_ok=True)
-    event_dirs = []
-    for index, (label, detectors, curves, distance, masses, inclination, amplitude, hypotheses) in enumerate(EVENTS):
-        text = EVENT_TEMPLATE.format(
-            label=label, network="+".join(detectors), detectors=repr(detectors).replace("'", '"'),
-            curves=", ".join(f'{k} = "{v}"' for k, v in curves.items()), seed=100 + index, mass_1=masses[0],
-            mass_2=masses[1], distance=distance, inclination=inclination, amplitude=amplitude,
-            live_points=args.live_points, hypotheses=repr(hypotheses).replace("'", '"'))
-        path = _write(os.path.join(configs, f"{label}.toml"), text)
-        event_dir = os.path.join(outdir, "events", label)
-        print(f"demo [{time.time() - started:5.0f} s]: event {label} ({'+'.join(detectors)}, A = {amplitude:g})",
-              flush=True)
-        evidence.run(argparse.Namespace(config=path, outdir=event_dir, quiet=True))
-        event_dirs.append(event_dir)
+    event_dirs = run_events(outdir, args.live_points, started=started)
     print(f"demo [{time.time() - started:5.0f} s]: catalog combination", flush=True)
-    combine.run(argparse.Namespace(results=event_dirs, outdir=os.path.join(outdir, "catalog")))
+    combine_events(outdir, event_dirs)
     print(f"demo [{time.time() - started:5.0f} s]: campaign of {args.injections} injections", flush=True)
     from importlib import resources
 
@@ -144,14 +174,15 @@ def run(args) -> int:
                            CAMPAIGN_TEMPLATE.format(population=os.path.basename(population), count=args.injections))
     campaign.run(argparse.Namespace(config=campaign_path, outdir=os.path.join(outdir, "campaign"),
                                     workers=args.workers, scheduler=None, quiet=True))
-    index = _index_page(outdir, [label for label, *_ in EVENTS])
+    index = index_page(outdir, [label for label, *_ in EVENTS])
     print(f"demo finished in {time.time() - started:.0f} s; open {index}")
     return 0
 
 
-def _index_page(outdir, labels) -> str:
+def index_page(outdir, labels) -> str:
+    """The demo's index: each event's one ln BF+ and ln BF- (as in the catalog) and links to every report."""
     from ..common.writing import write_text
-    from ..reports.html import number, page, table
+    from ..reports.html import link, number, page, table
     from ..results.cautions import INVENTED
     from ..results.event import EventResult
 
@@ -159,13 +190,18 @@ def _index_page(outdir, labels) -> str:
     for label in labels:
         result = EventResult.load(os.path.join(outdir, "events", label, EventResult.FILE))
         headline = result.headline or {}
-        rows.append((label, number(headline.get("ln_bf", float("nan")), headline.get("ln_bf_err"), 3),
-                     f"{result.sign.ln_bf_sign if result.sign else float('nan'):.2f}",
-                     f"{result.memory_snr['value']:.2f}", f"events/{label}/report.html"))
+        sign = result.sign
+        rows.append((label, number(headline.get("ln_bf"), headline.get("ln_bf_err"), 3),
+                     number(headline.get("ln_bf_minus"), headline.get("ln_bf_minus_err"), 3),
+                     "—" if sign is None else number(sign.ln_bf_sign, sign.ln_bf_sign_err, 3),
+                     headline.get("method", "no usable estimate"),
+                     "—" if not result.memory_snr else f"{result.memory_snr['value']:.2f}",
+                     link(f"events/{label}/report.html", "report")))
     links = "".join(f"<li><a href='{html.escape(target)}'>{html.escape(name)}</a></li>" for name, target in
                     [("catalog report", "catalog/report.html"), ("campaign report", "campaign/report.html")]
                     + [(f"event {label}", f"events/{label}/report.html") for label in labels])
-    body = table(["event", "ln BF (memory vs none)", "sign ln BF", "memory SNR", "report"], rows)
+    body = table(["event", "ln BF₊ (A = +1 vs 0)", "ln BF₋ (A = −1 vs 0)", "sign ln BF (+ vs −)",
+                  "method and sample set (one per event, as in the catalog)", "memory SNR", "report"], rows)
     text = page("memory_infer demo: an invented catalog", [("Reports", f"<ul>{links}</ul>"), ("Events", body)],
                 INVENTED)
     path = os.path.join(outdir, "index.html")

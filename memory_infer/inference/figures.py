@@ -39,12 +39,14 @@ def whitened_series(detectors, generator, point) -> dict:
 
 
 def memory_spectrum(detectors, generator, point, minimum_frequency: float) -> dict:
-    """Each detector's memory response 2 sqrt(f) |h(f)| and noise ASD on log-spaced frequencies."""
+    """Each detector's memory response 2 sqrt(f) |h(f)| and noise ASD (both strain per root hertz, comparable on
+    one axis; e.g. Moore, Cole and Berry, CQG 32, 015014 (2015)) on log-spaced frequencies of the analysis band
+    (outside it the response is masked to zero and there is nothing to draw)."""
     _, memory, _ = _polarizations(generator, point)
     out = {"minimum_frequency": float(minimum_frequency), "detectors": {}}
     for detector in detectors:
         f = detector.frequency_array
-        positive = np.flatnonzero(f > 0)
+        positive = np.flatnonzero((f > 0) & (f >= minimum_frequency) & detector.frequency_mask)
         pick = positive[np.unique(np.geomspace(1, positive.size, SPECTRUM_POINTS).astype(int) - 1)]
         response = detector.get_detector_response(memory, point)[pick]
         psd = detector.power_spectral_density_array[pick]

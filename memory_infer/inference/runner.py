@@ -38,7 +38,6 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventRes
     state = run_methods(setup, outdir, config["evidence"]["methods"], label, progress)
     result = state.result
     result.warnings[:0] = result_warnings
-    result.sign = state.signs[min(state.signs)] if state.signs else None
     point, where = state.reference_point()
     if point is not None:
         if state.memory_snr is None:
@@ -55,11 +54,13 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventRes
         result.figures["spectrum"] = memory_spectrum(setup.detectors, setup.generator, point,
                                                      config["data"]["minimum_frequency"])
     result.figures["free_amplitude_limits"] = list(config["evidence"]["free_amplitude_limits"])
-    result.choose_headline()
+    result.choose_headline([state.signs[rank] for rank in sorted(state.signs)])
     result.early_inspiral_memory = {"included": bool(config["model"]["early_inspiral_memory"]),
                                     "method": "leading-order memory accumulated before the model's first sample",
                                     "effect": EARLY_INSPIRAL_EFFECT}
     result.settings = setup.settings_fingerprint()
+    result.injection = None if setup.injection is None else {k: float(v) for k, v in setup.injection.items()}
+    result.control = EventResult.control_reason(bool(config["event"].get("control", False)), result.injection)
     failures = setup.generator.failures - failures_before
     result.waveform_failures = {"count": failures, "treatment": FAILURE_TREATMENT}
     if failures:

@@ -17,7 +17,7 @@ ANY = object
 # section -> key -> (type or tuple of types, default); ``REQUIRED`` marks keys without default
 REQUIRED = object()
 EVIDENCE_SCHEMA = {
-    "event": {"label": (str, REQUIRED)},
+    "event": {"label": (str, REQUIRED), "control": (bool, False)},
     "data": {
         "kind": (str, "simulated"), "detectors": (list, ["H1", "L1"]), "noise_curve": (str, "ligo-design"),
         "noise_curves": (dict, {}), "noise": (str, "gaussian"), "seed": (int, 1), "duration": (NUMBER, 4.0),

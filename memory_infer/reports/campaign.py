@@ -14,8 +14,7 @@ def _distribution_figure(values, key):
     fig, axis = new_figure(figsize=(7, 3.4))
     axis.hist(values, bins=60, color="C3", alpha=0.7)
     axis.set_xlabel(f"ln BF₊ per detected injection ({key})")
-    axis.set_ylabel("injections")
-    axis.set_yscale("log")
+    axis.set_ylabel("injections (count)")
     return figure_to_html(fig, "ln BF distribution")
 
 
@@ -31,9 +30,12 @@ def _cumulative_figure(summary):
         events = np.asarray(bands["events"], dtype=float)
         axis.plot(events, known * events, color="0.4", ls=":", label="known-sign bound (mean ρ²/2 per event)")
     axis.axhline(threshold["threshold"], color="k", ls="--", lw=0.8, label=f"ln BF = {threshold['threshold']:g}")
-    for name, style in (("median", "-"), ("lower_90", ":"), ("upper_90", ":")):
+    crossing = {"median": "catalog size where the median crosses", "lower_90": "where the 95% curve crosses",
+                "upper_90": "where the 5% curve crosses"}
+    for name, style in (("median", "-"), ("lower_90", "-."), ("upper_90", ":")):
         if threshold.get(name):
-            axis.axvline(threshold[name], color="C0", ls=style, lw=0.8)
+            axis.axvline(threshold[name], color="C0", ls=style, lw=0.8,
+                         label=f"{crossing[name]} ({threshold[name]:.0f} events)")
     axis.set_xscale("log")
     axis.set_xlabel("number of detected events in the catalog")
     axis.set_ylabel("catalog ln BF₊")
@@ -79,6 +81,26 @@ def _range_text(found: dict) -> str:
     return f"{count_text(found.get('median'))} ({count_text(found.get('lower_90'))} to {count_text(found.get('upper_90'))})"
 
 
+FORECAST_ESTIMATOR = (
+    "What the forecast is: for each detected injection, the expectation over Gaussian noise of the fast two-point "
+    "approximation of ln BF₊ (A = +1 against 0) at the injection's true parameters, held fixed; the catalog "
+    "numbers resample these injections. It can be negative for a single injection: the expectation of the exact "
+    "Bayes factor's logarithm is a Kullback-Leibler divergence, never negative, only when the source parameters "
+    "are drawn from the prior the Bayes factor uses; at fixed true parameters, and for an approximation that "
+    "weighs only two points, the average can dip below zero (typically for faint memory whose sign the "
+    "(2, ±2) degeneracy hides). The known-sign bound ρ²/2 is never negative.")
+
+
+def forecast_note(summary) -> str:
+    """The forecast estimator in words, with how often it is negative here when the summary shows it."""
+    expected = (summary.get("forecast") or {}).get("expected") or {}
+    text = f"<p>{html.escape(FORECAST_ESTIMATOR)}</p>"
+    if expected.get("lower_90") is not None and expected["lower_90"] < 0:
+        text += ("<p>In this campaign at least 5% of the detected injections have a negative expected ln BF₊ "
+                 f"(5% quantile {expected['lower_90']:.3g}).</p>")
+    return text
+
+
 def _forecast_rows(summary):
     forecast = summary.get("forecast") or {}
     threshold = summary["events_to_threshold"]
@@ -113,7 +135,8 @@ def campaign_page(result: CampaignSummary) -> str:
     notes = "".join(f"<p class='caution'>{html.escape(w)}</p>" for w in summary.get("warnings") or [])
     method = summary["events_to_threshold"].get("method", "")
     sections = [("Summary", notes + table(["quantity", "value"], rows)
-                 + f"<p>Events to the threshold: {html.escape(method)}.</p>")]
+                 + f"<p>Events to the threshold: {html.escape(method)}.</p>"
+                 + (forecast_note(summary) if summary.get("forecast") else ""))]
     if summary["cumulative"]["events"]:
         sections.append(("Catalog ln BF against catalog size", _cumulative_figure(summary)))
     if summary["ln_bf_values"]:

@@ -50,12 +50,12 @@ def amplitude_figure(result) -> str:
         for label, curve in amplitude["event_curves"].items():
             axis.plot(grid, normalized_density(grid, curve), lw=0.8, alpha=0.6, label=label)
         axis.plot(grid, np.exp(amplitude["ln_density"]), color="k", lw=2, label="catalog")
-        axis.axvline(1.0, color="k", ls="--", lw=0.8)
+        axis.axvline(1.0, color="k", ls="--", lw=0.8, label="general relativity (A = 1)")
         axis.legend(fontsize=6, ncol=2)
     else:
         axis.text(0.5, 0.5, amplitude.get("note", "no amplitude curves"), transform=axis.transAxes, ha="center")
-    axis.set_xlabel("shared memory amplitude A (1 = general relativity)")
-    axis.set_ylabel("posterior density")
+    axis.set_xlabel("shared memory amplitude A (dimensionless; 1 = general relativity)")
+    axis.set_ylabel("posterior density [per unit A]")
     return figure_to_html(fig, "catalog amplitude posterior")
 
 
@@ -80,21 +80,77 @@ def catalog_page(result: CatalogResult) -> str:
                      for f in (amplitude.get("effective_samples") or {}).get("flagged", [])))
     rows = [(e["label"], number(e["ln_bf_plus"], e["ln_bf_plus_err"]), number(e["ln_bf_minus"], e["ln_bf_minus_err"]),
              e["method"], "yes" if e["included"] else "no", e["reason"]) for e in result.events]
-    versus = result.expected_vs_observed
-    expected = "—" if versus["expected_ln_bf_plus"] is None else f"{versus['expected_ln_bf_plus']:.2f}"
     sections = [
         ("Catalog Bayes factors", table(["combination", "formula", "ln BF ± error"], sums)
          + f"<p>Method per event: {result.method_rule}.</p>"),
-        ("Expected against observed", f"<p>expected Σ ρ²/2 = {expected}, observed Σ ln BF₊ = "
-         f"{versus['observed_ln_bf_plus']:.2f} ({versus['method']})</p>"),
+        ("Expected against observed", expected_text(result.expected_vs_observed)),
         ("Shared memory amplitude", amp + amplitude_figure(result)),
+        ("Consistency of the events with the shared amplitude", consistency_text(result.consistency)),
         ("Cumulative evidence", cumulative_figure(result)),
         ("Per-event contributions", contributions_figure(result)),
-        ("Events", table(["event", "ln BF₊", "ln BF₋", "method", "included", "reason dropped"], rows)),
+        ("Events", table(["event", "ln BF₊", "ln BF₋", "method and sample set", "included", "reason dropped"],
+                         rows)),
     ]
+    if result.controls:
+        sections.append(("Control events (not in any sum above)", controls_text(result.controls)))
     if result.event_runs:
         sections.append(("Each event's run", runs_html(result.event_runs)))
-    return page(f"Memory evidence for a catalog of {result.n_events} events", sections, result.caution)
+    return page(f"Memory evidence for a {catalog_size(result.n_events)}", sections, result.caution)
+
+
+def catalog_size(count: int) -> str:
+    return f"catalog of {count} event" + ("" if count == 1 else "s")
+
+
+def expected_text(versus: dict) -> str:
+    """The consistent-sign sum against its expectation under GR memory, with the spread of that expectation."""
+    if versus.get("expected_ln_bf_plus") is None:
+        return (f"<p>observed Σ ln BF₊ = {versus['observed_ln_bf_plus']:.2f}; no event has a memory SNR, so "
+                "there is no expectation to compare with.</p>")
+    if "expected_spread" not in versus:  # a catalog.json written before the spread was recorded
+        return (f"<p>expected Σ ρ²/2 = {versus['expected_ln_bf_plus']:.2f} (spread not recorded), observed "
+                f"Σ ln BF₊ = {versus['observed_ln_bf_plus']:.2f} ({html.escape(versus['method'])})</p>")
+    deviation = versus["standard_deviations"]
+    text = (f"<p>Over the {versus['events_with_snr']} events with a memory SNR: expected under GR memory "
+            f"Σ ρ²/2 = {versus['expected_ln_bf_plus']:.2f} ± {versus['expected_spread']:.2f} (mean ± standard "
+            f"deviation of the sum); without memory {versus['expected_without_memory']:.2f} ± "
+            f"{versus['expected_spread']:.2f}; observed Σ ln BF₊ = "
+            f"{number(versus['observed_ln_bf_plus'], versus['observed_err'])}"
+            f" (Monte-Carlo error), {deviation:+.1f} standard deviations from the GR expectation (two-sided p = "
+            f"{versus['p_value']:.2g}).</p><p>{html.escape(versus['method'])}.</p>")
+    if versus["p_value"] < 0.01:
+        text += ("<p class='warn'>The observed sum is far from what GR memory predicts for these events: check "
+                 "the events below for tension, the noise model, and the reference points of the memory SNRs.</p>")
+    return text
+
+
+def consistency_text(consistency: dict) -> str:
+    """Each event's leave-one-out p-value against the rest of the catalog, with a warning for events in tension."""
+    if not consistency or not consistency.get("events"):
+        return f"<p>{html.escape((consistency or {}).get('note') or 'not computed')}.</p>"
+    rows = [(label, f"{v['median']:.2f}", f"{v['rest_median']:.2f}", f"{v['probability_above_rest']:.3f}",
+             f"{v['p_value']:.2g}", "yes" if label in consistency["in_tension"] else "no")
+            for label, v in consistency["events"].items()]
+    text = table(["event", "median A (event alone)", "median A (all other events)", "Pr(A_event > A_rest)",
+                  "p-value", "in tension"], rows) + f"<p>{html.escape(consistency['method'])}.</p>"
+    if consistency["in_tension"]:
+        text += (f"<p class='warn'>In tension with the rest of the catalog (p below {consistency['level']:.2g}): "
+                 f"{html.escape(', '.join(consistency['in_tension']))}. A shared amplitude may not describe these "
+                 "events together; the shared-A posterior above sits between disagreeing events and should not be "
+                 "read as a measurement until the tension is understood (noise artefact, waveform systematics, "
+                 "a mislabelled control).</p>")
+    else:
+        text += "<p>No event is in tension with the rest at that level.</p>"
+    return text
+
+
+def controls_text(controls) -> str:
+    rows = [(e["label"], e["control"], "—" if e.get("injected_amplitude") is None else f"{e['injected_amplitude']:g}",
+             number(e["ln_bf_plus"], e["ln_bf_plus_err"]), number(e["ln_bf_minus"], e["ln_bf_minus_err"]),
+             e["method"]) for e in controls]
+    return (table(["event", "why a control", "injected A", "ln BF₊", "ln BF₋", "method and sample set"], rows)
+            + "<p>Control events test the analysis (for example, no memory injected: ln BF₊ should scatter around "
+              "−ρ²/2); they are kept out of every sum, the shared-amplitude posterior and the checks above.</p>")
 
 
 def runs_html(runs) -> str:

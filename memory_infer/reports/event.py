@@ -7,7 +7,7 @@ import numpy as np
 
 from ..results.estimates import normalized_density
 from ..results.event import EventResult
-from .html import figure_to_html, new_figure, number, page, table
+from .html import figure_to_html, new_figure, number, number_or_undefined, page, table
 
 
 def whitened_figure(whitened: dict) -> str:
@@ -15,53 +15,84 @@ def whitened_figure(whitened: dict) -> str:
     fig, axes = new_figure(len(whitened), 1, figsize=(8, 2.4 * len(whitened)), squeeze=False)
     for axis, (name, series) in zip(axes[:, 0], whitened.items()):
         axis.plot(series["time"], series["data"], color="0.7", lw=0.7, label="whitened data")
-        axis.plot(series["time"], series["model_without_memory"], color="C0", lw=1.0, label="model, no memory")
+        axis.plot(series["time"], series["model_without_memory"], color="C0", lw=1.0, label="model, no memory (A = 0)")
         axis.plot(series["time"], series["model_with_memory"], color="C3", lw=1.0, ls="--",
-                  label="model with memory (A = 1)")
-        axis.set_ylabel(name)
+                  label="model, GR memory (A = 1)")
+        axis.set_ylabel(f"{name} whitened strain\n[noise standard deviations]", fontsize=8)
         axis.legend(fontsize=7, loc="upper left")
     axes[-1, 0].set_xlabel("time from merger at geocentre [s]")
     return figure_to_html(fig, "whitened data and models")
 
 
-def memory_spectrum_figure(spectrum: dict) -> str:
+def draw_spectrum(spectrum: dict):
+    """The memory's 2 sqrt(f)|h(f)| against each detector's noise ASD, both in strain per root hertz, in band."""
     fig, axis = new_figure(figsize=(8, 4))
+    low = float(spectrum["minimum_frequency"])
+    high = low
     for index, (name, series) in enumerate(spectrum["detectors"].items()):
-        f = np.asarray(series["frequency"])
-        axis.loglog(f, series["memory"], color=f"C{index}", label=f"{name} memory 2√f|h̃|")
+        f = np.asarray(series["frequency"], dtype=float)
+        memory = np.asarray(series["memory"], dtype=float)
         asd = np.array([np.nan if a is None else a for a in series["asd"]], dtype=float)
-        good = np.isfinite(asd)
-        axis.loglog(f[good], asd[good], color=f"C{index}", lw=0.8, ls=":", label=f"{name} ASD")
-    axis.axvline(spectrum["minimum_frequency"], color="0.5", ls="--", lw=0.8)
+        band = f >= low  # outside the analysis band the response is masked to zero: nothing to draw
+        shown = band & (memory > 0)
+        axis.loglog(f[shown], memory[shown], color=f"C{index}",
+                    label=f"{name}: memory signal, 2√f |h̃(f)| (GR memory, A = 1)")
+        good = band & np.isfinite(asd) & (asd > 0)
+        axis.loglog(f[good], asd[good], color=f"C{index}", lw=0.8, ls=":", label=f"{name}: noise ASD √S(f)")
+        if np.any(good):
+            high = max(high, float(f[good].max()))
+    axis.set_xlim(low, high if high > low else None)
     axis.set_xlabel("frequency [Hz]")
-    axis.set_ylabel("[1/√Hz]")
+    axis.set_ylabel("strain amplitude spectral density [1/√Hz]")
     axis.legend(fontsize=7)
-    return figure_to_html(fig, "memory spectrum and noise")
+    return fig
 
 
-def amplitude_figure(result: EventResult) -> str:
+def memory_spectrum_figure(spectrum: dict) -> str:
+    return figure_to_html(draw_spectrum(spectrum), "memory spectrum and noise")
+
+
+def draw_amplitude(result: EventResult):
+    """The posterior of the memory amplitude A: the free-A nested run and the reweighted curve."""
     limits = result.figures.get("free_amplitude_limits") or result.settings.get("free_amplitude_limits", [-5, 5])
     fig, axis = new_figure(figsize=(7, 3.5))
     drawn = False
+    shown = [0.0, 1.0]  # the x range: A = 0, A = 1 and where the posterior has mass
     if result.free_amplitude and result.free_amplitude.get("samples"):
-        axis.hist(result.free_amplitude["samples"], bins=40, density=True, alpha=0.5, color="C2",
-                  label="nested sampling, A free")
+        samples = np.asarray(result.free_amplitude["samples"], dtype=float)
+        axis.hist(samples, bins=40, density=True, alpha=0.5, color="C2", label="nested sampling with A free (samples)")
+        shown += [float(samples.min()), float(samples.max())]
         drawn = True
     if result.amplitude_curve:
         grid = np.asarray(result.amplitude_curve.amplitudes)
         ln = np.asarray(result.amplitude_curve.ln_mean_ratio)
         inside = (grid >= limits[0]) & (grid <= limits[1])
-        axis.plot(grid[inside], normalized_density(grid[inside], ln[inside]), color="C3",
-                  label="reweighting: ⟨L(A)/L(0)⟩, uniform prior")
+        density = normalized_density(grid[inside], ln[inside])
+        axis.plot(grid[inside], density, color="C3", label="reweighting: ⟨L(A)/L(0)⟩, uniform prior")
+        mass = grid[inside][density > 1e-3 * density.max()]
+        shown += [float(mass.min()), float(mass.max())]
         drawn = True
+    margin = 0.1 * (max(shown) - min(shown))
+    axis.set_xlim(max(min(shown) - margin, limits[0]), min(max(shown) + margin, limits[1]))
     axis.axvline(1.0, color="k", lw=0.8, ls="--", label="general relativity (A = 1)")
-    axis.axvline(0.0, color="0.5", lw=0.8, ls=":")
-    axis.set_xlabel("memory amplitude A")
-    axis.set_ylabel("posterior density")
+    axis.axvline(0.0, color="0.5", lw=0.8, ls=":", label="no memory (A = 0)")
+    axis.set_xlabel("memory amplitude A (dimensionless; 1 = general relativity)")
+    axis.set_ylabel("posterior density [per unit A]")
     axis.legend(fontsize=7)
     if not drawn:
         axis.text(0.5, 0.5, "no free-amplitude run or reweighting", transform=axis.transAxes, ha="center")
-    return figure_to_html(fig, "posterior of the memory amplitude")
+    return fig
+
+
+def amplitude_figure(result: EventResult) -> str:
+    return figure_to_html(draw_amplitude(result), "posterior of the memory amplitude")
+
+
+def weights_label(name: str) -> str:
+    """A sample set's legend: which run drew the samples and which weight they get."""
+    return {"none": "samples of the no-memory run (A = 0): weight L(A = 1) / L(A = 0)",
+            "memory": "samples of the GR-memory run (A = 1): weight L(A = 0) / L(A = 1)"}.get(
+        name, f"samples {name}: weight L(A = 1) / L(samples' A)")
 
 
 def weights_figure(weights: dict) -> str:
@@ -72,9 +103,9 @@ def weights_figure(weights: dict) -> str:
         lw = np.asarray(log_weights, dtype=float)
         lw = lw[np.isfinite(lw)]
         if lw.size:
-            axis.hist((lw - lw.max()) / np.log(10), bins=40, histtype="step", label=name)
-    axis.set_xlabel("log10 of the importance weight relative to the largest")
-    axis.set_ylabel("samples")
+            axis.hist((lw - lw.max()) / np.log(10), bins=40, histtype="step", label=weights_label(name))
+    axis.set_xlabel("log10 of the importance weight relative to the largest (dimensionless)")
+    axis.set_ylabel("samples (count)")
     if weights:
         axis.legend(fontsize=7)
     return figure_to_html(fig, "importance weights")
@@ -106,24 +137,49 @@ def _cross_check_text(check) -> str:
             + ("" if size is None else f" ({size:+.1f} combined standard errors)") + ".</p>")
 
 
+INJECTION_UNITS = {"mass_1": "M☉ (detector frame)", "mass_2": "M☉ (detector frame)", "luminosity_distance": "Mpc",
+                   "theta_jn": "rad", "phase": "rad", "ra": "rad", "dec": "rad", "psi": "rad",
+                   "geocent_time": "s (GPS)", "memory_amplitude": "(1 = general relativity)"}
+
+
+def injection_text(result: EventResult) -> str:
+    """The injected parameters, the memory amplitude A first, and whether the event is a control."""
+    injection = dict(result.injection)
+    order = ["memory_amplitude"] + sorted(k for k in injection if k != "memory_amplitude")
+    rows = [("memory amplitude A" if key == "memory_amplitude" else key, f"{injection[key]:.6g}",
+             INJECTION_UNITS.get(key, "")) for key in order if key in injection]
+    text = table(["parameter", "injected value", "unit"], rows)
+    if result.control:
+        text += (f"<p>A control event ({html.escape(result.control)}): a catalog keeps it out of its sums and "
+                 "shows it apart.</p>")
+    return text
+
+
 def event_page(result: EventResult) -> str:
     """The per-event report: numbers with errors and methods, then the figures."""
-    rows = [(m.method, f"{m.numerator} vs {m.denominator}", number(m.ln_bf, m.ln_bf_err),
+    rows = [(m.method, f"{m.numerator} vs {m.denominator}",
+             number_or_undefined(m.ln_bf, m.ln_bf_err, m.family in ("reweighting", "nested")),
              "" if m.effective_sample_size is None else f"{m.effective_sample_size:.0f} of {m.number_of_samples}",
              "yes" if m.reliable else "NO", m.note) for m in result.methods]
     sections = [("Bayes factors", table(["method", "hypotheses", "ln BF ± error", "effective samples", "usable", "note"], rows))]
     headline = result.headline
     if headline:
-        sections[0] = (sections[0][0], f"<p>Headline: ln BF (memory vs none) = <b>{number(headline['ln_bf'], headline['ln_bf_err'])}</b> "
-                       f"by {html.escape(headline['method'])}. Rule: {html.escape(headline['rule'])}.</p>"
+        minus = ("" if headline.get("ln_bf_minus") is None else
+                 f"; ln BF₋ (A = −1 vs 0) = {number(headline['ln_bf_minus'], headline.get('ln_bf_minus_err'))} "
+                 "from the same samples")
+        sections[0] = (sections[0][0], f"<p>Headline: ln BF₊ (memory, A = +1 vs 0) = "
+                       f"<b>{number(headline['ln_bf'], headline['ln_bf_err'])}</b> by {html.escape(headline['method'])}"
+                       f"{minus}. Rule: {html.escape(headline['rule'])}.</p>"
                        + _cross_check_text(headline.get("cross_check")) + sections[0][1])
     sign = result.sign
     if sign:
+        undefined = not sign.method.startswith("two-point")
         sections.append(("Sign of the memory", table(
             ["ln BF₊ (A=+1 vs 0)", "ln BF₋ (A=−1 vs 0)", "sign ln BF (+ vs −)", "weight of A = +1 against −1",
              "posterior mass of A > 0 (A free)", "method"],
-            [(number(sign.ln_bf_plus, sign.ln_bf_plus_err), number(sign.ln_bf_minus, sign.ln_bf_minus_err),
-              number(sign.ln_bf_sign, sign.ln_bf_sign_err), f"{sign.weight_plus:.3f}",
+            [(number_or_undefined(sign.ln_bf_plus, sign.ln_bf_plus_err, undefined),
+              number_or_undefined(sign.ln_bf_minus, sign.ln_bf_minus_err, undefined),
+              number_or_undefined(sign.ln_bf_sign, sign.ln_bf_sign_err, undefined), f"{sign.weight_plus:.3f}",
               "—" if sign.mass_above_zero is None else f"{sign.mass_above_zero:.3f}", sign.method)])
             + f"<p>{html.escape(sign.note)}</p>"))
     snr = result.memory_snr
@@ -131,6 +187,8 @@ def event_page(result: EventResult) -> str:
         sections.append(("Memory signal-to-noise ratio", f"<p>{snr['value']:.3f} at {html.escape(snr['point'])}; "
                          f"{html.escape(snr['method'])}. Expected ln BF for a perfectly known signal: ρ²/2 = "
                          f"{snr['value'] ** 2 / 2:.3f} (Finn, PRD 46, 5236 (1992)).</p>"))
+    if result.injection:
+        sections.append(("Injection (simulated data)", injection_text(result)))
     free = result.free_amplitude
     if free:
         sections.append(("Memory amplitude, A free", f"<p>median {free['median']:.2f}, 90% interval "

@@ -9,6 +9,8 @@ import io
 
 import numpy as np
 
+from ..results.estimates import ERROR_UNDEFINED_TEXT
+
 STYLE = """body{font-family:system-ui,sans-serif;max-width:1000px;margin:2em auto;color:#222;line-height:1.45}
 h1{font-size:1.5em;border-bottom:2px solid #345}h2{font-size:1.15em;margin-top:1.8em;color:#345}
 table{border-collapse:collapse;margin:.6em 0}td,th{border:1px solid #bbb;padding:.25em .6em;text-align:left}
@@ -51,9 +53,29 @@ def number(value, error=None, digits=2) -> str:
     return text
 
 
+class Markup(str):
+    """A table cell that is already HTML (a link), written as it is."""
+
+
+def link(target: str, text: str) -> Markup:
+    return Markup(f"<a href='{html.escape(target)}'>{html.escape(text)}</a>")
+
+
+def _cell(value) -> str:
+    return value if isinstance(value, Markup) else html.escape(str(value))
+
+
+def number_or_undefined(value, error, undefined: bool, digits=2) -> str:
+    """:func:`number`, or ``value ± —`` with the reason when the method has an error that is undefined here
+    (fewer than two effective samples)."""
+    if undefined and error is None and value is not None:
+        return f"{number(value, None, digits)} ± — ({ERROR_UNDEFINED_TEXT})"
+    return number(value, error, digits)
+
+
 def table(headers, rows) -> str:
     head = "".join(f"<th>{html.escape(str(h))}</th>" for h in headers)
-    body = "".join("<tr>" + "".join(f"<td>{html.escape(str(c))}</td>" for c in row) + "</tr>" for row in rows)
+    body = "".join("<tr>" + "".join(f"<td>{_cell(c)}</td>" for c in row) + "</tr>" for row in rows)
     return f"<table><tr>{head}</tr>{body}</table>"
 
 

@@ -25,6 +25,8 @@ class CatalogResult(ResultFile):
     cumulative_ln_bf_plus_err: list = field(default_factory=list)
     dropped: list = field(default_factory=list)
     expected_vs_observed: dict = field(default_factory=dict)
+    controls: list = field(default_factory=list)  # control events (no memory injected, or flagged), not summed
+    consistency: dict = field(default_factory=dict)  # each event against the shared amplitude (leave-one-out)
     method_rule: str = ""
     n_events: int = 0
     event_runs: list = field(default_factory=list)  # a catalog run's events: status, reason, page, wall time

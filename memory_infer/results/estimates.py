@@ -14,9 +14,11 @@ from ..common.errors import MemoryInferError
 
 FAMILIES = ("nested", "reweighting", "two-point", "fixed-point")
 PREFERENCE = ("reweighting", "nested", "two-point")  # order among equal errors, and of campaign columns
-RULE = ("the reliable estimate with the smallest Monte-Carlo error (importance reweighting or nested sampling, "
-        "from one sample set holding every hypothesis needed); the two-point approximation, which has no error, "
-        "only when neither is available; the other family is reported as a cross-check")
+RULE = ("ln BF+ (A = +1 vs 0) and ln BF- (A = -1 vs 0) from one family and one sample set that holds both: "
+        "the reliable pair with the smallest Monte-Carlo error on ln BF+ (importance reweighting or nested "
+        "sampling); the two-point approximation, which has no error, only when neither is available; ln BF+ "
+        "alone when no sample set holds both; the other estimates are reported as cross-checks")
+ERROR_UNDEFINED_TEXT = "error undefined: fewer than two effective samples"
 
 
 class _FromDict:
@@ -167,19 +169,60 @@ def preferred(methods, numerators=("memory",)) -> dict | None:
     return min(candidates, key=lambda g: _order(g, numerators)) if candidates else None
 
 
+def event_pair(methods) -> dict | None:
+    """The event's ln BF+ and ln BF- by ``RULE``: ``{"memory": estimate, "flipped": estimate}`` from one family
+    and one sample set, or ``{"memory": estimate}`` when no sample set holds both; None when nothing is usable.
+    The index, the event headline, the sign table, the catalog table and events.csv all show this pair."""
+    return preferred(methods, ("memory", "flipped")) or preferred(methods, ("memory",))
+
+
+def sample_set_name(estimate: EvidenceEstimate) -> str:
+    """The estimate's method named with its sample set (the method text carries it for reweighting)."""
+    return estimate.method
+
+
+def same_pair(sign: SignSummary, pair: dict) -> bool:
+    """Whether a sign summary holds exactly the ln BF+ and ln BF- of ``pair``."""
+    if "flipped" not in pair:
+        return False
+    return bool(np.isclose(sign.ln_bf_plus, pair["memory"].ln_bf, rtol=0, atol=1e-12)
+                and np.isclose(sign.ln_bf_minus, pair["flipped"].ln_bf, rtol=0, atol=1e-12))
+
+
+def consistent_sign(pair: dict | None, candidates) -> SignSummary | None:
+    """The sign summary that holds the event's preferred pair (:func:`event_pair`): the first candidate with the
+    same ln BF+ and ln BF- (relabelled with the pair's method and sample set), else one built from the pair."""
+    if pair is None or "flipped" not in pair:
+        return None
+    plus, minus = pair["memory"], pair["flipped"]
+    for sign in candidates:
+        if sign is not None and same_pair(sign, pair):
+            sign.method = sample_set_name(plus)
+            return sign
+    error = (None if plus.ln_bf_err is None or minus.ln_bf_err is None
+             else float(np.hypot(plus.ln_bf_err, minus.ln_bf_err)))
+    return SignSummary(ln_bf_plus=plus.ln_bf, ln_bf_plus_err=plus.ln_bf_err, ln_bf_minus=minus.ln_bf,
+                       ln_bf_minus_err=minus.ln_bf_err, ln_bf_sign=plus.ln_bf - minus.ln_bf, ln_bf_sign_err=error,
+                       weight_plus=sign_weight(plus.ln_bf, minus.ln_bf), method=sample_set_name(plus),
+                       note="weight_plus = BF+ / (BF+ + BF-); sign error: the two errors in quadrature")
+
+
 def headline(methods) -> dict | None:
-    """The event's headline ln BF (memory vs none) by ``RULE``, with the best estimate of the other family that
-    has an error as a cross-check: difference and its size in combined standard errors."""
-    chosen = preferred(methods, ("memory",))
+    """The event's headline ln BF (memory vs none): ln BF+ of :func:`event_pair`, with ln BF- beside it, and the
+    best other estimate that has an error (another family first, else another sample set) as a cross-check:
+    difference and its size in combined standard errors."""
+    chosen = event_pair(methods)
     if chosen is None:
         return None
     estimate = chosen["memory"]
-    out = {"ln_bf": estimate.ln_bf, "ln_bf_err": estimate.ln_bf_err, "method": estimate.method, "rule": RULE,
-           "cross_check": None}
+    minus = chosen.get("flipped")
+    out = {"ln_bf": estimate.ln_bf, "ln_bf_err": estimate.ln_bf_err, "method": sample_set_name(estimate),
+           "sample_set": estimate.sample_set, "ln_bf_minus": None if minus is None else minus.ln_bf,
+           "ln_bf_minus_err": None if minus is None else minus.ln_bf_err, "rule": RULE, "cross_check": None}
     others = [g for g in _candidates(methods, ("memory",))
-              if g["memory"].family != estimate.family and g["memory"].ln_bf_err is not None]
+              if g["memory"] is not estimate and g["memory"].ln_bf_err is not None]
     if others:
-        other = min(others, key=lambda g: _order(g, ("memory",)))["memory"]
+        other = min(others, key=lambda g: (g["memory"].family == estimate.family, _order(g, ("memory",))))["memory"]
         difference = other.ln_bf - estimate.ln_bf
         combined = float(np.hypot(other.ln_bf_err, estimate.ln_bf_err or 0.0))
         out["cross_check"] = {"method": other.method, "ln_bf": other.ln_bf, "ln_bf_err": other.ln_bf_err,

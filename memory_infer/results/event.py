@@ -5,7 +5,7 @@ from dataclasses import dataclass, field
 
 from .base import ResultFile
 from .cautions import EVIDENCE
-from .estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, headline
+from .estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, consistent_sign, event_pair, headline
 
 
 @dataclass
@@ -35,7 +35,20 @@ class EventResult(ResultFile):
     provenance: dict | None = None
     figures: dict = field(default_factory=dict)
     sample_checks: dict = field(default_factory=dict)  # outside samples: their settings and likelihood mismatch
+    injection: dict | None = None  # simulated data: the injected parameters, memory_amplitude among them
+    control: str = ""  # why the event is a control kept out of catalog sums ("" for an ordinary event)
 
-    def choose_headline(self) -> None:
-        """Set ``headline`` by the one rule (:func:`memory_infer.results.estimates.headline`)."""
+    @staticmethod
+    def control_reason(flagged: bool, injection: dict | None) -> str:
+        """Why an event is a control: injected without memory (A = 0), or marked ``control = true`` in [event]."""
+        if injection is not None and float(injection.get("memory_amplitude", 1.0)) == 0.0:
+            return "injected without memory (A = 0)"
+        return "marked as a control in its configuration ([event] control = true)" if flagged else ""
+
+    def choose_headline(self, signs=None) -> None:
+        """Set ``headline`` and ``sign`` by the one rule (:func:`memory_infer.results.estimates.event_pair`):
+        the sign table holds the headline's ln BF+ and its ln BF- from the same sample set. ``signs`` are the
+        candidate sign summaries in order of preference (default: the present one)."""
         self.headline = headline(self.methods)
+        candidates = list(signs) if signs is not None else [self.sign]
+        self.sign = consistent_sign(event_pair(self.methods), candidates)

@@ -80,6 +80,17 @@ def test_unreliable_reweighting_is_dropped_and_nothing_usable_is_an_error():
     assert result["dropped"][0]["reason"] == "too few effective samples (2.0)"
 
 
+def test_controls_are_shown_apart_and_kept_out_of_every_sum():
+    control = dict(record("null", -0.4, -0.5, curve=gaussian_curve(0.0, 0.5)), control="injected without memory (A = 0)",
+                   injection={"memory_amplitude": 0.0, "mass_1": 30.0})
+    flagged = dict(record("flag", 2.0, -2.0), control="marked as a control in its configuration ([event] control = true)")
+    result = combine([record("a", 1.0, -1.0, curve=gaussian_curve(1.0, 0.5)), control, flagged]).to_json()
+    assert result["consistent_sign"]["ln_bf"] == pytest.approx(1.0) and result["n_events"] == 1
+    assert [c["label"] for c in result["controls"]] == ["null", "flag"] and result["dropped"] == []
+    assert result["controls"][0]["injected_amplitude"] == 0.0 and result["amplitude"]["events"] == 1
+    assert [e["label"] for e in result["events"]] == ["a"]
+
+
 @pytest.mark.slow
 def test_end_to_end_catalog_from_evidence_runs(tmp_path):
     from memory_infer.cli import main
@@ -94,10 +105,11 @@ def test_end_to_end_catalog_from_evidence_runs(tmp_path):
         folders.append(str(outdir))
     assert main(["combine", *folders, "--outdir", str(tmp_path / "catalog")]) == 0
     result = json.loads((tmp_path / "catalog" / "catalog.json").read_text())
-    assert result["n_events"] == 3 and not result["dropped"]
-    # the sums are over each event's own ln BF+- as its evidence.json states them (sign table), errors in quadrature
-    # (independent events multiply evidences: common practice, no source)
-    signs = [json.loads((tmp_path / f"event-{i}" / "evidence.json").read_text())["sign"] for i in range(3)]
+    assert result["n_events"] == 2 and not result["dropped"]  # event-2, injected without memory, is a control
+    assert [c["label"] for c in result["controls"]] == ["event-2"] and result["controls"][0]["injected_amplitude"] == 0
+    # the sums are over each summed event's own ln BF+- as its evidence.json states them (sign table), errors in
+    # quadrature (independent events multiply evidences: common practice, no source)
+    signs = [json.loads((tmp_path / f"event-{i}" / "evidence.json").read_text())["sign"] for i in range(2)]
     plus = np.array([s["ln_bf_plus"] for s in signs])
     minus = np.array([s["ln_bf_minus"] for s in signs])
     assert result["consistent_sign"]["ln_bf"] == pytest.approx(plus.sum(), abs=1e-12)
@@ -106,8 +118,15 @@ def test_end_to_end_catalog_from_evidence_runs(tmp_path):
     assert result["consistent_sign"]["ln_bf_err"] == pytest.approx(
         np.sqrt(np.sum([s["ln_bf_plus_err"] ** 2 for s in signs])), rel=1e-12)
     assert {"median", "lower_90", "upper_90", "density_ratio_at_zero"} <= set(result["amplitude"])
-    assert result["amplitude"]["events"] == 3
-    assert all(e["method"] == "importance reweighting" for e in result["events"])
+    assert result["amplitude"]["events"] == 2
+    shown = result["events"] + result["controls"]
+    assert all(e["method"].startswith("importance reweighting from the A = 0 posterior") for e in shown)
+    for folder, entry in zip(folders, shown):  # the catalog shows each event's own headline pair
+        evidence = json.loads(open(f"{folder}/evidence.json").read())
+        assert (entry["ln_bf_plus"], entry["ln_bf_minus"]) == (evidence["headline"]["ln_bf"],
+                                                               evidence["headline"]["ln_bf_minus"])
+        assert (evidence["sign"]["ln_bf_plus"], evidence["sign"]["ln_bf_minus"]) == (entry["ln_bf_plus"],
+                                                                                     entry["ln_bf_minus"])
     assert (tmp_path / "catalog" / "events.csv").exists() and (tmp_path / "catalog" / "report.html").exists()
 
 

@@ -1,4 +1,5 @@
 import json
+import pytest
 
 from memory_infer.commands.demo import EVENT_TEMPLATE, EVENTS
 from memory_infer.inference.setup import prepare
@@ -21,3 +22,76 @@ def test_every_demo_event_is_a_valid_configuration(tmp_path):
         for detector in setup.detectors:  # each interferometer has its detector's noise curve (ET: all three)
             assert detector.power_spectral_density.asd_file == noise_curve_path(curves[detector.name[:2]])
             assert detector.minimum_frequency == 20.0
+
+
+def _index_rows(text):
+    """{event: [cells]} of the index page's events table."""
+    import html
+    import re
+
+    rows = re.findall(r"<tr>(.*?)</tr>", text.split("<h2>Events</h2>", 1)[1])
+    cells = [[html.unescape(re.sub(r"<.*?>", "", c)) for c in re.findall(r"<td>(.*?)</td>", row)] for row in rows]
+    return {row[0]: row for row in cells if row}
+
+
+def _catalog_agrees_with_index(outdir):
+    import csv
+
+    from memory_infer.reports.html import number
+
+    catalog = json.loads((outdir / "catalog" / "catalog.json").read_text())
+    with open(outdir / "catalog" / "events.csv") as handle:
+        table = {row["label"]: row for row in csv.DictReader(handle)}
+    index = _index_rows((outdir / "index.html").read_text())
+    shown = catalog["events"] + catalog["controls"]  # controls are shown apart, with the same numbers
+    assert set(index) == {e["label"] for e in shown} == set(table)
+    for entry in shown:
+        row = index[entry["label"]]
+        assert row[1] == number(entry["ln_bf_plus"], entry["ln_bf_plus_err"], 3)
+        assert row[2] == number(entry["ln_bf_minus"], entry["ln_bf_minus_err"], 3)
+        assert row[4] == entry["method"] == table[entry["label"]]["method"]
+        assert float(table[entry["label"]]["ln_bf_plus"]) == entry["ln_bf_plus"]
+    return catalog
+
+
+def test_catalog_index_and_events_table_show_one_ln_bf_per_event(tmp_path):
+    # the demo's own combination and index steps on results where another sample set (the A = 1 run) has a
+    # slightly smaller error on ln BF+ alone: every file must show the A = 0 run's pair
+    from memory_infer.commands.demo import combine_events, index_page
+    from memory_infer.results.estimates import EvidenceEstimate, SignSummary
+    from memory_infer.results.event import EventResult
+
+    labels = []
+    for index, plus in enumerate([-0.6441, 0.31]):
+        label = f"event-{index}"
+        methods = [EvidenceEstimate(f"importance reweighting from the A = 0 posterior [none]", plus, 0.0023,
+                                    effective_sample_size=900, number_of_samples=1000, sample_set="none"),
+                   EvidenceEstimate(f"importance reweighting from the A = 0 posterior [none]", plus - 0.4, 0.003,
+                                    numerator="flipped", effective_sample_size=900, number_of_samples=1000,
+                                    sample_set="none"),
+                   EvidenceEstimate(f"importance reweighting from the A = 1 posterior (inverse mean) [memory]",
+                                    plus - 0.0045, 0.0022, effective_sample_size=950, number_of_samples=1000,
+                                    sample_set="memory")]
+        result = EventResult(event=label, methods=methods, memory_snr={"value": 1.0, "point": "the injection"},
+                             settings={"amplitude_grid": [-4.0, 4.0, 81]})
+        result.choose_headline([SignSummary(plus, 0.0023, plus - 0.4, 0.003, 0.4, 0.004, 0.6, "reweighting")])
+        result.save(str(tmp_path / "events" / label / "evidence.json"))
+        labels.append(label)
+    combine_events(str(tmp_path), [str(tmp_path / "events" / label) for label in labels])
+    index_page(str(tmp_path), labels)
+    catalog = _catalog_agrees_with_index(tmp_path)
+    assert [e["ln_bf_plus"] for e in catalog["events"]] == [-0.6441, 0.31]
+    assert "href='events/event-0/report.html'" in (tmp_path / "index.html").read_text()
+
+
+@pytest.mark.slow
+def test_a_small_demo_run_agrees_between_catalog_and_index(tmp_path):
+    # two of the demo's events (one a control without memory) with few live points, through the demo's own steps
+    from memory_infer.commands.demo import EVENTS, combine_events, index_page, run_events
+
+    chosen = [e for e in EVENTS if e[0] in ("plover-04", "tern-05")]
+    folders = run_events(str(tmp_path), live_points=15, events=chosen)
+    combine_events(str(tmp_path), folders)
+    index_page(str(tmp_path), [e[0] for e in chosen])
+    catalog = _catalog_agrees_with_index(tmp_path)
+    assert [c["label"] for c in catalog["controls"]] == ["tern-05"]  # injected without memory

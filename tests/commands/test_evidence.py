@@ -339,3 +339,18 @@ def test_light_binary_with_a_black_hole_model_gets_a_caution(tmp_path, capsys):
 
     assert light_binary_caution(36.0, 29.0, "IMRPhenomTHM", "x") is None
     assert light_binary_caution(3.5, 1.4, "IMRPhenomTHM", "x") is None  # a light black hole and a neutron star
+
+
+def test_the_shipped_example_configurations_are_valid_and_differ_only_in_size():
+    # configs/example_event.toml is the quick one; configs/example_event_full.toml the four-hypothesis run
+    import os
+
+    from memory_infer.inputs.config import load_evidence_config
+
+    root = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+    quick = load_evidence_config(os.path.join(root, "configs", "example_event.toml"))
+    full = load_evidence_config(os.path.join(root, "configs", "example_event_full.toml"))
+    assert quick["evidence"]["nested_hypotheses"] == ["memory", "none"]
+    assert full["evidence"]["nested_hypotheses"] == ["memory", "none", "flipped", "free"]
+    assert quick["injection"] == full["injection"] and quick["priors"] == full["priors"]
+    assert quick["sampler"]["live_points"] < full["sampler"]["live_points"]

@@ -37,3 +37,14 @@ def test_pp_and_calibration_figures_only_with_data():
     page = campaign_page(full)
     assert "PP test of the memory amplitude" in page and "Fast against full recovery" in page
     assert "40.0% of the detected events" in page
+
+
+def test_the_page_says_what_the_forecast_is_and_that_it_can_be_negative():
+    forecast = {"expected": {"mean": 0.02, "mean_err": 0.01, "lower_90": -0.013, "upper_90": 0.3},
+                "known_sign": {"mean": 0.2}, "zero_noise": {"mean": 0.01}, "spread": {"mean": 0.4},
+                "events_from_mean": {"median": 400.0}, "events_known_sign": {"median": 40.0}}
+    page = campaign_page(summary(forecast=forecast))
+    assert "at the injection&#x27;s true parameters, held fixed" in page and "Kullback-Leibler divergence" in page
+    assert "at least 5% of the detected injections have a negative expected ln BF₊" in page
+    positive = dict(forecast, expected=dict(forecast["expected"], lower_90=0.001))
+    assert "have a negative expected" not in campaign_page(summary(forecast=positive))

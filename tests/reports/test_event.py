@@ -30,3 +30,35 @@ def test_page_states_the_model_reference_frequency_and_calibration():
     assert "reference frequency 15 Hz (from the samples file&#x27;s metadata)" in page
     assert "H1: cubic-spline calibration, 10 nodes" in page
     assert "exactly calibrated" in event_page(EventResult(event="plain", settings={"approximant": "IMRPhenomTHM"}))
+
+
+def test_a_simulated_event_page_lists_its_injection():
+    from memory_infer.reports.event import event_page
+
+    result = EventResult(event="sim", injection={"memory_amplitude": 0.0, "mass_1": 36.0, "luminosity_distance": 900.0},
+                         control=EventResult.control_reason(False, {"memory_amplitude": 0.0}))
+    text = event_page(result)
+    assert "Injection (simulated data)" in text and "<td>memory amplitude A</td><td>0</td>" in text
+    assert "<td>luminosity_distance</td><td>900</td><td>Mpc</td>" in text and "A control event" in text
+    assert EventResult.control_reason(True, None).startswith("marked as a control")
+    assert EventResult.control_reason(False, {"memory_amplitude": 1.0}) == ""
+
+
+def test_figures_name_quantity_and_unit_and_keep_to_the_band():
+    from memory_infer.reports.event import draw_amplitude, draw_spectrum, weights_label
+
+    frequency = [5.0, 10.0, 20.0, 40.0, 80.0, 160.0]
+    spectrum = {"minimum_frequency": 20.0, "detectors": {"H1": {
+        "frequency": frequency, "memory": [0.0, 0.0, 3e-23, 1e-23, 3e-24, 1e-24], "asd": [None, 1e-21, 1e-23, 4e-24,
+                                                                                           3e-24, 4e-24]}}}
+    figure = draw_spectrum(spectrum)
+    axis = figure.axes[0]
+    assert axis.get_ylabel() == "strain amplitude spectral density [1/√Hz]" and axis.get_xlim() == (20.0, 160.0)
+    memory_line = axis.get_lines()[0]
+    assert list(memory_line.get_xdata()) == [20.0, 40.0, 80.0, 160.0]  # no masked zeros below the band
+    labels = [t.get_text() for t in axis.get_legend().get_texts()]
+    assert any("2√f |h̃(f)|" in t for t in labels) and any("ASD" in t for t in labels)
+    amplitude = draw_amplitude(EventResult(event="e")).axes[0]
+    legend = [t.get_text() for t in amplitude.get_legend().get_texts()]
+    assert "general relativity (A = 1)" in legend and "no memory (A = 0)" in legend
+    assert "A = 0" in weights_label("none") and "A = 1" in weights_label("memory")

@@ -11,3 +11,12 @@ def test_numbers_tables_and_pages():
     assert "<td>a &amp; b</td>" in table(["x"], [("a & b",)])
     text = page("T", [("Section", "<p>x</p>")], "caution text")
     assert text.startswith("<!doctype html>") and "caution text" in text and "<h2>Section</h2>" in text
+
+
+def test_an_undefined_error_is_a_dash_with_its_reason_never_zero():
+    from memory_infer.reports.html import number_or_undefined
+
+    text = number_or_undefined(0.25, None, True)
+    assert text.startswith("0.25 ± —") and "fewer than two effective samples" in text
+    assert number_or_undefined(0.25, None, False) == "0.25"  # the two-point approximation has no error at all
+    assert number_or_undefined(0.25, 0.013, True) == "0.250 ± 0.013"

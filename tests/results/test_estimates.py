@@ -2,8 +2,8 @@ import numpy as np
 import pytest
 
 from memory_infer.common.errors import MemoryInferError
-from memory_infer.results.estimates import (EvidenceEstimate, cumulative_distribution, grid_index, headline,
-                                            normalized_density, preferred)
+from memory_infer.results.estimates import (EvidenceEstimate, SignSummary, consistent_sign, cumulative_distribution,
+                                            event_pair, grid_index, headline, normalized_density, preferred)
 
 
 def estimate(family, numerator, ln_bf, reliable=True, ess=None, sample_set=None, error=0.1):
@@ -28,6 +28,27 @@ def test_headline_is_the_reliable_estimate_with_the_smallest_error():
     assert pair["memory"].ln_bf == 0.002  # nested lacks A = -1: the reweighting pair
     assert preferred(methods[:2], ("memory", "flipped"))["memory"].ln_bf == 0.1
     assert headline(methods[:2])["cross_check"] is None  # no estimate with an error to compare
+
+
+def test_one_pair_per_event_even_when_another_sample_set_has_a_smaller_error_on_ln_bf_plus():
+    # the case of a demo event: reweighting the A = 1 run gives ln BF+ alone with a slightly smaller error than the
+    # A = 0 run, which gives both ln BF+ and ln BF-; every page must show the A = 0 pair
+    methods = [estimate("reweighting", "memory", -0.6441, ess=900, sample_set="none", error=0.0023),
+               estimate("reweighting", "flipped", -0.9, ess=900, sample_set="none", error=0.003),
+               estimate("reweighting", "memory", -0.6486, ess=950, sample_set="memory", error=0.0022)]
+    pair = event_pair(methods)
+    assert pair["memory"].sample_set == pair["flipped"].sample_set == "none"
+    chosen = headline(methods)
+    assert chosen["ln_bf"] == -0.6441 and chosen["ln_bf_minus"] == -0.9 and chosen["sample_set"] == "none"
+    assert chosen["cross_check"]["ln_bf"] == -0.6486  # the A = 1 set is the cross-check
+    curve_sign = SignSummary(-0.6441, 0.0023, -0.9, 0.003, 0.2559, 0.004, 0.56, "importance reweighting")
+    nested_sign = SignSummary(-0.5, 0.2, -0.7, 0.2, 0.2, 0.28, 0.55, "nested sampling")
+    assert consistent_sign(pair, [nested_sign, curve_sign]) is curve_sign
+    assert curve_sign.method == methods[0].method  # relabelled with the pair's method
+    built = consistent_sign(pair, [nested_sign])
+    assert (built.ln_bf_plus, built.ln_bf_minus) == (-0.6441, -0.9)
+    assert built.ln_bf_sign_err == pytest.approx(np.hypot(0.0023, 0.003))
+    assert consistent_sign(event_pair(methods[2:]), [curve_sign]) is None  # no ln BF- beside this ln BF+
 
 
 def test_reweighting_prefers_reliable_sets_with_more_effective_samples():

@@ -9,7 +9,8 @@
   ``s_j = k_j w_j`` and ``m = sum_j s_j / n``, the Monte-Carlo variance of m is the cluster (between-sample)
   variance ``J/(J-1) sum_j (s_j - k_j m)^2 / n^2`` over the J distinct samples, and the effective sample size is
   ``(sum_j s_j)^2 / sum_j s_j^2``. Without duplicates these are ``var(w)/n`` and ``(sum w)^2 / sum w^2``.
-- The error of ln BF is ``sqrt(var m) / m``.
+- The error of ln BF is ``sqrt(var m) / m``; below two effective samples it is undefined (None: one weight
+  carries the mean and the variance estimate says nothing), never 0.
 """
 from __future__ import annotations
 
@@ -20,10 +21,13 @@ import numpy as np
 from ...common.errors import MemoryInferError, WaveformError
 from ...inputs.calibration import calibration_names, draw_calibration
 from ...results.estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, grid_index, prior_on_grid, sign_weight
+from ...results.estimates import ERROR_UNDEFINED_TEXT as ERROR_UNDEFINED
 from ..hypotheses import HYPOTHESES, hypothesis_name
 from .base import EvidenceMethod, RunState, fixed_values
 
 logger = logging.getLogger("memory_infer")
+
+MINIMUM_FOR_ERROR = 2.0  # effective samples below which the Monte-Carlo error is undefined
 
 
 def sample_labels(samples) -> np.ndarray:
@@ -95,7 +99,7 @@ def mean_ratio(log_weights: np.ndarray, labels=None):
     n = log_weights.size
     finite = np.isfinite(log_weights)
     if not np.any(finite):
-        return -np.inf, np.inf, 0.0
+        return -np.inf, None, 0.0
     top = np.max(log_weights[finite])
     w = np.where(finite, np.exp(log_weights - top), 0.0)
     mean = w.mean()
@@ -106,9 +110,9 @@ def mean_ratio(log_weights: np.ndarray, labels=None):
         variance = distinct / (distinct - 1) * np.sum((sums - counts * mean) ** 2) / n ** 2
         error = float(np.sqrt(variance) / mean)
     else:
-        error = np.inf
+        error = None
     ess = float(sums.sum() ** 2 / np.sum(sums ** 2))
-    return ln_mean, error, ess
+    return ln_mean, (error if ess >= MINIMUM_FOR_ERROR else None), ess
 
 
 def ratio_of_means(log_numerator, log_denominator, labels=None):
@@ -122,7 +126,7 @@ def ratio_of_means(log_numerator, log_denominator, labels=None):
     labels = np.arange(usable.size) if labels is None else np.asarray(labels)
     log_numerator, log_denominator, labels = log_numerator[usable], log_denominator[usable], labels[usable]
     if not (np.any(np.isfinite(log_numerator)) and np.any(np.isfinite(log_denominator))):
-        return np.nan, np.inf, 0.0
+        return np.nan, None, 0.0
     n = log_numerator.size
     a = np.exp(log_numerator - np.max(log_numerator[np.isfinite(log_numerator)]))
     b = np.exp(log_denominator - np.max(log_denominator[np.isfinite(log_denominator)]))
@@ -132,9 +136,9 @@ def ratio_of_means(log_numerator, log_denominator, labels=None):
     counts, sums_a, sums_b = _distinct_sums(labels, a, b)
     distinct = sums_a.size
     z = (sums_a - counts * mean_a) / mean_a - (sums_b - counts * mean_b) / mean_b
-    error = float(np.sqrt(distinct / (distinct - 1) * np.sum(z ** 2)) / n) if distinct > 1 else np.inf
+    error = float(np.sqrt(distinct / (distinct - 1) * np.sum(z ** 2)) / n) if distinct > 1 else None
     ess = float(min(sums_a.sum() ** 2 / np.sum(sums_a ** 2), sums_b.sum() ** 2 / np.sum(sums_b ** 2)))
-    return ln_ratio, error, ess
+    return ln_ratio, (error if ess >= MINIMUM_FOR_ERROR else None), ess
 
 
 def amplitude_curve(log_likelihoods: np.ndarray, amplitudes, base_amplitude: float, labels=None) -> AmplitudeCurve:
@@ -184,7 +188,10 @@ def reweighting_estimate(log_likelihoods, amplitudes, base_amplitude: float, num
                 "do not overlap enough; use nested sampling or the free-amplitude run for this event")
     if failed:
         note += f"; {failed} samples with a failed waveform left out"
-    return EvidenceEstimate(method=f"importance reweighting {direction}", ln_bf=float(ln_bf), ln_bf_err=float(error),
+    if error is None:
+        note += f"; {ERROR_UNDEFINED}"
+    return EvidenceEstimate(method=f"importance reweighting {direction}", ln_bf=float(ln_bf),
+                            ln_bf_err=None if error is None else float(error),
                             numerator=hypothesis_name(numerator), denominator=hypothesis_name(denominator),
                             effective_sample_size=float(ess), number_of_samples=n, reliable=reliable, note=note,
                             family="reweighting", base_amplitude=float(base_amplitude))
@@ -209,7 +216,9 @@ def proposal_corrected(table, source, grid, minimum_effective_samples: float, la
         note = (f"{ess:.0f} effective of {n} samples" if reliable else
                 f"only {ess:.1f} effective of {n} samples (need {minimum_effective_samples:g}): the samples' "
                 "posterior and this run's do not overlap enough")
-        estimates.append(EvidenceEstimate(method=PROPOSAL, ln_bf=float(ln_bf), ln_bf_err=float(error),
+        note += f"; {ERROR_UNDEFINED}" if error is None else ""
+        estimates.append(EvidenceEstimate(method=PROPOSAL, ln_bf=float(ln_bf),
+                                          ln_bf_err=None if error is None else float(error),
                                           numerator=hypothesis_name(numerator), effective_sample_size=float(ess),
                                           number_of_samples=n, reliable=reliable, note=note, family="reweighting",
                                           base_amplitude=0.0))
@@ -283,8 +292,9 @@ def sign_from_curve(curve: AmplitudeCurve, free_limits=(-5.0, 5.0)) -> SignSumma
     positive = np.trapezoid(density[above], grid[above]) if np.count_nonzero(above) > 1 else 0.0
     note = (f"weight_plus = BF+ / (BF+ + BF-); mass_above_zero: posterior mass of A > 0 for a uniform prior on "
             f"[{low:g}, {high:g}] from the amplitude curve" + (f" ({cut})" if cut else ""))
+    sign_err = None if plus_err is None or minus_err is None else float(np.hypot(plus_err, minus_err))
     return SignSummary(ln_bf_plus=plus, ln_bf_plus_err=plus_err, ln_bf_minus=minus, ln_bf_minus_err=minus_err,
-                       ln_bf_sign=plus - minus, ln_bf_sign_err=float(np.hypot(plus_err, minus_err)),
+                       ln_bf_sign=plus - minus, ln_bf_sign_err=sign_err,
                        weight_plus=sign_weight(plus, minus), method=curve.method, note=note,
                        mass_above_zero=float(positive / total) if total > 0 else 0.5)
 

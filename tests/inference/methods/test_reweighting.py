@@ -7,8 +7,8 @@ import pytest
 
 from memory_infer.inference.methods.fast import fast_estimates, sign_partner
 from memory_infer.inference.methods.nested import run_nested
-from memory_infer.inference.methods.reweighting import (amplitude_curve, mean_ratio as _mean_ratio, reweighting_estimate,
-                                                        sign_from_curve)
+from memory_infer.inference.methods.reweighting import (amplitude_curve, mean_ratio as _mean_ratio, proposal_corrected,
+                                                        ratio_of_means, reweighting_estimate, sign_from_curve)
 from memory_infer import MemoryTransient, waveform_generator
 
 from helpers import event_config
@@ -39,6 +39,25 @@ def test_reweighting_both_directions_and_collapse_flag():
     collapsed = reweighting_estimate(loud, grid, 0.0, 1.0, 0.0, minimum_effective_samples=50)
     assert not collapsed.reliable and "do not overlap" in collapsed.note
     assert collapsed.effective_sample_size < 50
+
+
+def test_error_is_undefined_below_two_effective_samples():
+    # one weight carries the whole mean (effective sample size 1): the variance estimate says nothing, and the
+    # ratio of two means dominated by the same sample gave an error of exactly 0 before
+    log_w = np.array([0.0] + [-400.0] * 99)
+    ln_mean, error, ess = _mean_ratio(log_w)
+    assert ess == pytest.approx(1.0) and error is None
+    assert ratio_of_means(log_w, log_w - 1.0)[1] is None
+    grid = np.array([-1.0, 0.0, 1.0])
+    table = np.column_stack([np.zeros(100), np.zeros(100), log_w])
+    estimate = reweighting_estimate(table, grid, 0.0, 1.0, 0.0)
+    assert estimate.ln_bf_err is None and "fewer than two effective samples" in estimate.note
+    assert json.loads(json.dumps(estimate.to_dict()))["ln_bf_err"] is None  # null in evidence.json
+    corrected, curve = proposal_corrected(table, np.zeros(100), grid, 50.0)
+    assert corrected[0].ln_bf_err is None and curve.ln_mean_ratio_err[2] is None
+    assert sign_from_curve(amplitude_curve(table, grid, 0.0), (-1, 1)).ln_bf_sign_err is None
+    two = _mean_ratio(np.array([0.0, 0.0] + [-400.0] * 98))  # two equal weights: defined
+    assert two[2] == pytest.approx(2.0) and two[1] is not None and two[1] > 0
 
 
 def test_sign_from_curve_weights():
