@@ -192,6 +192,8 @@ def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="fewer calls and rounds; a first look, not a record")
     parser.add_argument("--repeats", type=int, default=None, help="rounds per row (default 5, quick 3)")
+    parser.add_argument("--runs", action="store_true",
+                        help="also time the demo and configs/example_event.toml end to end (minutes each; idle cores)")
     options = parser.parse_args(argv)
     if options.quick:
         SETTINGS.update(repeats=3, calls=0.3, injections=100)
@@ -223,6 +225,11 @@ def main(argv=None):
     rate, (low, high) = campaign_rates()
     rows.append(("fast campaign, injections per second on 2 cores", rate, 40, "higher", "none (absolute rate)",
                  f"{SETTINGS['injections']} HLV-design injections, 4 s at 2048 Hz, all recovered; rounds {low:.1f}-{high:.1f}"))
+    if options.runs:
+        for name, arguments in end_to_end_commands():
+            seconds = end_to_end_seconds(arguments)
+            rows.append((f"{name}, wall time in seconds", seconds, 300, "lower", "none (absolute, 2 cores)",
+                         " ".join(arguments[:2]) + " (one run)"))
     print(table(rows), flush=True)
     if options.quick:
         return
@@ -232,6 +239,33 @@ def main(argv=None):
         print(f"campaign time on one-node Slurm / local pool: {ratio:.2f}  ({note})")
     else:
         print(f"campaign on one-node Slurm: {note}")
+
+
+def end_to_end_commands():
+    """(row name, command-line arguments) of the two end-to-end runs with a time goal."""
+    import os
+
+    here = os.path.dirname(os.path.abspath(__file__))
+    return [("the demo", ["demo"]),
+            ("configs/example_event.toml", ["evidence", os.path.join(here, "..", "configs", "example_event.toml")])]
+
+
+def end_to_end_seconds(arguments) -> float:
+    """Wall time of one ``memory-infer`` command in a fresh process, output into a temporary folder."""
+    import os
+    import subprocess
+    import sys
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as folder:
+        start = time.perf_counter()
+        done = subprocess.run([sys.executable, "-m", "memory_infer.cli", *arguments, "--outdir",
+                               os.path.join(folder, "out")], capture_output=True, text=True,
+                              cwd=os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+        if done.returncode != 0:
+            print(f"memory-infer {arguments[0]} failed: {(done.stderr or done.stdout).strip()[-300:]}")
+            return float("nan")
+        return time.perf_counter() - start
 
 
 def campaign_rate(count: int = 400, make_executor=None):
