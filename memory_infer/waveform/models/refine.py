@@ -128,7 +128,7 @@ def interpolated_level(series: ModeSeries, join_time: float, factor: int) -> Mod
 
     times, delta_t = series.times, series.delta_t
     keys = [(2, 2)] + sorted(k for k in series.modes if k[1] >= 0 and k != (2, 2))
-    first = max(int(np.searchsorted(times, join_time)) - 8, 0)
+    first = max(min(int(np.searchsorted(times, join_time)) - 8, times.size - 16), 0)  # at least 16 samples
     stacked = np.array([series.modes[k][first:] for k in keys])
     amplitude = np.abs(stacked)
     loud = np.nonzero(amplitude.max(axis=0) > QUIET_AMPLITUDE * amplitude[0].max())[0]
