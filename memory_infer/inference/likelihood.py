@@ -111,6 +111,11 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
         self._detector_arrays = {}
         self._recent_parts = {}
 
+    def __getstate__(self):  # the kept arrays stay behind when the likelihood goes to another process
+        state = self.__dict__.copy()
+        state["_detector_arrays"], state["_recent_parts"] = {}, {}
+        return state
+
     def detector_arrays(self, detector):
         """(frequency mask, masked PSD, masked frequencies) of one detector, kept while its PSD object, segment,
         band and window stay the same (bilby recomputes the PSD array on every access)."""
