@@ -63,8 +63,16 @@ def _simulate(task):
     else:
         detectors.set_strain_data_from_power_spectral_densities(settings["sampling_rate"], settings["duration"], start)
     generator.start_time = start
-    detectors.inject_signal(waveform_generator=generator,
-                            parameters=dict(task["source"], memory_amplitude=task["amplitude"]), raise_error=False)
+    # the polarizations injected directly: bilby's inject_signal would first check the signal's duration per
+    # detector (a distance-to-redshift solve each time) only to log a warning; the parts stay in the generator's
+    # cache for the estimates that follow
+    parameters = dict(task["source"], memory_amplitude=task["amplitude"])
+    oscillatory, memory = generator.parts(parameters)
+    if oscillatory is not None:
+        polarizations = {k: oscillatory[k] + task["amplitude"] * memory[k] for k in oscillatory}
+        for detector in detectors:
+            detector.inject_signal_from_waveform_polarizations(parameters=parameters,
+                                                               injection_polarizations=polarizations)
     snr = float(np.sqrt(sum(abs(d.meta_data.get("optimal_SNR", 0.0)) ** 2 for d in detectors)))
     return generator, detectors, snr
 

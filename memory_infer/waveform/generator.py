@@ -12,7 +12,7 @@ import logging
 import bilby
 
 from ..common.errors import WaveformError
-from .source import SourceCache, memory_binary_black_hole, signal_parts
+from .source import SourceCache, memory_binary_black_hole, signal_parts, signal_strain
 
 logger = logging.getLogger("memory_infer")
 
@@ -60,10 +60,14 @@ class MemoryWaveformGenerator(bilby.gw.WaveformGenerator):
         if model is not memory_binary_black_hole:
             return super()._strain_from_model(model_data_points, model, parameters)
         amplitude = float(parameters.get("memory_amplitude", 1.0))
-        oscillatory, memory = self._parts(parameters)  # bilby has converted the parameters already
-        if oscillatory is None:
+        try:  # bilby has converted the parameters already; one transform of oscillatory + A x memory
+            return signal_strain(self.frequency_array, amplitude, cache=self.source_cache, **parameters)
+        except WaveformError as error:
+            if not parameters.get("catch_waveform_errors", False):
+                raise
+            self.failures += 1
+            logger.debug("waveform failed, likelihood set to zero: %s", error)
             return None
-        return {k: oscillatory[k] + amplitude * memory[k] for k in oscillatory}
 
 
 def waveform_generator(duration, sampling_frequency, start_time, waveform_arguments) -> MemoryWaveformGenerator:

@@ -158,12 +158,20 @@ def segment_note(frequency_array, band_start: float, cache: SourceCache | None =
             "what that part accumulated); use a longer segment")
 
 
-def to_frequency_domain(buffer: np.ndarray, delta_t: float, shift: float, frequency_array) -> dict:
-    """One-sided transform ``h(f) = dt * FFT`` of a complex ``h+ - i hx`` buffer, as plus and cross."""
-    phase = np.exp(-2j * np.pi * frequency_array * shift) * delta_t
+def to_frequency_domain(buffer: np.ndarray, delta_t: float, shift: float, frequency_array, phase=None) -> dict:
+    """One-sided transform ``h(f) = dt * FFT`` of a complex ``h+ - i hx`` buffer, as plus and cross.
+
+    ``phase``: :func:`shift_phase` of the same arguments, when the caller transforms several buffers."""
+    if phase is None:
+        phase = shift_phase(frequency_array, shift, delta_t)
     plus = np.fft.rfft(buffer.real) * phase
-    cross = -np.fft.rfft(buffer.imag) * phase
+    cross = np.fft.rfft(buffer.imag) * -phase
     return {"plus": plus, "cross": cross}
+
+
+def shift_phase(frequency_array, shift: float, delta_t: float) -> np.ndarray:
+    """``dt exp(-2 pi i f shift)``: the transform's scale and the buffer's offset from the peak."""
+    return np.exp(-2j * np.pi * frequency_array * shift) * delta_t
 
 
 def segment_geometry(frequency_array):
@@ -264,7 +272,8 @@ def signal_parts(frequency_array, cache: SourceCache | None = None, **parameters
     return cache._recall(cache.parts, key, lambda: _parts(frequency_array, parameters, cache), cache.parts_size)
 
 
-def _parts(frequency_array, parameters, cache):
+def _layout(frequency_array, parameters, cache):
+    """(oscillatory buffer, memory buffer or None, shift, delta_t), scaled to the distance (SI)."""
     if not float(parameters.get("luminosity_distance", 0.0)) > 0:
         raise WaveformError("the luminosity distance must be positive")
     n_buffer, delta_t = segment_geometry(frequency_array)
@@ -275,12 +284,37 @@ def _parts(frequency_array, parameters, cache):
     oscillatory, memory, shift = circular_layout(signal, n_buffer, delta_t,
                                                  float(settings["memory_taper_duration"]), start_duration)
     scale = 1.0 / values["luminosity_distance"]
-    osc = to_frequency_domain(oscillatory * scale, delta_t, shift, frequency_array)
-    if settings["include_memory"]:
-        mem = to_frequency_domain(memory * scale, delta_t, shift, frequency_array)
+    return oscillatory * scale, (memory * scale if settings["include_memory"] else None), shift, delta_t
+
+
+def _parts(frequency_array, parameters, cache):
+    oscillatory, memory, shift, delta_t = _layout(frequency_array, parameters, cache)
+    phase = shift_phase(frequency_array, shift, delta_t)
+    osc = to_frequency_domain(oscillatory, delta_t, shift, frequency_array, phase)
+    if memory is not None:
+        mem = to_frequency_domain(memory, delta_t, shift, frequency_array, phase)
     else:
         mem = {"plus": np.zeros_like(osc["plus"]), "cross": np.zeros_like(osc["cross"])}
     return {"plus": osc["plus"], "cross": osc["cross"], "memory_plus": mem["plus"], "memory_cross": mem["cross"]}
+
+
+def signal_strain(frequency_array, amplitude: float, cache: SourceCache | None = None, **parameters) -> dict:
+    """Frequency-domain ``plus`` and ``cross`` of the oscillatory signal plus ``amplitude`` x memory,
+    from one transform (equal to the sum of :func:`signal_parts`' parts to rounding); parts already in
+    ``cache`` are reused."""
+    if cache is not None:
+        settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
+        values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
+        key = (tuple(values.values()), tuple((k, str(v)) for k, v in settings.items()),
+               frequency_array.size, float(frequency_array[-1]))
+        if key in cache.parts:
+            parts = cache.parts[key]
+            return {"plus": parts["plus"] + amplitude * parts["memory_plus"],
+                    "cross": parts["cross"] + amplitude * parts["memory_cross"]}
+    oscillatory, memory, shift, delta_t = _layout(frequency_array, parameters, cache)
+    if memory is not None and amplitude != 0:
+        oscillatory = oscillatory + amplitude * memory
+    return to_frequency_domain(oscillatory, delta_t, shift, frequency_array)
 
 
 def memory_binary_black_hole(frequency_array, mass_1, mass_2, luminosity_distance, a_1, tilt_1, phi_12,
@@ -296,11 +330,9 @@ def memory_binary_black_hole(frequency_array, mass_1, mass_2, luminosity_distanc
                       tilt_1=tilt_1, phi_12=phi_12, a_2=a_2, tilt_2=tilt_2, phi_jl=phi_jl,
                       theta_jn=theta_jn, phase=phase, **waveform_kwargs)
     try:
-        parts = signal_parts(np.asarray(frequency_array), **parameters)
+        return signal_strain(np.asarray(frequency_array), float(memory_amplitude), **parameters)
     except WaveformError as error:
         if waveform_kwargs.get("catch_waveform_errors", False):
             logger.debug("waveform failed, likelihood set to zero: %s", error)
             return None
         raise
-    return {"plus": parts["plus"] + memory_amplitude * parts["memory_plus"],
-            "cross": parts["cross"] + memory_amplitude * parts["memory_cross"]}

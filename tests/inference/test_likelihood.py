@@ -41,6 +41,25 @@ def test_curve_equals_direct_likelihood(generator):
     assert np.max(np.abs(curve - direct)) < 1e-8
 
 
+def test_projected_parts_and_products_equal_bilby(generator):
+    # reference library: bilby's Interferometer.get_detector_response and noise_weighted_inner_product, which the
+    # likelihood's shared-factor responses and kept PSD arrays reproduce step by step
+    detectors = detectors_with(generator, 2, names=("H1", "L1", "V1"))
+    likelihood = MemoryTransient(detectors, generator)
+    oscillatory, memory = generator.parts(TRUTH)
+    parts = likelihood.projected_parts(TRUTH)
+    assert likelihood.projected_parts(dict(TRUTH)) is parts  # the point asked again is not recomputed
+    parameters = dict(TRUTH, **likelihood.get_sky_frame_parameters(TRUTH))
+    for detector, (s_osc, s_mem) in zip(detectors, parts):
+        assert np.array_equal(s_osc, detector.get_detector_response(oscillatory, parameters))
+        assert np.array_equal(s_mem, detector.get_detector_response(memory, parameters))
+    products = likelihood.inner_products(TRUTH)
+    expected = sum(detector.inner_product(s_mem) for detector, (_, s_mem) in zip(detectors, parts))
+    assert abs(products.d_mem - expected) <= 1e-12 * abs(expected)
+    expected = sum(detector.optimal_snr_squared(s_osc).real for detector, (s_osc, _) in zip(detectors, parts))
+    assert abs(products.osc_osc - expected) <= 1e-12 * expected
+
+
 def test_curve_equals_direct_with_time_marginalization(generator):
     priors = bilby.core.prior.PriorDict({"geocent_time": bilby.core.prior.Uniform(START + 1.9, START + 2.1)})
     priors["memory_amplitude"] = 0.0

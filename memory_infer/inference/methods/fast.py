@@ -1,4 +1,4 @@
-"""Fast approximations at one parameter point: no sampling, no Monte-Carlo error.
+"""Fast approximations at one parameter point (README, evidence methods): no sampling, no Monte-Carlo error.
 
 - fixed-parameter: ``ln Lambda = <d - h_osc, h_mem> - <h_mem, h_mem> / 2``;
 - two-point: also weighs the sign-degenerate partner (phase + pi/2, psi + pi/2) by its oscillatory
@@ -19,6 +19,14 @@ where ``(x1, x2, x3) = (<n,m>, <n,m'>, <n,delta>)`` is Gaussian with zero mean a
 depends on six inner products only: the expectation is a Gauss-Hermite integral over the Gram matrix's
 non-null directions (at most three), and single noise realizations are three correlated normal numbers.
 
+Exact low-dimensional form. With ``L = u + D`` and ``v = D' - u - D`` (both linear in the noise, so normal),
+``ln BF = L + softplus(v) - softplus(u)``. Its mean is ``E[L]`` plus two one-dimensional normal integrals; its
+variance needs ``Cov(L, softplus(v)) = Cov(L, v) E[sigmoid(v)]`` (Stein's lemma, one-dimensional) and
+``E[softplus(u) softplus(v)]``, a two-dimensional integral over the correlated pair (u, v). Each
+one-dimensional integral is split at the softplus kink and done by Gauss-Legendre on either side
+(:func:`two_point_noise_average`); the tensor Gauss-Hermite quadrature (:func:`hermite_noise_average`) is kept as
+the independent check.
+
 Limits. With the sign resolved (``delta`` large, so ``u`` -> +inf) the estimator is ``D``, whose expectation
 at ``A = A_t = 1`` is ``<m,m>/2 = rho^2/2`` (Finn, PRD 46, 5236 (1992)). With a (2, +-2)-only signal
 ``delta = 0``, ``m' = -m``, hence ``u = 0``, ``x2 = -x1`` and, at ``A = A_t = 1``,
@@ -29,6 +37,8 @@ between ``N(rho, 1)`` and the equal mixture of ``N(+rho, 1)`` and ``N(-rho, 1)``
 ``rho^4/4``, not ``rho^4/2``: the tests check the series with sympy and the integral numerically.)
 """
 from __future__ import annotations
+
+from functools import lru_cache
 
 import numpy as np
 from scipy.special import logsumexp
@@ -132,13 +142,99 @@ def _hermite_average(terms, injected, amplitude, nodes):
     return mean, float(np.sqrt(max(np.sum(weights * values ** 2) - mean ** 2, 0.0)))
 
 
-def two_point_noise_average(terms: dict, injected: float, amplitude: float = 1.0, nodes: int = 20) -> dict:
+def hermite_noise_average(terms: dict, injected: float, amplitude: float = 1.0, nodes: int = 40) -> dict:
+    """Mean and spread over noise by tensor Gauss-Hermite quadrature over the Gram matrix's non-null directions
+    (``nodes`` per direction): the independent check of :func:`two_point_noise_average`."""
+    mean, spread = _hermite_average(terms, injected, amplitude, nodes)
+    return {"mean": mean, "spread": spread}
+
+
+STANDARD_RANGE = 12.0  # standard deviations each side: the normal weight beyond is below 1e-32
+
+
+@lru_cache(maxsize=8)
+def _legendre(nodes: int):
+    x, w = np.polynomial.legendre.leggauss(nodes)
+    x.flags.writeable = w.flags.writeable = False
+    return x, w
+
+
+def _softplus(x):
+    return np.logaddexp(x, 0.0)
+
+
+def _sigmoid(x):
+    return 0.5 * (1 + np.tanh(x / 2))
+
+
+def _normal_mean(function, mean, sigma, nodes: int):
+    """``E[function(mean + sigma t)]`` over t ~ N(0, 1) for arrays ``mean`` (any shape, broadcast with ``sigma``):
+    Gauss-Legendre on [-12, 12] split where ``mean + sigma t = 0`` (the softplus kink), ``nodes`` per side."""
+    mean, sigma = np.broadcast_arrays(np.asarray(mean, float), np.asarray(sigma, float))
+    x, w = _legendre(nodes)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        kink = np.where(sigma > 0, -mean / np.where(sigma > 0, sigma, 1.0), STANDARD_RANGE)
+    kink = np.clip(kink, -STANDARD_RANGE, STANDARD_RANGE)[..., None]
+    total = 0.0
+    for low, high in ((-STANDARD_RANGE, kink), (kink, STANDARD_RANGE)):
+        half = (high - low) / 2
+        t = low + half * (x + 1)
+        density = np.exp(-t ** 2 / 2) / np.sqrt(2 * np.pi)
+        total = total + np.sum(half * w * density * function(mean[..., None] + sigma[..., None] * t), axis=-1)
+    return np.where(sigma > 0, total, function(mean))
+
+
+def _exact_average(terms, injected, amplitude, nodes, spread: bool = True):
+    """(mean, spread) of ``L + softplus(v) - softplus(u)`` (module docstring) over Gaussian noise; the spread
+    is None unless ``spread``."""
+    t, a, a_t = terms, amplitude, injected
+    gram = _gram(terms)
+    # each linear form as (constant, coefficients on the noise projections x1, x2, x3)
+    d_here = (a * a_t * t["memory"] - a ** 2 * t["memory"] / 2, np.array([a, 0.0, 0.0]))
+    d_there = (a * (t["partner_split"] + a_t * t["memory_cross"]) - a ** 2 * t["partner_memory"] / 2,
+               np.array([0.0, a, 0.0]))
+    u = (t["split"] / 2 + a_t * t["memory_split"], np.array([0.0, 0.0, 1.0]))
+    big_l = (u[0] + d_here[0], u[1] + d_here[1])
+    v = (d_there[0] - big_l[0], d_there[1] - big_l[1])
+    cov = lambda p, q: float(p[1] @ gram @ q[1])
+    var_u, var_v, cov_uv = max(cov(u, u), 0.0), max(cov(v, v), 0.0), cov(u, v)
+    sd_u, sd_v = np.sqrt(var_u), np.sqrt(var_v)
+    sp_u = float(_normal_mean(_softplus, u[0], sd_u, nodes))
+    sp_v = float(_normal_mean(_softplus, v[0], sd_v, nodes))
+    mean = big_l[0] + sp_v - sp_u
+    if not spread:
+        return float(mean), None
+    # second moments: Stein's lemma for the linear part, a nested integral for softplus(u) softplus(v)
+    sq_u = float(_normal_mean(lambda x: _softplus(x) ** 2, u[0], sd_u, nodes))
+    sq_v = float(_normal_mean(lambda x: _softplus(x) ** 2, v[0], sd_v, nodes))
+    slope_u = float(_normal_mean(_sigmoid, u[0], sd_u, nodes))
+    slope_v = float(_normal_mean(_sigmoid, v[0], sd_v, nodes))
+    if sd_u > 0:  # v = v0 + (cov_uv / var_u)(u - u0) + independent normal of variance var_v - cov_uv^2 / var_u
+        rest = np.sqrt(max(var_v - cov_uv ** 2 / var_u, 0.0))
+        x, w = _legendre(nodes)
+        kink = float(np.clip(-u[0] / sd_u, -STANDARD_RANGE, STANDARD_RANGE))
+        joint = 0.0
+        for low, high in ((-STANDARD_RANGE, kink), (kink, STANDARD_RANGE)):
+            half = (high - low) / 2
+            s = low + half * (x + 1)
+            density = np.exp(-s ** 2 / 2) / np.sqrt(2 * np.pi)
+            inner = _normal_mean(_softplus, v[0] + cov_uv / sd_u * s, rest, nodes)
+            joint += float(np.sum(half * w * density * _softplus(u[0] + sd_u * s) * inner))
+    else:
+        joint = float(_softplus(u[0])) * sp_v
+    variance = (cov(big_l, big_l) + (sq_v - sp_v ** 2) + (sq_u - sp_u ** 2)
+                + 2 * cov(big_l, v) * slope_v - 2 * cov(big_l, u) * slope_u - 2 * (joint - sp_u * sp_v))
+    return float(mean), float(np.sqrt(max(variance, 0.0)))
+
+
+def two_point_noise_average(terms: dict, injected: float, amplitude: float = 1.0, nodes: int = 64) -> dict:
     """Expectation and spread over Gaussian noise of the two-point ln BF(``amplitude``) for data with
-    ``injected`` memory: tensor Gauss-Hermite quadrature with ``nodes`` per non-null direction, its error
-    estimated as the change from ``nodes`` to ``2 nodes``."""
-    mean, spread = _hermite_average(terms, injected, amplitude, 2 * nodes)
-    coarse, _ = _hermite_average(terms, injected, amplitude, nodes)
-    return {"mean": mean, "spread": spread, "quadrature_error": abs(mean - coarse),
+    ``injected`` memory: the exact one-dimensional (mean) and two-dimensional (spread) integrals of the module
+    docstring, ``nodes`` Gauss-Legendre nodes each side of the kink; the quadrature error of the mean is
+    estimated as its change from ``nodes`` to ``3 nodes / 2``."""
+    mean, spread = _exact_average(terms, injected, amplitude, nodes)
+    finer, _ = _exact_average(terms, injected, amplitude, 3 * nodes // 2, spread=False)
+    return {"mean": mean, "spread": spread, "quadrature_error": abs(mean - finer),
             "zero_noise": float(two_point_value(terms, injected, amplitude, np.zeros(3))),
             "known_sign": float(amplitude * injected * terms["memory"] - amplitude ** 2 * terms["memory"] / 2)}
 

@@ -2,7 +2,7 @@
 
 Reference for all checks here: a convergence study (common practice, no source): the same binary's modes
 sampled 16 times finer than the finest data rate tested (65536 Hz) and differenced on that uniform grid,
-with no finer levels. Tolerance 0.5% (convergence, common practice, no source).
+with no finer levels. Tolerance 0.5% (benchmarks/convergence.py prints the table).
 """
 from functools import lru_cache
 
