@@ -6,11 +6,12 @@ analytic (2, +-2) inspiral of :mod:`.analytic`; every other name goes to lalsimu
 """
 from __future__ import annotations
 
+from ...common.errors import WaveformError
 from .series import ModeSeries
-from . import analytic, lal_modes
+from . import analytic, fd_modes, lal_modes
 from .refine import finer_levels
 
-SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", analytic.NAME)
+SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", *fd_modes.FD_MODELS, analytic.NAME)
 DEFAULT_APPROXIMANT = "IMRPhenomTHM"
 
 
@@ -27,6 +28,9 @@ def generate_modes(approximant: str, mass_1: float, mass_2: float, luminosity_di
     :mod:`.refine`); the modes themselves stay at ``delta_t``.
     """
     reference_frequency = reference_frequency or minimum_frequency
+    if fd_modes.is_frequency_domain(approximant):
+        raise WaveformError(f"waveform model '{approximant}' gives frequency-domain modes; it is used through the "
+                            "source model (memory_infer.waveform.frequency_source), not as time-domain modes")
 
     def generate(step, start, reference):
         if approximant == analytic.NAME:
@@ -44,6 +48,8 @@ def takes_precessing_spins(approximant: str) -> bool:
     """Whether the model accepts in-plane spin components (lalsimulation's spin support)."""
     if approximant == analytic.NAME:
         return False
+    if fd_modes.is_frequency_domain(approximant):
+        return approximant in fd_modes.PRECESSING
     return lal_modes.spin_support(approximant) == "precessing"
 
 
