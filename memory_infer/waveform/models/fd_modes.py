@@ -185,3 +185,16 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
                       luminosity_distance=spectra.luminosity_distance,
                       symmetric_mass_ratio=spectra.symmetric_mass_ratio, approximant=spectra.approximant,
                       aligned_spins=spectra.aligned_spins)
+
+
+def polarizations(spectra: ModeSpectra, theta: float, phi: float, rotation: complex = 1.0) -> dict:
+    """``h+(f)`` and ``hx(f)`` for ``f = k delta_f >= 0`` from the mode sum ``rotation sum h_lm(f) -2Y_lm(theta, phi)``
+    of the complex ``h = h+ - i hx``: ``h+(f) = (h(f) + conj(h(-f))) / 2``, ``hx(f) = i (h(f) - conj(h(-f))) / 2``."""
+    from ..sphere import HarmonicSet
+
+    keys = tuple(spectra.modes)
+    weights = HarmonicSet(keys)(theta, phi)
+    total = rotation * sum(w * spectra.modes[k] for w, k in zip(weights, keys))
+    half = total.size // 2
+    positive, negative = total[half:], total[half::-1]
+    return {"plus": 0.5 * (positive + np.conj(negative)), "cross": 0.5j * (positive - np.conj(negative))}
