@@ -15,10 +15,12 @@ import numpy as np
 
 from ..common.errors import WaveformError
 from .memory import memory_at_direction
-from .models.fd_modes import PRECESSING, ModeSpectra, mode_spectra, time_modes
+from .models.fd_modes import PRECESSING, is_frequency_domain, ModeSpectra, mode_spectra, time_modes
 from .models.refine import finer_levels
 from .models.series import ModeSeries
-from .source import TimeSignal, circular_layout, lalsimulation_spins, observer_angles, segment_geometry, to_frequency_domain
+from .source import (_INTRINSIC, _SETTINGS, TimeSignal, circular_layout, lalsimulation_spins, observer_angles,
+                     segment_geometry, to_frequency_domain)
+from .source import signal_parts as time_domain_parts
 
 BILBY_KEYS = ("waveform_approximant", "reference_frequency", "minimum_frequency", "maximum_frequency",
               "catch_waveform_errors", "pn_spin_order", "pn_tidal_order", "pn_phase_order", "pn_amplitude_order",
@@ -110,3 +112,20 @@ def oscillatory_polarizations(frequency_array, values: dict, settings: dict) -> 
         raise WaveformError(f"waveform model '{settings['waveform_approximant']}' could not generate masses "
                             f"{values['mass_1']:g} and {values['mass_2']:g} solar masses with these settings")
     return polarizations
+
+
+def signal_parts(frequency_array, cache=None, **parameters) -> dict:
+    """:func:`.source.signal_parts` for every model: frequency-domain mode models here, the others there."""
+    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
+    if not is_frequency_domain(settings["waveform_approximant"]):
+        return time_domain_parts(frequency_array, cache=cache, **parameters)
+    if not float(parameters.get("luminosity_distance", 0.0)) > 0:
+        raise WaveformError("the luminosity distance must be positive")
+    values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
+    if cache is None:
+        return frequency_parts(frequency_array, parameters, dict(parameters, **settings), values, None)
+    key = (tuple(values.values()), tuple((k, str(v)) for k, v in settings.items()), frequency_array.size,
+           float(frequency_array[-1]))
+    return cache._recall(cache.parts, key, lambda: frequency_parts(frequency_array, parameters,
+                                                                    dict(parameters, **settings), values, cache),
+                         cache.parts_size)

@@ -12,7 +12,8 @@ import logging
 import bilby
 
 from ..common.errors import WaveformError
-from .source import SourceCache, memory_binary_black_hole, signal_parts
+from .frequency_source import signal_parts
+from .source import SourceCache, memory_binary_black_hole
 
 logger = logging.getLogger("memory_infer")
 

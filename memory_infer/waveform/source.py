@@ -272,10 +272,8 @@ def _parts(frequency_array, parameters, cache):
         raise WaveformError("the luminosity distance must be positive")
     settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
     if is_frequency_domain(settings["waveform_approximant"]):
-        from .frequency_source import frequency_parts
-
-        values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
-        return frequency_parts(frequency_array, parameters, dict(parameters, **settings), values, cache)
+        raise WaveformError(f"waveform model '{settings['waveform_approximant']}' gives frequency-domain modes: use "
+                            "memory_infer.waveform.frequency_source.signal_parts (the generator does)")
     n_buffer, delta_t = segment_geometry(frequency_array)
     settings, values, inclination, series = _source(frequency_array, parameters, cache)
     signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]),
