@@ -9,13 +9,14 @@ rate does not resolve it (:mod:`.models.refine`), and laid on the segment like t
 """
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..common.errors import WaveformError
 from .memory import memory_at_direction
-from .models.fd_modes import PRECESSING, is_frequency_domain, ModeSpectra, mode_spectra, time_modes
+from .models.fd_modes import MEMORY_LEAD, PRECESSING, is_frequency_domain, ModeSpectra, mode_spectra, time_modes
 from .models.refine import finer_levels
 from .models.series import ModeSeries
 from .source import (_INTRINSIC, _SETTINGS, TimeSignal, circular_layout, lalsimulation_spins, observer_angles,
@@ -36,17 +37,22 @@ class FrequencyModes:
 
 
 def frequency_modes(approximant, mass_1, mass_2, delta_t, minimum_frequency, spin_1, spin_2, reference_frequency,
-                    inclination, phase, duration, mode_list=None, finer_for_memory=True) -> FrequencyModes:
-    """Modes at 1 Mpc on the data's step ``delta_t``, and finer levels of the merger for the memory's flux."""
+                    inclination, phase, duration, mode_list=None, finer_for_memory=True,
+                    memory_lead=MEMORY_LEAD) -> FrequencyModes:
+    """Modes at 1 Mpc on the data's step ``delta_t``, and finer levels of the merger for the memory's flux
+    (``memory_lead`` as in :func:`.models.fd_modes.mode_spectra`)."""
     spectra = mode_spectra(approximant, mass_1, mass_2, 1.0, minimum_frequency, spin_1, spin_2,
-                           reference_frequency, inclination, phase, duration, mode_list)
+                           reference_frequency, inclination, phase, duration, mode_list, memory_lead)
     series = time_modes(spectra, delta_t)
 
     def generate(step, start, reference):
         return time_modes(spectra, step, start_frequency=start if start > minimum_frequency * 1.0001 else None)
 
     if finer_for_memory:
-        series.finer = finer_levels(series, generate, minimum_frequency, reference_frequency)
+        # every level is cut from the same spectra, so a level's later start is exact for precessing spins too:
+        # refine's late-start ladder applies (its full-length path exists for models regenerated from a later start)
+        ladder = dataclasses.replace(series, aligned_spins=True)
+        series.finer = finer_levels(ladder, generate, minimum_frequency, reference_frequency)
     return FrequencyModes(series=series, spectra=spectra)
 
 

@@ -40,6 +40,11 @@ FD_MODELS = ("IMRPhenomXHM", "IMRPhenomXPHM")
 PRECESSING = {"IMRPhenomXPHM"}
 CUTOFF = 0.3  # the (2, 2) mode's internal cutoff of the IMRPhenomX family, M f (lalsimulation)
 EXTRA_TIME_FRACTION, EXTRA_CYCLES = 0.1, 3.0  # lalsimulation's SimInspiralFD conditioning
+# The modes for the memory start this long (s, lalsimulation's chirp time bound) before the merger, or at the
+# minimum frequency if that is later: the memory's in-band content comes from the late inspiral and merger, the
+# earlier inspiral only adds a slow ramp below the band (its accumulated memory is the leading-order constant
+# at the first sample). Checked against modes from the minimum frequency in tests/waveform/test_frequency_source.py.
+MEMORY_LEAD = 1.0
 
 
 @dataclass
@@ -83,8 +88,12 @@ def time_bounds(mass_1, mass_2, spin_1z, spin_2z, minimum_frequency):
 
 
 def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequency, spin_1, spin_2,
-                 reference_frequency, inclination, phase, duration, mode_list=None) -> ModeSpectra:
-    """The conditioned spectra of one binary (see the module docstring); ``duration`` (s) is the shortest buffer."""
+                 reference_frequency, inclination, phase, duration, mode_list=None,
+                 memory_lead: float | None = MEMORY_LEAD) -> ModeSpectra:
+    """The conditioned spectra of one binary (see the module docstring); ``duration`` (s) is the shortest buffer.
+
+    ``memory_lead`` (s): start the modes that long before the merger when that is after the minimum frequency
+    (``MEMORY_LEAD``); None starts them at the minimum frequency."""
     lal, lalsim = _lal()
     spin_1, spin_2 = np.asarray(spin_1, float), np.asarray(spin_2, float)
     if not (mass_1 > 0 and mass_2 > 0 and luminosity_distance > 0):
@@ -93,6 +102,10 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
     aligned = bool(np.allclose(spin_1[:2], 0) and np.allclose(spin_2[:2], 0))
     if not precessing and not aligned:
         raise WaveformError(f"waveform model '{approximant}' takes aligned spins only; use IMRPhenomXPHM")
+    if memory_lead:
+        later = lalsim.SimInspiralChirpStartFrequencyBound(float(memory_lead), mass_1 * lal.MSUN_SI,
+                                                            mass_2 * lal.MSUN_SI)
+        minimum_frequency = max(float(minimum_frequency), float(later))
     start, lead, tail = time_bounds(mass_1, mass_2, spin_1[2], spin_2[2], minimum_frequency)
     length = max(float(duration), lead + tail)
     delta_f = 1.0 / 2 ** np.ceil(np.log2(length))

@@ -27,7 +27,8 @@ def lalsimulation_polarizations(approximant, spin_1, spin_2, delta_f, f_max, inc
 def test_mode_sum_reproduces_lalsimulation_polarizations(approximant, spin_1, spin_2):
     # reference library: lalsimulation SimInspiralChooseFDWaveform (tolerance 1e-6 relative, CHECKS of the project)
     inclination, phase = 0.8, 1.1
-    spectra = mode_spectra(approximant, 30.0, 20.0, 400.0, 20.0, spin_1, spin_2, 20.0, inclination, phase, 4.0)
+    spectra = mode_spectra(approximant, 30.0, 20.0, 400.0, 20.0, spin_1, spin_2, 20.0, inclination, phase, 4.0,
+                           memory_lead=None)
     if approximant == "IMRPhenomXHM":  # modes at phi_ref = 0, observer at (inclination, pi/2 - phase)
         ours = polarizations(spectra, *observer_angles(inclination, phase))
     else:  # J-frame modes, observer at (thetaJN, 0), polarizations turned by 2 zeta
