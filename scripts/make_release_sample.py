@@ -15,10 +15,11 @@ import sys
 import bilby
 import h5py
 import numpy as np
+import pandas as pd
 
 START, DURATION, RATE, SEED = 1_000_000_000.0, 4.0, 1024.0, 7
 MODEL = "IMRPhenomXHM"
-TRUTH = dict(mass_1=36.0, mass_2=29.0, luminosity_distance=900.0, a_1=0.2, a_2=0.1, tilt_1=0.0, tilt_2=0.0,
+TRUTH = dict(mass_1=36.0, mass_2=29.0, luminosity_distance=1300.0, a_1=0.2, a_2=0.1, tilt_1=0.0, tilt_2=0.0,
              phi_12=0.0, phi_jl=0.0, theta_jn=0.6, phase=1.2, ra=1.0, dec=0.2, psi=0.3, geocent_time=START + 2.0)
 ARGUMENTS = dict(waveform_approximant=MODEL, reference_frequency=20.0, minimum_frequency=20.0)
 
@@ -77,20 +78,22 @@ def main(outdir):
     result = bilby.run_sampler(likelihood, priors, sampler="dynesty", nlive=60, naccept=10, sample="acceptance-walk",
                                outdir=os.path.join(outdir, "run"), label="release", seed=SEED, npool=1,
                                conversion_function=bilby.gw.conversion.generate_all_bbh_parameters,
-                               save=False, plot=False, resume=False, check_point=False)
+                               save=False, plot=False, resume=True)
+    # the sampler's own working files stay out of the fixture: only the release and the strain are kept
     posterior = result.posterior
-    columns = [c for c in posterior.columns if np.issubdtype(posterior[c].dtype, np.number)]
+    columns = [c for c in posterior.columns if pd.api.types.is_numeric_dtype(posterior[c])
+               and not pd.api.types.is_complex_dtype(posterior[c])]  # complex matched-filter SNRs stay out
     from pesummary.io import write
 
     label = f"C01:{MODEL}"
     psds = {label: {d.name: np.column_stack([d.frequency_array[1:], d.power_spectral_density_array[1:]]).tolist()
                     for d in detectors}}
-    write(columns, posterior[columns].to_numpy().T.tolist(), file_format="pesummary", outdir=outdir, label=label,
+    write(columns, posterior[columns].to_numpy().tolist(), file_format="pesummary", outdir=outdir, label=label,
           filename="release.h5", psd=psds, approximant={label: MODEL},
           config={label: {"config": {"reference-frequency": "20.0", "waveform-approximant": MODEL,
                                      "duration": str(DURATION), "sampling-frequency": str(RATE)}}},
           file_kwargs={label: {"sampler": {"nsamples": len(posterior)},
-                               "meta_data": {"f_ref": 20.0, "approximant": MODEL}}}, overwrite=True)
+                               "meta_data": {"f_ref": 20.0, "approximant": MODEL}}})
     print(f"{len(posterior)} samples written to {os.path.join(outdir, 'release.h5')}")
 
 

@@ -92,7 +92,7 @@ def frequency_parts(frequency_array, parameters: dict, settings: dict, values: d
 
     def make():
         angles = observer_key or (0.0, 0.0)
-        return frequency_modes(*arguments[:8], *angles, n_buffer * delta_t, mode_list)
+        return frequency_modes(*arguments[:8], *angles, 0.0, mode_list)
 
     modes = make() if cache is None else cache._recall(cache.modes, arguments + (mode_list,), make, cache.modes_size)
     memory = memory_strain(modes, inclination, values["phase"], bool(settings["early_inspiral_memory"]))

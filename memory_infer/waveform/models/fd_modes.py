@@ -90,7 +90,8 @@ def time_bounds(mass_1, mass_2, spin_1z, spin_2z, minimum_frequency):
 def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequency, spin_1, spin_2,
                  reference_frequency, inclination, phase, duration, mode_list=None,
                  memory_lead: float | None = MEMORY_LEAD) -> ModeSpectra:
-    """The conditioned spectra of one binary (see the module docstring); ``duration`` (s) is the shortest buffer.
+    """The conditioned spectra of one binary (see the module docstring); ``duration`` (s) is the shortest buffer
+    (0: just long enough for the signal).
 
     ``memory_lead`` (s): start the modes that long before the merger when that is after the minimum frequency
     (``MEMORY_LEAD``); None starts them at the minimum frequency."""
@@ -107,7 +108,7 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
                                                             mass_2 * lal.MSUN_SI)
         minimum_frequency = max(float(minimum_frequency), float(later))
     start, lead, tail = time_bounds(mass_1, mass_2, spin_1[2], spin_2[2], minimum_frequency)
-    length = max(float(duration), lead + tail)
+    length = max(float(duration), 1.25 * (lead + tail))  # the whole signal, a quarter spare against wrap-around
     delta_f = 1.0 / 2 ** np.ceil(np.log2(length))
     mass_s = (mass_1 + mass_2) * SOLAR_MASS_SECONDS
     top = 1.05 * CUTOFF / mass_s  # every mode's spectrum ends at the model's cutoff (checked in the tests)
