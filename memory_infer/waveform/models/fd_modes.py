@@ -45,6 +45,7 @@ EXTRA_TIME_FRACTION, EXTRA_CYCLES = 0.1, 3.0  # lalsimulation's SimInspiralFD co
 # earlier inspiral only adds a slow ramp below the band (its accumulated memory is the leading-order constant
 # at the first sample). Checked against modes from the minimum frequency in tests/waveform/test_frequency_source.py.
 MEMORY_LEAD = 1.0
+START_AMPLITUDE = 0.01  # the time-domain modes begin where the (2, 2) mode first reaches this fraction of its peak
 
 
 @dataclass
@@ -187,6 +188,9 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
         modes[key] = series[index % n_time]
     times = index * delta_t
     key = (2, 2) if (2, 2) in modes else (2, -2)
+    if key in modes:  # the samples before the conditioned start hold only the transform's ringing: dropped
+        first = int(np.argmax(np.abs(modes[key]) >= START_AMPLITUDE * np.abs(modes[key]).max()))
+        times, modes = times[first:], {k: v[first:] for k, v in modes.items()}
     if start_frequency is not None and key in modes:
         h = modes[key]
         step = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * delta_t)
