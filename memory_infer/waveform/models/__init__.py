@@ -2,7 +2,8 @@
 
 ``generate_modes(approximant, ...)`` picks the adapter: ``LeadingOrderInspiral`` is the
 analytic (2, +-2) inspiral of :mod:`.analytic`; every other name goes to lalsimulation's
-``SimInspiralChooseTDModes`` (:mod:`.lal_modes`).
+``SimInspiralChooseTDModes`` (:mod:`.lal_modes`). Frequency-domain mode models (:mod:`.fd_modes`) are used by
+the source model through :mod:`memory_infer.waveform.frequency_source`, not here.
 """
 from __future__ import annotations
 
@@ -11,7 +12,8 @@ from .series import ModeSeries
 from . import analytic, fd_modes, lal_modes
 from .refine import finer_levels
 
-SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", *fd_modes.FD_MODELS, analytic.NAME)
+SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", analytic.NAME)  # time-domain modes
+FREQUENCY_DOMAIN = fd_modes.FD_MODELS  # frequency-domain modes: through the source model only (frequency_source)
 DEFAULT_APPROXIMANT = "IMRPhenomTHM"
 
 
@@ -29,8 +31,9 @@ def generate_modes(approximant: str, mass_1: float, mass_2: float, luminosity_di
     """
     reference_frequency = reference_frequency or minimum_frequency
     if fd_modes.is_frequency_domain(approximant):
-        raise WaveformError(f"waveform model '{approximant}' gives frequency-domain modes; it is used through the "
-                            "source model (memory_infer.waveform.frequency_source), not as time-domain modes")
+        raise WaveformError(f"waveform model '{approximant}' gives frequency-domain modes, which only the likelihood's "
+                            "source model uses (memory-infer evidence); here choose a time-domain model such as "
+                            "IMRPhenomTHM")
 
     def generate(step, start, reference):
         if approximant == analytic.NAME:
@@ -53,4 +56,5 @@ def takes_precessing_spins(approximant: str) -> bool:
     return lal_modes.spin_support(approximant) == "precessing"
 
 
-__all__ = ["ModeSeries", "generate_modes", "takes_precessing_spins", "SUPPORTED", "DEFAULT_APPROXIMANT"]
+__all__ = ["ModeSeries", "generate_modes", "takes_precessing_spins", "SUPPORTED", "FREQUENCY_DOMAIN",
+           "DEFAULT_APPROXIMANT"]
