@@ -18,6 +18,7 @@ from ..inputs.readers import is_release, read_sample_file
 from ..inputs.release_settings import apply_release_settings, read_release_settings, samples_stand_in_priors
 from ..inputs.samples import usable_samples
 from ..waveform.generator import segment_note, waveform_generator
+from ..waveform.models import DEFAULT_APPROXIMANT
 from .hypotheses import hypothesis_priors
 from .likelihood import MemoryTransient
 from .methods import REGISTRY
@@ -68,6 +69,7 @@ class EventSetup:
     def settings_fingerprint(self) -> dict:
         config = self.config
         return {"approximant": config["model"]["approximant"],
+                "approximant_from": config["model"].get("approximant_from", "configuration"),
                 "reference_frequency": config["model"]["reference_frequency"],
                 "reference_frequency_from": config["model"].get("reference_frequency_from", "configuration"),
                 "early_inspiral_memory": config["model"]["early_inspiral_memory"],
@@ -108,6 +110,7 @@ def prepare(config: dict) -> EventSetup:
     resolve_reference_frequency(config, file_settings, column_settings or {})
     if origins.get("reference_frequency") not in (None, "configuration", "default"):
         config["model"]["reference_frequency_from"] = origins["reference_frequency"]
+    resolve_model(config, file_settings, column_settings or {}, origins.get("waveform_model"))
     arguments = waveform_arguments(config)
     generator = waveform_generator(float(data["duration"]), float(data["sampling_rate"]), float(data["start_time"]),
                                    arguments)
@@ -180,6 +183,26 @@ def resolve_reference_frequency(config: dict, file_settings: dict, column_settin
     else:
         model["reference_frequency"] = DEFAULT_REFERENCE_FREQUENCY
         model["reference_frequency_from"] = "default"
+
+
+def resolve_model(config: dict, file_settings: dict, column_settings: dict, release_origin: str | None = None) -> None:
+    """``[model] approximant`` when given; else the samples file's own model (its metadata, then its columns), so
+    that a release is reweighted with the model it was drawn with; else IMRPhenomTHM. Recorded in
+    ``config["model"]["approximant_from"]``; ``release_origin`` is where a release's settings put the model."""
+    model = config["model"]
+    if model.get("approximant") and release_origin not in (None, "default", "configuration"):
+        model["approximant_from"] = f"the release ({release_origin})"
+    elif model.get("approximant"):
+        model["approximant_from"] = "configuration"
+    elif file_settings.get("waveform_model"):
+        model["approximant"] = str(file_settings["waveform_model"])
+        model["approximant_from"] = "the samples file's metadata"
+    elif column_settings.get("waveform_approximant"):
+        model["approximant"] = str(column_settings["waveform_approximant"])
+        model["approximant_from"] = "the samples file's columns"
+    else:
+        model["approximant"] = DEFAULT_APPROXIMANT
+        model["approximant_from"] = "default"
 
 
 def check_prior_spins(approximant: str, priors) -> None:

@@ -27,7 +27,7 @@ EVIDENCE_SCHEMA = {
     },
     "injection": {"*": (NUMBER, None)},
     "model": {
-        "approximant": (str, "IMRPhenomTHM"), "reference_frequency": (NUMBER, None),
+        "approximant": (str, None), "reference_frequency": (NUMBER, None),
         "minimum_frequency": (NUMBER, None), "early_inspiral_memory": (bool, True),
         "memory_taper": (NUMBER, 1.0), "modes": (list, None),
     },

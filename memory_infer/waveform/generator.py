@@ -12,7 +12,9 @@ import logging
 import bilby
 
 from ..common.errors import WaveformError
-from .source import SourceCache, memory_binary_black_hole, signal_parts, signal_strain
+from .frequency_source import signal_parts
+from .models.fd_modes import is_frequency_domain
+from .source import DEFAULT_APPROXIMANT, SourceCache, memory_binary_black_hole, signal_strain
 
 logger = logging.getLogger("memory_infer")
 
@@ -60,6 +62,11 @@ class MemoryWaveformGenerator(bilby.gw.WaveformGenerator):
         if model is not memory_binary_black_hole:
             return super()._strain_from_model(model_data_points, model, parameters)
         amplitude = float(parameters.get("memory_amplitude", 1.0))
+        if is_frequency_domain(parameters.get("waveform_approximant", DEFAULT_APPROXIMANT)):
+            oscillatory, memory = self._parts(parameters)  # the model's own polarizations plus A x memory
+            if oscillatory is None:
+                return None
+            return {k: oscillatory[k] + amplitude * memory[k] for k in oscillatory}
         try:  # bilby has converted the parameters already; one transform of oscillatory + A x memory
             return signal_strain(self.frequency_array, amplitude, cache=self.source_cache, **parameters)
         except WaveformError as error:

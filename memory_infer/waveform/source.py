@@ -20,6 +20,7 @@ import numpy as np
 from ..common.errors import WaveformError
 from .memory import memory_at_direction
 from .models import DEFAULT_APPROXIMANT, ModeSeries, generate_modes
+from .models.fd_modes import is_frequency_domain
 from .sphere import HarmonicSet
 
 logger = logging.getLogger("memory_infer")
@@ -149,6 +150,8 @@ def truncated_start_frequency(series: ModeSeries, n_buffer: int, taper_duration:
 def segment_note(frequency_array, band_start: float, cache: SourceCache | None = None, **parameters) -> str | None:
     """One sentence when the segment is too short to hold the model's in-band inspiral, else None."""
     n_buffer, _ = segment_geometry(frequency_array)
+    if is_frequency_domain(parameters.get("waveform_approximant", DEFAULT_APPROXIMANT)):
+        return None  # the model's own frequency-domain signal; the memory keeps what a dropped start accumulated
     settings, _, _, series = _source(frequency_array, parameters, cache)
     start = truncated_start_frequency(series, n_buffer, float(settings["memory_taper_duration"]))
     if start is None or start <= band_start:
@@ -276,6 +279,10 @@ def _layout(frequency_array, parameters, cache):
     """(oscillatory buffer, memory buffer or None, shift, delta_t), scaled to the distance (SI)."""
     if not float(parameters.get("luminosity_distance", 0.0)) > 0:
         raise WaveformError("the luminosity distance must be positive")
+    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
+    if is_frequency_domain(settings["waveform_approximant"]):
+        raise WaveformError(f"waveform model '{settings['waveform_approximant']}' gives frequency-domain modes: use "
+                            "memory_infer.waveform.frequency_source.signal_parts (the generator does)")
     n_buffer, delta_t = segment_geometry(frequency_array)
     settings, values, inclination, series = _source(frequency_array, parameters, cache)
     signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]),

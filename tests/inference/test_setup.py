@@ -23,3 +23,18 @@ def test_unknown_method_and_fixed_distance_with_marginalization_are_refused(tmp_
     config = load_evidence_config(event_config(tmp_path, name="b.toml", likelihood="distance_marginalization = true"))
     with pytest.raises(MemoryInferError, match="distance marginalization needs a distance prior"):
         prepare(config).likelihood("none")
+
+
+def test_model_from_configuration_then_the_samples_file_then_default():
+    from memory_infer.inference.setup import resolve_model
+
+    cases = [({"approximant": "IMRPhenomTPHM"}, {"waveform_model": "IMRPhenomXPHM"}, {}, "IMRPhenomTPHM", "configuration"),
+             ({"approximant": None}, {"waveform_model": "IMRPhenomXPHM"}, {"waveform_approximant": "IMRPhenomXHM"},
+              "IMRPhenomXPHM", "the samples file's metadata"),
+             ({"approximant": None}, {}, {"waveform_approximant": "IMRPhenomXHM"}, "IMRPhenomXHM",
+              "the samples file's columns"),
+             ({"approximant": None}, {}, {}, "IMRPhenomTHM", "default")]
+    for model, metadata, columns, expected, origin in cases:
+        config = {"model": dict(model)}
+        resolve_model(config, metadata, columns)
+        assert config["model"]["approximant"] == expected and config["model"]["approximant_from"] == origin

@@ -2,15 +2,18 @@
 
 ``generate_modes(approximant, ...)`` picks the adapter: ``LeadingOrderInspiral`` is the
 analytic (2, +-2) inspiral of :mod:`.analytic`; every other name goes to lalsimulation's
-``SimInspiralChooseTDModes`` (:mod:`.lal_modes`).
+``SimInspiralChooseTDModes`` (:mod:`.lal_modes`). Frequency-domain mode models (:mod:`.fd_modes`) are used by
+the source model through :mod:`memory_infer.waveform.frequency_source`, not here.
 """
 from __future__ import annotations
 
+from ...common.errors import WaveformError
 from .series import ModeSeries
-from . import analytic, lal_modes
+from . import analytic, fd_modes, lal_modes
 from .refine import finer_levels
 
-SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", analytic.NAME)
+SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", analytic.NAME)  # time-domain modes
+FREQUENCY_DOMAIN = fd_modes.FD_MODELS  # frequency-domain modes: through the source model only (frequency_source)
 DEFAULT_APPROXIMANT = "IMRPhenomTHM"
 
 
@@ -27,6 +30,10 @@ def generate_modes(approximant: str, mass_1: float, mass_2: float, luminosity_di
     :mod:`.refine`); the modes themselves stay at ``delta_t``.
     """
     reference_frequency = reference_frequency or minimum_frequency
+    if fd_modes.is_frequency_domain(approximant):
+        raise WaveformError(f"waveform model '{approximant}' gives frequency-domain modes, which only the likelihood's "
+                            "source model uses (memory-infer evidence); here choose a time-domain model such as "
+                            "IMRPhenomTHM")
 
     def generate(step, start, reference):
         if approximant == analytic.NAME:
@@ -44,7 +51,10 @@ def takes_precessing_spins(approximant: str) -> bool:
     """Whether the model accepts in-plane spin components (lalsimulation's spin support)."""
     if approximant == analytic.NAME:
         return False
+    if fd_modes.is_frequency_domain(approximant):
+        return approximant in fd_modes.PRECESSING
     return lal_modes.spin_support(approximant) == "precessing"
 
 
-__all__ = ["ModeSeries", "generate_modes", "takes_precessing_spins", "SUPPORTED", "DEFAULT_APPROXIMANT"]
+__all__ = ["ModeSeries", "generate_modes", "takes_precessing_spins", "SUPPORTED", "FREQUENCY_DOMAIN",
+           "DEFAULT_APPROXIMANT"]

@@ -43,8 +43,25 @@ def _quiet(capture: io.StringIO | None):
         lal.swig_redirect_standard_output_error(False)
 
 
+# models of the pyseobnr package: its source package needs the GSL development library to build
+PYSEOBNR_MODELS = ("SEOBNRv5PHM", "SEOBNRv5HM", "SEOBNRv5EHM")
+
+
+def _refuse_pyseobnr(approximant: str) -> None:
+    try:
+        import pyseobnr  # noqa: F401
+    except ImportError:
+        raise WaveformError(f"waveform model '{approximant}' needs the pyseobnr package, which is not installed "
+                            "here (its source package needs the GSL development library to build); use "
+                            "IMRPhenomXPHM or IMRPhenomTPHM instead") from None
+    raise WaveformError(f"waveform model '{approximant}' through pyseobnr is not supported yet; use IMRPhenomXPHM "
+                        "or IMRPhenomTPHM instead")
+
+
 def approximant_number(approximant: str) -> int:
     _, lalsim = _lal()
+    if approximant in PYSEOBNR_MODELS:
+        _refuse_pyseobnr(approximant)
     try:
         with _quiet(None):
             number = lalsim.GetApproximantFromString(str(approximant))

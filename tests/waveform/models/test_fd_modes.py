@@ -1,0 +1,81 @@
+"""lalsimulation's frequency-domain modes (SimInspiralChooseFDModes): conventions pinned against its own
+polarizations (SimInspiralChooseFDWaveform), and the time-domain modes they give."""
+import numpy as np
+import pytest
+
+from memory_infer.common.errors import WaveformError
+from memory_infer.waveform.models import generate_modes, takes_precessing_spins
+from memory_infer.waveform.models.fd_modes import mode_spectra, polarizations, time_modes
+from memory_infer.waveform.source import observer_angles
+
+CASES = [("IMRPhenomXHM", (0, 0, 0.3), (0, 0, -0.2)), ("IMRPhenomXPHM", (0.4, 0.1, 0.3), (0.1, -0.3, -0.2))]
+
+
+def lalsimulation_polarizations(approximant, spin_1, spin_2, delta_f, f_max, inclination, phase, use_modes=False):
+    lal = pytest.importorskip("lal")
+    lalsim = pytest.importorskip("lalsimulation")
+    params = lal.CreateDict()
+    if use_modes:
+        lalsim.SimInspiralWaveformParamsInsertPhenomXPHMUseModes(params, 1)
+    plus, cross = lalsim.SimInspiralChooseFDWaveform(
+        30 * lal.MSUN_SI, 20 * lal.MSUN_SI, *spin_1, *spin_2, 400e6 * lal.PC_SI, inclination, phase, 0, 0, 0,
+        delta_f, 20.0, f_max, 20.0, params, lalsim.GetApproximantFromString(approximant))
+    return np.array(plus.data.data), np.array(cross.data.data)
+
+
+@pytest.mark.parametrize("approximant, spin_1, spin_2", CASES)
+def test_mode_sum_reproduces_lalsimulation_polarizations(approximant, spin_1, spin_2):
+    # reference library: lalsimulation SimInspiralChooseFDWaveform (tolerance 1e-6 relative, CHECKS of the project)
+    inclination, phase = 0.8, 1.1
+    spectra = mode_spectra(approximant, 30.0, 20.0, 400.0, 20.0, spin_1, spin_2, 20.0, inclination, phase, 4.0,
+                           memory_lead=None)
+    if approximant == "IMRPhenomXHM":  # modes at phi_ref = 0, observer at (inclination, pi/2 - phase)
+        ours = polarizations(spectra, *observer_angles(inclination, phase))
+    else:  # J-frame modes, observer at (thetaJN, 0), polarizations turned by 2 zeta
+        ours = polarizations(spectra, spectra.theta, spectra.phi, spectra.rotation)
+    f_max = spectra.delta_f * (ours["plus"].size - 1)
+    # IMRPhenomXPHM's default polarizations twist up on a multibanded grid of Euler angles; lalsimulation's own
+    # polarizations from its modes (PhenomXPHMUseModes = 1) are the exact reference, the default is ~1e-4 off
+    plus, cross = lalsimulation_polarizations(approximant, spin_1, spin_2, spectra.delta_f, f_max, inclination, phase,
+                                              use_modes=approximant == "IMRPhenomXPHM")
+    f = np.arange(plus.size) * spectra.delta_f
+    band = (f > 21.0) & (f < 1000.0)  # above the start taper of the conditioned modes
+    scale = np.max(np.abs(plus[band]))
+    assert np.max(np.abs(ours["plus"][band] - plus[band])) < 1e-6 * scale
+    assert np.max(np.abs(ours["cross"][band] - cross[band])) < 1e-6 * scale
+    if approximant == "IMRPhenomXPHM":
+        plus, _ = lalsimulation_polarizations(approximant, spin_1, spin_2, spectra.delta_f, f_max, inclination, phase)
+        assert np.max(np.abs(ours["plus"][band] - plus[band])) < 1e-3 * scale  # measured 7e-5
+
+
+def test_spectra_end_at_the_model_cutoff_and_time_modes_keep_the_convention():
+    spectra = mode_spectra("IMRPhenomXHM", 30.0, 20.0, 1.0, 20.0, (0, 0, 0.3), (0, 0, -0.2), 20.0, 0.8, 1.1, 4.0)
+    size = spectra.modes[(2, 2)].size
+    f = (np.arange(size) - size // 2) * spectra.delta_f
+    mass_s = 50 * 4.925490947641267e-06
+    for key, spectrum in spectra.modes.items():
+        loud = np.abs(spectrum) > 1e-8 * np.abs(spectrum).max()
+        assert np.max(np.abs(f[loud])) * mass_s < 0.3  # the IMRPhenomX cutoff, below the generated band
+        assert np.all(np.sign(f[loud]) == -np.sign(key[1]))  # h_lm with m > 0 at negative frequencies
+    series = time_modes(spectra, 1 / 4096)
+    # lalsimulation's convention (h_22 = +8 sqrt(pi/5) eta x e^{-2i Phi}): the (2, 2) phase decreases
+    phase = np.unwrap(np.angle(series.modes[(2, 2)]))
+    loud = np.abs(series.modes[(2, 2)]) > 0.1 * np.abs(series.modes[(2, 2)]).max()
+    assert np.all(np.diff(phase)[loud[1:]] < 0)
+    peak = series.times[np.argmax(np.abs(series.modes[(2, 2)]))]
+    assert abs(peak) < 0.01  # the transform's origin is the merger, as in SimInspiralChooseFDWaveform
+    # a finer rate is band-limited interpolation of the same spectra: it agrees on the common samples
+    finer = time_modes(spectra, 1 / 16384)
+    common = np.interp(series.times, finer.times, finer.modes[(2, 2)].real)
+    assert np.max(np.abs(common - series.modes[(2, 2)].real)) < 1e-3 * np.abs(series.modes[(2, 2)]).max()
+
+
+def test_frequency_domain_models_and_refusals():
+    assert takes_precessing_spins("IMRPhenomXPHM") and not takes_precessing_spins("IMRPhenomXHM")
+    with pytest.raises(WaveformError, match="aligned spins only"):
+        mode_spectra("IMRPhenomXHM", 30.0, 20.0, 1.0, 20.0, (0.3, 0, 0), (0, 0, 0), 20.0, 0.8, 1.1, 4.0)
+    with pytest.raises(WaveformError, match="frequency-domain modes"):
+        generate_modes("IMRPhenomXHM", 30.0, 20.0, 400.0, 1 / 4096, 20.0)
+    with pytest.raises(WaveformError, match="pyseobnr") as caught:  # its source package does not build here
+        generate_modes("SEOBNRv5PHM", 30.0, 20.0, 400.0, 1 / 4096, 20.0)
+    assert "\n" not in str(caught.value)
