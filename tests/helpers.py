@@ -202,3 +202,24 @@ def without_wall_times(value):
     if isinstance(value, list):
         return [without_wall_times(v) for v in value]
     return value
+
+
+def equal_to_rounding(first, second, relative=1e-10, path="", absolute=1e-10) -> None:
+    """Assert two JSON-like values equal, floats to ``relative`` or ``absolute`` (small ln BF from cancelling
+    terms keep only absolute digits; a process elsewhere, such as a batch job, may round
+    the last bits of vectorized sums differently: numpy's summation order follows memory alignment)."""
+    import math
+
+    if isinstance(first, dict) and isinstance(second, dict):
+        assert set(first) == set(second), f"{path}: keys {sorted(set(first) ^ set(second))} differ"
+        for key in first:
+            equal_to_rounding(first[key], second[key], relative, f"{path}/{key}", absolute)
+    elif isinstance(first, (list, tuple)) and isinstance(second, (list, tuple)):
+        assert len(first) == len(second), f"{path}: lengths {len(first)} and {len(second)}"
+        for index, (a, b) in enumerate(zip(first, second)):
+            equal_to_rounding(a, b, relative, f"{path}[{index}]", absolute)
+    elif isinstance(first, float) and isinstance(second, (float, int)) and not isinstance(second, bool):
+        assert (math.isnan(first) and math.isnan(second)) or math.isclose(first, second, rel_tol=relative,
+                                                                          abs_tol=absolute), f"{path}: {first} != {second}"
+    else:
+        assert first == second, f"{path}: {first!r} != {second!r}"
