@@ -15,7 +15,7 @@ from memory_infer.campaign.executors import InlineExecutor, ProcessExecutor, exe
 from memory_infer.campaign.store import RecordStore
 from memory_infer.common.errors import MemoryInferError
 
-from helpers import INJECTIONS, campaign_config, run_store, stored
+from helpers import INJECTIONS, campaign_config, equal_to_rounding, run_store, stored
 
 
 def test_kill_and_resume_gives_every_injection_once(tmp_path):
@@ -54,7 +54,7 @@ def test_local_pool_and_dask_cluster_agree(tmp_path):
     finally:
         cluster.close()
     assert code == 0
-    assert stored(tmp_path / "dask") == local
+    equal_to_rounding(stored(tmp_path / "dask"), local)  # another process: the last bits may round differently
 
 
 def session_processes(session: int) -> list:
