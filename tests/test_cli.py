@@ -10,7 +10,8 @@ def test_every_command_has_its_parser():
 def _minimal(name):
     return {"waveform": ["waveform"], "evidence": ["evidence", "c.toml", "--outdir", "o"],
             "combine": ["combine", "r", "--outdir", "o"], "campaign": ["campaign", "c.toml", "--outdir", "o"],
-            "rank": ["rank", "t.csv"], "report": ["report", "r.json"], "demo": ["demo"]}[name]
+            "rank": ["rank", "t.csv"], "report": ["report", "r.json"], "demo": ["demo"],
+            "catalog": ["catalog", "c.toml", "--outdir", "o"]}[name]
 
 
 def test_bad_input_is_one_sentence_and_exit_two(tmp_path, capsys):

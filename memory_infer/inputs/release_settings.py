@@ -147,12 +147,13 @@ def apply_release_settings(config: dict, found: dict) -> dict:
     if "approximant" in given.get("model", []):
         origins["waveform_model"] = ORIGIN_USER
     elif "waveform_model" in found:
-        from ..waveform.models import SUPPORTED
+        from ..waveform.models import FREQUENCY_DOMAIN, SUPPORTED
 
         name, where = found["waveform_model"]
-        if name not in SUPPORTED:
+        runs = tuple(SUPPORTED) + tuple(FREQUENCY_DOMAIN)
+        if name not in runs:
             raise MemoryInferError(f"the release's model '{name}' ({where}) is not one this tool runs "
-                                   f"({', '.join(SUPPORTED)}); set [model] approximant to choose one")
+                                   f"({', '.join(runs)}); set [model] approximant to choose one")
         model["approximant"] = name
         origins["waveform_model"] = where
     else:

@@ -59,7 +59,7 @@ def test_release_reweighted_with_its_own_model(tmp_path):
     assert main(["evidence", str(tmp_path / "event.toml"), "--outdir", str(tmp_path / "out"), "--quiet"]) == 0
     record = json.loads((tmp_path / "out" / "evidence.json").read_text())
     assert record["settings"]["approximant"] == "IMRPhenomXHM"
-    assert record["settings"]["approximant_from"] == "the samples file's metadata"
+    assert record["settings"]["approximant_from"] == "the release (release.h5: C01:IMRPhenomXHM/approximant)"
     check = next(iter(record["sample_checks"].values()))["mismatch"]
     assert check["spread"] < 0.1  # the release's own ln L reproduced (a constant offset is allowed)
     estimates = [m for m in record["methods"] if m["family"] == "reweighting"]
