@@ -33,7 +33,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ...common.errors import WaveformError
-from .lal_modes import _explain, _lal, _quiet
+from .lal_modes import _explain, _lal, _quiet, waveform_dictionary
 from .series import MEGAPARSEC_METRES, SOLAR_MASS_SECONDS, ModeSeries
 
 FD_MODELS = ("IMRPhenomXHM", "IMRPhenomXPHM")
@@ -114,12 +114,7 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
     mass_s = (mass_1 + mass_2) * SOLAR_MASS_SECONDS
     top = 1.05 * CUTOFF / mass_s  # every mode's spectrum ends at the model's cutoff (checked in the tests)
     f_max = delta_f * 2 ** np.ceil(np.log2(top / delta_f))
-    params = lal.CreateDict()
-    if mode_list:
-        array = lalsim.SimInspiralCreateModeArray()
-        for l, m in mode_list:
-            lalsim.SimInspiralModeArrayActivateMode(array, int(l), int(m))
-        lalsim.SimInspiralWaveformParamsInsertModeArray(params, array)
+    params = waveform_dictionary(mode_list)
     phi_ref = float(phase) if precessing else 0.0
     arguments = (mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2, delta_f, start, f_max,
                  reference_frequency, phi_ref, luminosity_distance * MEGAPARSEC_METRES, float(inclination), params,

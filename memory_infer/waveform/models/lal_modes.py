@@ -94,12 +94,7 @@ def choose_td_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t, m
         if not np.all(np.isfinite(spin)) or np.linalg.norm(spin) > 1:
             raise WaveformError(f"the {label} spin has magnitude above 1 or is not a number")
     number = approximant_number(approximant)
-    params = lal.CreateDict()
-    if mode_list:
-        array = lalsim.SimInspiralCreateModeArray()
-        for l, m in mode_list:
-            lalsim.SimInspiralModeArrayActivateMode(array, int(l), int(m))
-        lalsim.SimInspiralWaveformParamsInsertModeArray(params, array)
+    params = waveform_dictionary(mode_list)
     arguments = (0.0, delta_t, mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2, minimum_frequency,
                  reference_frequency, luminosity_distance * MEGAPARSEC_METRES, params, 5, number)
     try:
@@ -146,3 +141,17 @@ def _explain(approximant, log, error, mass_1, mass_2) -> str:
     detail = last[0].split("):", 1)[-1].strip() if last else str(error)
     return (f"waveform model '{approximant}' could not generate masses {mass_1:g} and {mass_2:g} solar masses "
             f"with these settings ({detail.rstrip('.')})")
+
+
+def waveform_dictionary(mode_list=None):
+    """lalsimulation's waveform-parameter dictionary, with a mode array restricting the modes when given."""
+    import lal
+    import lalsimulation as lalsim
+
+    params = lal.CreateDict()
+    if mode_list:
+        array = lalsim.SimInspiralCreateModeArray()
+        for l, m in mode_list:
+            lalsim.SimInspiralModeArrayActivateMode(array, int(l), int(m))
+        lalsim.SimInspiralWaveformParamsInsertModeArray(params, array)
+    return params
