@@ -201,7 +201,7 @@ def reweighting_vs_bilby(approximant, point_changes=None):
     start = time.perf_counter()
     log_likelihood_grid(likelihood, samples, grid)
     t_sample = (time.perf_counter() - start) / n
-    t_bilby = per_call(lambda i: standard.log_likelihood_ratio(dict(samples.iloc[i % n])), 20)
+    t_bilby = timed(lambda i: standard.log_likelihood_ratio(dict(samples.iloc[i % n])), 20)
     return t_sample / t_bilby, (f"{t_sample * 1e3:.1f} ms per sample vs {t_bilby * 1e3:.1f} ms per bilby "
                                 f"likelihood ({approximant}, 4 s, H1+L1)")
 
