@@ -6,22 +6,44 @@ import os
 
 import numpy as np
 
+from ..inference import methods as registered_methods  # noqa: F401 - importing it describes each method's family
 from ..inputs.population import truncation_warning
 from ..results.campaign import CampaignSummary
-from ..results.estimates import PREFERENCE
+from ..results.methods import DESCRIPTIONS, campaign_columns, preference_order
 
-COLUMN = {"nested": "nested", "reweighting": "reweighting", "two-point": "fast"}  # record column per family
-FULL_KEYS = ("ln_bf_plus_nested", "ln_bf_plus_reweighting")
-QUANTILE_KEYS = ("amplitude_quantile_nested", "amplitude_quantile_reweighting")
+
+def _preferred_columns() -> list:
+    """The record columns of the families the preference rule may choose, in its order."""
+    columns = campaign_columns()
+    return [columns[family] for family in preference_order() if family in columns]
 
 
 def headline_key(records) -> str:
-    """The preferred ln BF+ column present, in the one order of :data:`memory_infer.results.estimates.PREFERENCE`."""
-    for family in PREFERENCE:
-        key = f"ln_bf_plus_{COLUMN[family]}"
+    """The preferred ln BF+ column present, in the preference rule's order of families (each method's
+    description); the last of them when none is present."""
+    columns = _preferred_columns()
+    for column in columns:
+        key = f"ln_bf_plus_{column}"
         if any(r.get(key) is not None for r in records):
             return key
-    return "ln_bf_plus_fast"
+    return f"ln_bf_plus_{columns[-1]}"
+
+
+def full_columns() -> list:
+    """Columns of the families with a Monte-Carlo error (the "full" methods), in registration order."""
+    return [d.column for d in DESCRIPTIONS.values() if d.column is not None and d.monte_carlo_error]
+
+
+def approximate_column() -> str:
+    """The column of the preferred family without a Monte-Carlo error (the approximation campaigns calibrate)."""
+    return next(column for family, column in campaign_columns().items()
+                if family in preference_order() and not DESCRIPTIONS[family].monte_carlo_error)
+
+
+def quantile_columns() -> dict:
+    """``amplitude_quantile_<column>`` -> what it holds, for the families that record it, in registration order."""
+    return {f"amplitude_quantile_{d.column}": d.amplitude_quantile for d in DESCRIPTIONS.values()
+            if d.column is not None and d.amplitude_quantile is not None}
 
 
 def distribution(values) -> dict:
@@ -154,12 +176,10 @@ def pp_test(records, campaign: dict) -> dict:
         return dict(empty, method=f"not run: A was fixed at {campaign['injected_amplitude']}, not drawn from its prior")
     if campaign["noise"] != "gaussian":
         return dict(empty, method="not run: without noise the posterior quantiles are not uniform")
-    for key in QUANTILE_KEYS:
+    for key, method in quantile_columns().items():
         quantiles = [r[key] for r in records if r.get(key) is not None]
         if len(quantiles) >= 5:
             result = kstest(quantiles, "uniform")
-            method = {"amplitude_quantile_reweighting": "reweighted A curve from the A = 0 posterior",
-                      "amplitude_quantile_nested": "nested sampling with A free"}[key]
             return {"ks_pvalue": float(result.pvalue), "ks_statistic": float(result.statistic),
                     "count": len(quantiles), "method": method, "quantiles": quantiles}
     return dict(empty, method="not run: fewer than 5 injections with a reweighting or nested recovery of A")
@@ -167,9 +187,10 @@ def pp_test(records, campaign: dict) -> dict:
 
 def calibration(records) -> dict:
     """Fast (two-point) against full ln BF+ on the injections that have both."""
-    for key in FULL_KEYS:
-        pairs = [(r["ln_bf_plus_fast"], r[key]) for r in records
-                 if r.get(key) is not None and r.get("ln_bf_plus_fast") is not None]
+    fast_key = f"ln_bf_plus_{approximate_column()}"
+    for key in (f"ln_bf_plus_{column}" for column in full_columns()):
+        pairs = [(r[fast_key], r[key]) for r in records
+                 if r.get(key) is not None and r.get(fast_key) is not None]
         if len(pairs) >= 2:
             fast, full = np.asarray(pairs).T
             slope, intercept = np.polyfit(fast, full, 1)

@@ -19,10 +19,12 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from ..common.errors import MemoryInferError
+from ..inference import methods as registered_methods  # noqa: F401 - importing it describes each method's family
 from ..results.catalog import CatalogResult
 from ..results.estimates import (RULE, cumulative_distribution, event_pair, normalized_density, prior_on_grid,
                                  sample_set_name)
 from ..results.event import EventResult
+from ..results.methods import description_of, preference_rank
 from .consistency import expected_versus_observed, leave_one_out
 
 CONSISTENCY_KEYS = ("amplitude_grid", "early_inspiral_memory", "free_amplitude_limits")
@@ -95,15 +97,17 @@ def _select(record: EventResult, source: str) -> EventEntry:
                           memory_snr=snr, source=source)
     if chosen is not None:
         plus, minus = chosen["memory"], chosen["flipped"]
-        curve = None if plus.family == "two-point" else record.amplitude_curve
+        curve = record.amplitude_curve if description_of(plus.family).with_curve else None
         return EventEntry(label, plus.ln_bf, minus.ln_bf, plus.ln_bf_err, plus.ln_bf_err, minus.ln_bf_err,
                           sample_set_name(plus), memory_snr=snr, source=source,
                           curve=None if curve is None else curve.to_dict())
-    unreliable = next((m for m in methods if m.family == "reweighting" and m.numerator == "memory"), None)
+    unreliable = next((m for m in methods if not m.reliable and m.numerator == "memory"
+                       and preference_rank(m.family) is not None), None)
     if unreliable is not None:
-        return EventEntry(label, None, None, None, method="importance reweighting", included=False,
-                          reason=f"too few effective samples ({unreliable.effective_sample_size:.1f})",
-                          memory_snr=snr, source=source)
+        reason = (f"no reliable estimate ({unreliable.note})" if unreliable.effective_sample_size is None else
+                  f"too few effective samples ({unreliable.effective_sample_size:.1f})")
+        return EventEntry(label, None, None, None, method=description_of(unreliable.family).label, included=False,
+                          reason=reason, memory_snr=snr, source=source)
     return EventEntry(label, None, None, None, included=False, reason="failed run: no usable Bayes factor",
                       memory_snr=snr, source=source)
 

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..results.estimates import grid_index
+
 WINDOW = (-0.25, 0.1)  # s around the merger at the geocentre
 SPECTRUM_POINTS = 600  # log-spaced frequencies kept for the spectrum figure
 
@@ -54,4 +56,16 @@ def memory_spectrum(detectors, generator, point, minimum_frequency: float) -> di
         out["detectors"][detector.name] = {"frequency": f[pick].tolist(),
                                            "memory": (2 * np.sqrt(f[pick]) * np.abs(response)).tolist(),
                                            "asd": [None if not np.isfinite(a) else float(a) for a in asd]}
+    return out
+
+
+def importance_weights(grid, tables: dict) -> dict:
+    """Per sample set, each sample's log importance weight ``ln L(A_1) - ln L(a0)`` from its ``(a0, table)``
+    (``table``: ``ln L`` on ``grid``, rows samples), with ``A_1`` = 1 for samples drawn under A = 0 and 0 for any
+    other ``a0``: the weight of the Bayes factor the samples estimate directly."""
+    out = {}
+    for name, (base, table) in tables.items():
+        table = np.asarray(table)
+        target = grid_index(grid, 1.0 if base == 0 else 0.0, exact=False)
+        out[name] = (table[:, target] - table[:, grid_index(grid, base, exact=False)]).tolist()
     return out

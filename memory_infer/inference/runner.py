@@ -1,5 +1,6 @@
-"""One event end to end: the configured evidence methods in the registry's order, the sign bookkeeping,
-the memory SNR at the reference point, the figures' data, and the headline."""
+"""One event end to end: the configured evidence methods in the registry's order, what each found filed into
+the result (estimates, amplitude curve, the weights figure's data, sign proposals ranked by the families'
+preference), the memory SNR at the reference point, the other figures' data, and the headline."""
 from __future__ import annotations
 
 import logging
@@ -7,10 +8,12 @@ import os
 
 from ..common.errors import MemoryInferError
 from ..results.event import EventResult
+from ..results.methods import preference_rank
 from ..waveform.source import EARLY_INSPIRAL_EFFECT
-from .figures import memory_spectrum, whitened_series
+from .figures import importance_weights, memory_spectrum, whitened_series
+from .hypotheses import NONE
 from .likelihood import memory_snr
-from .methods import REGISTRY, RunState
+from .methods import REGISTRY, Found, RunState
 from .setup import EventSetup
 
 logger = logging.getLogger("memory_infer")
@@ -25,8 +28,27 @@ def run_methods(setup: EventSetup, outdir: str, names, label: str, progress: boo
     os.makedirs(os.path.join(outdir, "runs"), exist_ok=True)
     for name, method in REGISTRY.items():
         if name in names:
-            method().run(state)
+            file_found(state, method().run(state))
     return state
+
+
+def file_found(state: RunState, found: Found) -> None:
+    """File what one method found into the event's result: its estimates in order, the A posterior, the first
+    amplitude curve, each sample set's importance weights (figure data), and its sign summaries as candidates
+    ranked by their family's preference rank (the order the preference rule gives families among equal errors;
+    a family without a rank is a cross-check and proposes none)."""
+    result = state.result
+    result.methods.extend(found.estimates)
+    if found.free_amplitude is not None:
+        result.free_amplitude = found.free_amplitude
+    if found.amplitude_curve is not None and result.amplitude_curve is None:
+        result.amplitude_curve = found.amplitude_curve
+    if found.tables:
+        result.figures.setdefault("weights", {}).update(importance_weights(state.setup.grid, found.tables))
+    for family, sign in found.signs.items():
+        rank = preference_rank(family)
+        if rank is not None:
+            state.propose_sign(rank, sign)
 
 
 def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventResult:
@@ -41,7 +63,7 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventRes
     point, where = state.reference_point()
     if point is not None:
         if state.memory_snr is None:
-            plain, _ = setup.likelihood("none", marginalize=False)
+            plain, _ = setup.likelihood(NONE, marginalize=False)
             products = plain.inner_products(point)
             if products is None:
                 raise MemoryInferError("the waveform failed at the chosen parameter point")

@@ -5,8 +5,10 @@ import html
 
 import numpy as np
 
+from ..inference import methods as registered_methods  # noqa: F401 - importing it describes each method's family
 from ..results.estimates import normalized_density
 from ..results.event import EventResult
+from ..results.methods import description_of, family_of
 from .html import figure_to_html, new_figure, number, number_or_undefined, page, table
 
 
@@ -155,10 +157,16 @@ def injection_text(result: EventResult) -> str:
     return text
 
 
+def _monte_carlo(family: str) -> bool:
+    """Whether the family's estimates carry a Monte-Carlo error (a missing one is then shown as undefined)."""
+    description = description_of(family)
+    return bool(description is not None and description.monte_carlo_error)
+
+
 def event_page(result: EventResult) -> str:
     """The per-event report: numbers with errors and methods, then the figures."""
     rows = [(m.method, f"{m.numerator} vs {m.denominator}",
-             number_or_undefined(m.ln_bf, m.ln_bf_err, m.family in ("reweighting", "nested")),
+             number_or_undefined(m.ln_bf, m.ln_bf_err, _monte_carlo(m.family)),
              "" if m.effective_sample_size is None else f"{m.effective_sample_size:.0f} of {m.number_of_samples}",
              "yes" if m.reliable else "NO", m.note) for m in result.methods]
     sections = [("Bayes factors", table(["method", "hypotheses", "ln BF ± error", "effective samples", "usable", "note"], rows))]
@@ -173,7 +181,7 @@ def event_page(result: EventResult) -> str:
                        + _cross_check_text(headline.get("cross_check")) + sections[0][1])
     sign = result.sign
     if sign:
-        undefined = not sign.method.startswith("two-point")
+        undefined = _monte_carlo(family_of(sign.method))
         sections.append(("Sign of the memory", table(
             ["ln BF₊ (A=+1 vs 0)", "ln BF₋ (A=−1 vs 0)", "sign ln BF (+ vs −)", "weight of A = +1 against −1",
              "posterior mass of A > 0 (A free)", "method"],

@@ -11,9 +11,8 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from ..common.errors import MemoryInferError
+from .methods import family_of, preference_order, preference_rank
 
-FAMILIES = ("nested", "reweighting", "two-point", "fixed-point")
-PREFERENCE = ("reweighting", "nested", "two-point")  # order among equal errors, and of campaign columns
 RULE = ("ln BF+ (A = +1 vs 0) and ln BF- (A = -1 vs 0) from one family and one sample set that holds both: "
         "the reliable pair with the smallest Monte-Carlo error on ln BF+ (importance reweighting or nested "
         "sampling); the two-point approximation, which has no error, only when neither is available; ln BF+ "
@@ -31,19 +30,11 @@ class _FromDict:
         return asdict(self)
 
 
-def _family_from_name(method: str) -> str:
-    for prefix, family in (("nested", "nested"), ("importance", "reweighting"), ("two-point", "two-point"),
-                           ("fixed-parameter", "fixed-point")):
-        if method.startswith(prefix):
-            return family
-    return ""
-
-
 @dataclass
 class EvidenceEstimate(_FromDict):
     """One ln Bayes factor with its error and how it was made.
 
-    ``family`` is one of ``FAMILIES``; ``sample_set`` names the posterior samples a reweighting used
+    ``family`` is one described in :mod:`memory_infer.results.methods`; ``sample_set`` names the posterior samples a reweighting used
     and ``base_amplitude`` the A they were drawn under.
     """
 
@@ -62,7 +53,7 @@ class EvidenceEstimate(_FromDict):
 
     def __post_init__(self):
         if not self.family:
-            self.family = _family_from_name(self.method)
+            self.family = family_of(self.method)
         if self.family == "reweighting" and self.base_amplitude is None and "from the A = " in self.method:
             text = self.method.split("from the A = ", 1)[1].split()[0]
             self.base_amplitude = float(text)
@@ -142,9 +133,9 @@ class SignSummary(_FromDict):
 
 def _candidates(methods, numerators):
     """Every complete group ``{numerator: estimate}`` of one family and one sample set, reliable estimates only."""
-    groups = {}
+    groups, families = {}, preference_order()
     for estimate in methods:
-        if estimate.family in PREFERENCE and estimate.denominator == "none" and estimate.reliable \
+        if estimate.family in families and estimate.denominator == "none" and estimate.reliable \
                 and estimate.numerator in numerators:
             groups.setdefault((estimate.family, estimate.sample_set), {}).setdefault(estimate.numerator, estimate)
     return [g for g in groups.values() if all(n in g for n in numerators)]
@@ -153,7 +144,7 @@ def _candidates(methods, numerators):
 def _order(group, numerators):
     first = group[numerators[0]]
     error = first.ln_bf_err if first.ln_bf_err is not None and np.isfinite(first.ln_bf_err) else np.inf
-    return (error, PREFERENCE.index(first.family), -(first.effective_sample_size or 0.0))
+    return (error, preference_rank(first.family), -(first.effective_sample_size or 0.0))
 
 
 def preferred(methods, numerators=("memory",)) -> dict | None:
@@ -161,9 +152,10 @@ def preferred(methods, numerators=("memory",)) -> dict | None:
 
     The rule (``RULE``): only reliable estimates, in groups of one family and one sample set that hold every
     numerator; the group whose first numerator has the smallest error (the two-point approximation has none, so
-    it comes last); among equal errors the order of ``PREFERENCE``, then the most effective samples. A second-
-    generation event's memory ln BF is 1e-3 to 1e-2, below nested sampling's 0.1-0.3, so reweighting (errors
-    ~0.004) is the number that is summed there. Returns ``{numerator: estimate}`` or None when no group has them all.
+    it comes last); among equal errors the families' preference ranks (each method's description,
+    :mod:`memory_infer.results.methods`), then the most effective samples. A second-generation event's memory
+    ln BF is 1e-3 to 1e-2, below nested sampling's 0.1-0.3, so reweighting (errors ~0.004) is the number that is
+    summed there. Returns ``{numerator: estimate}`` or None when no group has them all.
     """
     candidates = _candidates(methods, numerators)
     return min(candidates, key=lambda g: _order(g, numerators)) if candidates else None

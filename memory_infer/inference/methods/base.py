@@ -1,4 +1,5 @@
-"""What an evidence method sees while one event runs, and the interface every method implements."""
+"""What an evidence method sees while one event runs, what it hands back, the interface every method implements,
+and the registry the runner reads (a method registers itself with :func:`register`)."""
 from __future__ import annotations
 
 import logging
@@ -8,7 +9,10 @@ from typing import ClassVar
 import numpy as np
 
 from ...inputs.checks import SOURCE_PARAMETERS
+from ...results.estimates import AmplitudeCurve
 from ...results.event import EventResult
+from ...results.methods import MethodDescription, describe, forget
+from ..hypotheses import FREE, MEMORY, NONE
 
 logger = logging.getLogger("memory_infer")
 
@@ -28,9 +32,9 @@ class RunState:
     outdir: str
     progress: bool
     result: EventResult
-    nested: dict = field(default_factory=dict)  # hypothesis -> bilby Result
+    nested: dict = field(default_factory=dict)  # Hypothesis -> bilby Result
     best_sample: tuple | None = None  # (parameters, where they came from)
-    signs: dict = field(default_factory=dict)  # rank -> SignSummary; the lowest rank wins
+    signs: dict = field(default_factory=dict)  # preference rank of the family -> SignSummary; the lowest wins
     memory_snr: float | None = None
 
     @property
@@ -41,7 +45,7 @@ class RunState:
         self.result.warnings.append(text)
 
     def propose_sign(self, rank: int, summary) -> None:
-        """Sign bookkeeping from one method; rank 0 (amplitude curve) beats 1 (nested) beats 2 (two-point)."""
+        """A candidate sign summary at ``rank`` (its family's preference rank); the first at a rank is kept."""
         self.signs.setdefault(rank, summary)
 
     def reference_point(self):
@@ -53,7 +57,7 @@ class RunState:
             return {k: v for k, v in setup.injection.items() if k != "memory_amplitude"}, "the injection"
         if setup.marginalized:
             return None, None
-        for hypothesis in ("none", "free", "memory"):
+        for hypothesis in (NONE, FREE, MEMORY):
             if hypothesis in self.nested:
                 posterior = self.nested[hypothesis].posterior
                 best = posterior.iloc[int(np.argmax(posterior["log_likelihood"].to_numpy()))]
@@ -68,11 +72,50 @@ class RunState:
         return None, None
 
 
+@dataclass
+class Found:
+    """What one method found on one event; the runner files it into the result.
+
+    ``estimates``: its :class:`~memory_infer.results.estimates.EvidenceEstimate` in order; ``signs``: family ->
+    the sign summary that family's estimates give; ``amplitude_curve``: ``ln <L(A)/L(0)>`` on the grid, if the
+    method has one; ``free_amplitude``: the posterior of A with A free, if run; ``tables``: per sample set, the
+    amplitude the samples were drawn under and their ``ln L - ln L_noise`` on the amplitude grid (rows: samples).
+    """
+
+    estimates: list = field(default_factory=list)
+    signs: dict = field(default_factory=dict)
+    amplitude_curve: AmplitudeCurve | None = None
+    free_amplitude: dict | None = None
+    tables: dict = field(default_factory=dict)
+
+
 class EvidenceMethod:
-    """One way of estimating the Bayes factors of an event. Subclasses set ``name`` and implement
-    :meth:`run`, adding :class:`~memory_infer.results.estimates.EvidenceEstimate` to ``state.result``."""
+    """One way of estimating the Bayes factors of an event. Subclasses set ``name`` (what ``[evidence] methods``
+    lists), ``describes`` (one :class:`~memory_infer.results.methods.MethodDescription` per family of estimates
+    they make) and implement :meth:`run`, returning what they found."""
 
     name: ClassVar[str] = ""
+    describes: ClassVar[tuple] = ()
 
-    def run(self, state: RunState) -> None:
+    def run(self, state: RunState) -> Found:
         raise NotImplementedError
+
+
+STRATEGIES: dict = {}  # name -> EvidenceMethod subclass, in the order registered (the order an event runs them)
+
+
+def register(method: type) -> type:
+    """Class decorator: add an evidence method to the registry and describe its families for the later stages."""
+    if not method.name or not all(isinstance(d, MethodDescription) for d in method.describes):
+        raise TypeError(f"{method.__name__} needs a name and MethodDescription entries in 'describes'")
+    for description in method.describes:
+        describe(description)
+    STRATEGIES[method.name] = method
+    return method
+
+
+def unregister(method: type) -> None:
+    """Take a method and its families out of the registries (for tests that register a toy method)."""
+    STRATEGIES.pop(method.name, None)
+    for description in method.describes:
+        forget(description.family)

@@ -45,10 +45,15 @@ from scipy.special import logsumexp
 
 from ...common.errors import MemoryInferError
 from ...results.estimates import EvidenceEstimate, SignSummary, sign_weight
-from ..likelihood import fixed_point_log_ratio, memory_snr
-from .base import EvidenceMethod, RunState
+from ...results.methods import MethodDescription
+from ..hypotheses import FLIPPED, MEMORY, NONE
+from .base import EvidenceMethod, Found, RunState, register
 
 NOTE = "deterministic approximation at one point: no Monte-Carlo error; its bias is measured by campaigns"
+FIXED_POINT = MethodDescription(family="fixed-point", label="fixed-parameter approximation", preference=None,
+                                column="fixed", monte_carlo_error=False, with_curve=False)
+TWO_POINT = MethodDescription(family="two-point", label="two-point approximation", preference=2, column="fast",
+                              monte_carlo_error=False, with_curve=False)
 
 
 def sign_partner(point: dict) -> dict:
@@ -61,6 +66,8 @@ def sign_partner(point: dict) -> dict:
 
 def fast_estimates(likelihood, point: dict):
     """Fixed-parameter and two-point ln BF (A = +1 and -1 against 0) at ``point``, and the memory SNR."""
+    from ..likelihood import fixed_point_log_ratio, memory_snr  # bilby: loaded when a method runs, not registers
+
     products = likelihood.inner_products(point)
     if products is None:
         raise MemoryInferError("the waveform failed at the chosen parameter point")
@@ -74,14 +81,14 @@ def fast_estimates(likelihood, point: dict):
                      - logsumexp(osc))
     two_minus = float(logsumexp(osc + np.array([curve_here[2] - curve_here[0], curve_partner[2] - curve_partner[0]]))
                       - logsumexp(osc))
-    fixed_name, two_name = "fixed-parameter approximation", "two-point approximation (with the sign-degenerate partner)"
+    fixed_name, two_name = FIXED_POINT.label, f"{TWO_POINT.label} (with the sign-degenerate partner)"
     estimates = [
-        EvidenceEstimate(method=fixed_name, ln_bf=fixed, ln_bf_err=None, note=NOTE, family="fixed-point"),
+        EvidenceEstimate(method=fixed_name, ln_bf=fixed, ln_bf_err=None, note=NOTE, family=FIXED_POINT.family),
         EvidenceEstimate(method=fixed_name, ln_bf=fixed_minus, ln_bf_err=None, numerator="flipped", note=NOTE,
-                         family="fixed-point"),
-        EvidenceEstimate(method=two_name, ln_bf=two_plus, ln_bf_err=None, note=NOTE, family="two-point"),
+                         family=FIXED_POINT.family),
+        EvidenceEstimate(method=two_name, ln_bf=two_plus, ln_bf_err=None, note=NOTE, family=TWO_POINT.family),
         EvidenceEstimate(method=two_name, ln_bf=two_minus, ln_bf_err=None, numerator="flipped", note=NOTE,
-                         family="two-point"),
+                         family=TWO_POINT.family),
     ]
     return estimates, memory_snr(products)
 
@@ -245,27 +252,29 @@ def two_point_draws(terms: dict, injected: float, amplitude: float, size: int, r
     return two_point_value(terms, injected, amplitude, rng.standard_normal((size, basis.shape[1])) @ basis.T)
 
 
+@register
 class FastApproximation(EvidenceMethod):
     """Fixed-parameter and two-point estimates at the run's reference point (the injection, else the
-    best sample of the methods before), without marginalization."""
+    best sample of the methods before), without marginalization. Leaves the memory SNR in ``state``."""
 
     name = "fast"
+    describes = (FIXED_POINT, TWO_POINT)
 
     @staticmethod
     def estimates(likelihood, point: dict):
         """(estimates, memory SNR) at ``point``; used by campaigns at the true parameters too."""
         return fast_estimates(likelihood, point)
 
-    def run(self, state: RunState) -> None:
+    def run(self, state: RunState) -> Found:
         point, _ = state.reference_point()
         if point is None:
-            return
-        plain, _ = state.setup.likelihood("none", marginalize=False)
+            return Found()
+        plain, _ = state.setup.likelihood(NONE, marginalize=False)
         estimates, state.memory_snr = self.estimates(plain, point)
-        state.result.methods.extend(estimates)
-        plus, minus = estimates[2], estimates[3]
-        state.propose_sign(2, SignSummary(
+        plus, minus = (next(e for e in estimates if e.family == TWO_POINT.family and e.numerator == numerator)
+                       for numerator in (MEMORY.name, FLIPPED.name))
+        return Found(estimates=estimates, signs={TWO_POINT.family: SignSummary(
             ln_bf_plus=plus.ln_bf, ln_bf_plus_err=None, ln_bf_minus=minus.ln_bf, ln_bf_minus_err=None,
             ln_bf_sign=plus.ln_bf - minus.ln_bf, ln_bf_sign_err=None,
             weight_plus=sign_weight(plus.ln_bf, minus.ln_bf), method=plus.method,
-            note="from the fast two-point approximation only"))
+            note="from the fast two-point approximation only")})

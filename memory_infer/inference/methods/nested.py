@@ -12,8 +12,13 @@ import numpy as np
 
 from ...common.errors import MemoryInferError
 from ...results.estimates import EvidenceEstimate, SignSummary, sign_weight
-from ..hypotheses import HYPOTHESES
-from .base import EvidenceMethod, RunState
+from ...results.methods import MethodDescription
+from ..hypotheses import FLIPPED, FREE, HYPOTHESES, MEMORY, NONE
+from .base import EvidenceMethod, Found, RunState, register
+
+DESCRIPTION = MethodDescription(
+    family="nested", label="nested sampling", preference=1, column="nested", monte_carlo_error=True,
+    amplitude_quantile="nested sampling with A free")
 
 logger = logging.getLogger("memory_infer")
 
@@ -82,11 +87,11 @@ def nested_bayes_factor(numerator_result, denominator_result, numerator="memory"
     """``ln Z_1 - ln Z_0`` with dynesty's errors added in quadrature."""
     ln_bf = float(numerator_result.log_evidence - denominator_result.log_evidence)
     error = float(np.hypot(numerator_result.log_evidence_err, denominator_result.log_evidence_err))
-    return EvidenceEstimate(method="nested sampling (dynesty through bilby)", ln_bf=ln_bf, ln_bf_err=error,
+    return EvidenceEstimate(method=f"{DESCRIPTION.label} (dynesty through bilby)", ln_bf=ln_bf, ln_bf_err=error,
                             numerator=numerator, denominator=denominator,
                             number_of_samples=int(len(numerator_result.posterior) + len(denominator_result.posterior)),
                             note="ln Z difference of two runs on the same data, priors and sampler settings",
-                            family="nested")
+                            family=DESCRIPTION.family)
 
 
 def sign_from_nested(plus: EvidenceEstimate, minus: EvidenceEstimate, plus_run_error: float,
@@ -103,19 +108,22 @@ def sign_from_nested(plus: EvidenceEstimate, minus: EvidenceEstimate, plus_run_e
                             "errors (the A = 0 run cancels)")
 
 
+@register
 class NestedSampling(EvidenceMethod):
     """Runs ``[evidence] nested_hypotheses`` with ``[sampler]`` settings; seeds are the sampler's seed
-    plus the hypothesis's position in that list."""
+    plus the hypothesis's position in that list. Leaves its runs in ``state.nested`` for later methods."""
 
     name = "nested"
+    describes = (DESCRIPTION,)
 
-    def run(self, state: RunState) -> None:
+    def run(self, state: RunState) -> Found:
         config = state.setup.config
         sampler = config["sampler"]
         outdir = os.path.join(state.outdir, "runs")
-        for index, hypothesis in enumerate(config["evidence"]["nested_hypotheses"]):
-            if hypothesis not in HYPOTHESES:
-                raise MemoryInferError(f"unknown hypothesis '{hypothesis}' in [evidence] nested_hypotheses")
+        for index, name in enumerate(config["evidence"]["nested_hypotheses"]):
+            if name not in HYPOTHESES:
+                raise MemoryInferError(f"unknown hypothesis '{name}' in [evidence] nested_hypotheses")
+            hypothesis = HYPOTHESES[name]
             likelihood, priors = state.setup.likelihood(hypothesis)
             logger.info("%s: nested sampling, hypothesis '%s'", state.label, hypothesis)
             state.nested[hypothesis] = run_nested(
@@ -123,18 +131,18 @@ class NestedSampling(EvidenceMethod):
                 live_points=sampler["live_points"], accepted_walks=sampler["accepted_walks"], pool=sampler["pool"],
                 seed=int(sampler["seed"]) + index, checkpoint_seconds=sampler["checkpoint_seconds"],
                 progress=bool(sampler["progress"]) and state.progress)
-        results = state.nested
-        found = {}
-        for numerator in ("memory", "flipped"):
-            if numerator in results and "none" in results:
-                found[numerator] = nested_bayes_factor(results[numerator], results["none"], numerator, "none")
-                state.result.methods.append(found[numerator])
-        if "free" in results:
-            values = results["free"].posterior["memory_amplitude"].to_numpy()
+        runs, found = state.nested, Found()
+        for numerator in (MEMORY, FLIPPED):
+            if numerator in runs and NONE in runs:
+                found.estimates.append(nested_bayes_factor(runs[numerator], runs[NONE], numerator.name, NONE.name))
+        if FREE in runs:
+            values = runs[FREE].posterior["memory_amplitude"].to_numpy()
             low, median, high = np.quantile(values, [0.05, 0.5, 0.95])
-            state.result.free_amplitude = {"median": float(median), "lower_90": float(low), "upper_90": float(high),
-                                           "method": "nested sampling with A free, equal-weight posterior samples",
-                                           "samples": values.tolist()}
-        if len(found) == 2:
-            state.propose_sign(1, sign_from_nested(found["memory"], found["flipped"], results["memory"].log_evidence_err,
-                                                   results["flipped"].log_evidence_err))
+            found.free_amplitude = {"median": float(median), "lower_90": float(low), "upper_90": float(high),
+                                    "method": "nested sampling with A free, equal-weight posterior samples",
+                                    "samples": values.tolist()}
+        if len(found.estimates) == 2:
+            plus, minus = found.estimates
+            found.signs[DESCRIPTION.family] = sign_from_nested(plus, minus, runs[MEMORY].log_evidence_err,
+                                                               runs[FLIPPED].log_evidence_err)
+        return found

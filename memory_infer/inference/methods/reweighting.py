@@ -19,15 +19,18 @@ import logging
 import numpy as np
 
 from ...common.errors import MemoryInferError, WaveformError
-from ...inputs.calibration import calibration_names, draw_calibration
 from ...results.estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, grid_index, prior_on_grid, sign_weight
 from ...results.estimates import ERROR_UNDEFINED_TEXT as ERROR_UNDEFINED
-from ..hypotheses import HYPOTHESES, hypothesis_name
-from .base import EvidenceMethod, RunState, fixed_values
+from ...results.methods import MethodDescription
+from ..hypotheses import HYPOTHESES, NONE, amplitude_label, fixed_at
+from .base import EvidenceMethod, Found, RunState, fixed_values, register
 
 logger = logging.getLogger("memory_infer")
 
 MINIMUM_FOR_ERROR = 2.0  # effective samples below which the Monte-Carlo error is undefined
+DESCRIPTION = MethodDescription(
+    family="reweighting", label="importance reweighting", preference=0, column="reweighting",
+    monte_carlo_error=True, amplitude_quantile="reweighted A curve from the A = 0 posterior")
 
 
 def sample_labels(samples) -> np.ndarray:
@@ -190,15 +193,15 @@ def reweighting_estimate(log_likelihoods, amplitudes, base_amplitude: float, num
         note += f"; {failed} samples with a failed waveform left out"
     if error is None:
         note += f"; {ERROR_UNDEFINED}"
-    return EvidenceEstimate(method=f"importance reweighting {direction}", ln_bf=float(ln_bf),
+    return EvidenceEstimate(method=f"{DESCRIPTION.label} {direction}", ln_bf=float(ln_bf),
                             ln_bf_err=None if error is None else float(error),
-                            numerator=hypothesis_name(numerator), denominator=hypothesis_name(denominator),
+                            numerator=amplitude_label(numerator), denominator=amplitude_label(denominator),
                             effective_sample_size=float(ess), number_of_samples=n, reliable=reliable, note=note,
-                            family="reweighting", base_amplitude=float(base_amplitude))
+                            family=DESCRIPTION.family, base_amplitude=float(base_amplitude))
 
 
-PROPOSAL = "importance reweighting with the proposal correction (the samples' own likelihood)"
-CALIBRATION_DRAWN = ("importance reweighting, calibration drawn per sample from its prior, with the proposal "
+PROPOSAL = f"{DESCRIPTION.label} with the proposal correction (the samples' own likelihood)"
+CALIBRATION_DRAWN = (f"{DESCRIPTION.label}, calibration drawn per sample from its prior, with the proposal "
                      "correction by ")
 
 
@@ -219,9 +222,9 @@ def proposal_corrected(table, source, grid, minimum_effective_samples: float, la
         note += f"; {ERROR_UNDEFINED}" if error is None else ""
         estimates.append(EvidenceEstimate(method=PROPOSAL, ln_bf=float(ln_bf),
                                           ln_bf_err=None if error is None else float(error),
-                                          numerator=hypothesis_name(numerator), effective_sample_size=float(ess),
-                                          number_of_samples=n, reliable=reliable, note=note, family="reweighting",
-                                          base_amplitude=0.0))
+                                          numerator=amplitude_label(numerator), effective_sample_size=float(ess),
+                                          number_of_samples=n, reliable=reliable, note=note,
+                                          family=DESCRIPTION.family, base_amplitude=0.0))
     curve = AmplitudeCurve(amplitudes=[float(a) for a in grid], ln_mean_ratio=[v[0] for v in values],
                            ln_mean_ratio_err=[v[1] for v in values], effective_sample_size=[v[2] for v in values],
                            base_amplitude=0.0, number_of_samples=n, method=PROPOSAL)
@@ -299,33 +302,38 @@ def sign_from_curve(curve: AmplitudeCurve, free_limits=(-5.0, 5.0)) -> SignSumma
                        mass_above_zero=float(positive / total) if total > 0 else 0.5)
 
 
+@register
 class Reweighting(EvidenceMethod):
     """Reweights the nested runs named in ``[evidence] reweight_from`` and the samples of ``samples_file``
-    (at most ``max_reweight_samples`` of each, drawn with the sampler's seed)."""
+    (at most ``max_reweight_samples`` of each, drawn with the sampler's seed). Leaves the best no-memory fit
+    among the samples in ``state`` for later methods."""
 
     name = "reweighting"
+    describes = (DESCRIPTION,)
 
-    def run(self, state: RunState) -> None:
+    def run(self, state: RunState) -> Found:
+        from ...inputs.calibration import calibration_names, draw_calibration  # bilby: loaded when run
+
         setup = state.setup
         evidence, seed = setup.config["evidence"], int(setup.config["sampler"]["seed"])
         sample_sets = {}
-        for hypothesis in evidence["reweight_from"]:
+        for name in evidence["reweight_from"]:
+            hypothesis = HYPOTHESES.get(name)
             if hypothesis in state.nested:
-                sample_sets[hypothesis] = (state.nested[hypothesis].posterior, HYPOTHESES[hypothesis], None)
+                sample_sets[hypothesis.name] = (state.nested[hypothesis].posterior, hypothesis.amplitude, None)
         if setup.external_samples is not None:
             amplitude = float(evidence["samples_amplitude"])
-            sample_sets[f"file ({hypothesis_name(amplitude)})"] = (
+            sample_sets[f"file ({amplitude_label(amplitude)})"] = (
                 setup.external_samples, amplitude, setup.external_settings.get("log_likelihood_column"))
         if not sample_sets:
             state.warn("reweighting asked for, but there are no posterior samples (run 'nested' for the "
                        "'none' or 'memory' hypothesis, or give samples_file)")
         limit, minimum = int(evidence["max_reweight_samples"]), float(evidence["minimum_effective_samples"])
-        grid = setup.grid
+        grid, found = setup.grid, Found()
         for name, (frame, base, column) in sample_sets.items():
             if len(frame) > limit:
                 frame = frame.sample(n=limit, random_state=seed)
-            hypothesis = hypothesis_name(base) if hypothesis_name(base) in HYPOTHESES else "none"
-            likelihood, _ = setup.likelihood(hypothesis)
+            likelihood, _ = setup.likelihood(fixed_at(base) or NONE)
             logger.info("%s: reweighting %d samples drawn under A = %g", state.label, len(frame), base)
             labels = sample_labels(frame)
             missing = [n for n in calibration_names(likelihood.priors) if n not in frame.columns]
@@ -367,25 +375,23 @@ class Reweighting(EvidenceMethod):
             for estimate in estimates:
                 estimate.method += f" [{name}]"
                 estimate.sample_set = name
-                state.result.methods.append(estimate)
+                found.estimates.append(estimate)
                 if not estimate.reliable:
                     state.warn(f"{state.label}: {estimate.note}")
-            index_one = grid_index(grid, 1.0 if base == 0 else 0.0, exact=False)
-            base_index = grid_index(grid, base, exact=False)
-            state.result.figures.setdefault("weights", {})[name] = (table[:, index_one] - table[:, base_index]).tolist()
+            found.tables[name] = (base, table)
             zero = table[:, grid_index(grid, 0.0, exact=False)]
             if np.any(np.isfinite(zero)) and state.best_sample is None:
                 best = frame.iloc[int(np.nanargmax(np.where(np.isfinite(zero), zero, -np.inf)))]
                 state.best_sample = ({k: float(best[k]) for k in frame.columns
                                       if isinstance(best[k], (int, float, np.number))},
                                      f"the best no-memory fit among the reweighted samples [{name}]")
-            if (base == 0.0 or corrected_curve is not None) and state.result.amplitude_curve is None:
-                curve = corrected_curve or amplitude_curve(table, grid, 0.0, labels)
-                state.result.amplitude_curve = curve
-                sign = sign_from_curve(curve, evidence["free_amplitude_limits"])
-                if min(curve.at(1.0)[2], curve.at(-1.0)[2]) < minimum:
+            if (base == 0.0 or corrected_curve is not None) and found.amplitude_curve is None:
+                found.amplitude_curve = corrected_curve or amplitude_curve(table, grid, 0.0, labels)
+                sign = sign_from_curve(found.amplitude_curve, evidence["free_amplitude_limits"])
+                if min(found.amplitude_curve.at(1.0)[2], found.amplitude_curve.at(-1.0)[2]) < minimum:
                     sign.note += "; too few effective samples at A = +-1: treat with care"
-                state.propose_sign(0, sign)
+                found.signs[DESCRIPTION.family] = sign
+        return found
 
     @staticmethod
     def _check_file_samples(state: RunState, name: str, recomputed, source, noise_log_likelihood: float) -> None:

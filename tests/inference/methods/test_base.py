@@ -1,6 +1,7 @@
 import bilby
 import pandas as pd
 
+from memory_infer.inference.hypotheses import NONE
 from memory_infer.inference.methods.base import RunState, fixed_values
 from memory_infer.results.event import EventResult
 
@@ -27,7 +28,7 @@ def test_reference_point_order_injection_then_nested_then_reweighted():
     assert state.reference_point() == (None, None)
     state.best_sample = ({"phase": 2.0, "extra": 1.0}, "best reweighted")
     assert state.reference_point() == ({"psi": 0.4, "phase": 2.0}, "best reweighted")
-    state.nested["none"] = Run(pd.DataFrame({"phase": [1.0, 3.0], "log_likelihood": [0.0, 5.0]}))
+    state.nested[NONE] = Run(pd.DataFrame({"phase": [1.0, 3.0], "log_likelihood": [0.0, 5.0]}))
     point, where = state.reference_point()
     assert point == {"phase": 3.0, "psi": 0.4} and "'none' run" in where
     Setup.marginalized = True
