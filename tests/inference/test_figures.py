@@ -24,3 +24,15 @@ def test_figure_data_in_zero_noise_shows_the_injected_model(tmp_path):
     assert frequency.min() >= 20.0 and np.all(memory > 0)  # the band only: no masked zeros at its edge
     low, high = np.interp([25.0, 400.0], frequency, memory)
     assert low > 10 * high  # the memory is a low-frequency signal
+
+
+def test_importance_weights_are_the_ratio_the_samples_estimate_directly():
+    # samples drawn under A = 0 estimate BF(+1 vs 0) with weights L(1)/L(0); samples drawn under A = 1 estimate
+    # BF(0 vs 1) with weights L(0)/L(1) (importance sampling: target over proposal, common practice, no source)
+    from memory_infer.inference.figures import importance_weights
+
+    grid = np.linspace(-2, 2, 5)
+    table = np.arange(15, dtype=float).reshape(3, 5) ** 2  # ln L per sample (rows) and amplitude (columns)
+    weights = importance_weights(grid, {"none": (0.0, table), "memory": (1.0, table)})
+    assert weights["none"] == (table[:, 3] - table[:, 2]).tolist()
+    assert weights["memory"] == (table[:, 2] - table[:, 3]).tolist()
