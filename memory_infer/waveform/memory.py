@@ -31,7 +31,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from .sphere import coupling_table, direction_matrix, spin_weighted_harmonic
+from .sphere import _direction_tables, coupling_table, spin_weighted_harmonic
 
 
 LALSIMULATION_SIGN = -1.0  # flux-form memory (e_theta, e_phi basis) -> lalsimulation's polarization basis
@@ -130,84 +130,145 @@ INSPIRAL_STRIDE = 16  # early-inspiral flux on every 16th sample: it changes ove
 INSPIRAL_FREQUENCY = 0.004  # M f_22 below which the inspiral counts as early (45 Hz at 18 M_sun)
 
 
-def mirror_partners(keys, stacked) -> np.ndarray | None:
-    """Index of (l, -m) for every mode when the modes obey ``h_{l,-m} = (-1)^l conj(h_lm)`` (aligned spins;
-    checked on nine samples), else None."""
-    index = {k: i for i, k in enumerate(keys)}
-    partner = np.array([index.get((l, -m), -1) for l, m in keys])
-    if np.any(partner < 0):
-        return None
-    probe = stacked[:, np.linspace(0, stacked.shape[1] - 1, 9).astype(int)]
-    signs = np.array([(-1) ** l for l, _ in keys], dtype=float)[:, None]
-    if np.abs(probe[partner] - signs * np.conj(probe)).max() > 1e-9 * np.abs(probe).max():
-        return None
-    return partner
+def _mirrored(keys, modes) -> bool:
+    """Whether the modes obey ``h_{l,-m} = (-1)^l conj(h_lm)`` (aligned spins; checked on nine samples)."""
+    if any((l, -m) not in modes for l, m in keys):
+        return False
+    plus = [k for k in keys if k[1] > 0]
+    if not plus:
+        return True
+    probes = np.linspace(0, len(modes[plus[0]]) - 1, 9).astype(int)
+    values = np.array([modes[k][probes] for k in plus])
+    mirror = np.array([modes[(l, -m)][probes] for l, m in plus])
+    signs = np.array([(-1.0) ** l for l, _ in plus])[:, None]
+    return bool(np.abs(values - signs * np.conj(mirror)).max() <= 1e-9 * np.abs(values).max())
 
 
 @lru_cache(maxsize=64)
-def _mirror_plan(keys: tuple):
-    """(rows differenced, [(row, source position, sign)] filled by ``h_{l,-m} = (-1)^l conj(h_lm)``)."""
-    own = tuple(i for i, (_, m) in enumerate(keys) if m >= 0)
-    filled = tuple((i, own.index(keys.index((l, -m))), -1.0 if l % 2 else 1.0)
-                   for i, (l, m) in enumerate(keys) if m < 0)
-    return np.array(own), filled
+def _layout(keys: tuple, mirrored: bool):
+    """(keys stacked, coupling tables in the real layout): the quadratic form of the rate in the real
+    vector ``y = [Re dh_own, Im dh_own]`` of the stacked modes' derivatives, with the ``-2Y`` harmonics still to
+    be contracted: ``rate = y^T (sum_k Y_k tables[k]) y``, and the same for the m_i = m_j pairs only.
+
+    With the mirror symmetry only m >= 0 are stacked and differenced; the m < 0 modes are
+    ``(-1)^l conj`` of their partners, which the tables absorb. The tables also hold the memory's
+    sign and the 1/144 of :func:`_differences` (``12 step dh/dt``)."""
+    harmonics, table = _direction_tables(keys)
+    own = tuple(k for k in keys if k[1] >= 0) if mirrored else keys
+    count = len(own)
+    to_complex = np.zeros((len(keys), 2 * count), dtype=complex)  # dh_keys = to_complex @ y
+    for row, (l, m) in enumerate(keys):
+        if (l, m) in own:
+            i = own.index((l, m))
+            to_complex[row, i], to_complex[row, count + i] = 1, 1j
+        else:
+            i = own.index((l, -m))
+            to_complex[row, i], to_complex[row, count + i] = (-1) ** l, -1j * (-1) ** l
+    m_values = np.array([m for _, m in keys])
+    same_m = m_values[:, None] == m_values[None, :]
+    scale = LALSIMULATION_SIGN / 144
+
+    def real_form(couplings):  # (k, keys, keys) -> (k, 2 y, y): [Re Q; Im Q] stacked, Q = T^T W conj(T)
+        q = np.einsum("ai,kab,bj->kij", to_complex, couplings, np.conj(to_complex)) * scale
+        q = (q + np.swapaxes(q, 1, 2)) / 2  # only the symmetric part acts on y^T Q y
+        return np.ascontiguousarray(np.concatenate([q.real, q.imag], axis=1))
+
+    if not mirrored:  # the complex form is the smaller one here: y would be twice as long as dh
+        return own, harmonics, (table * scale).astype(complex), (table * same_m * scale).astype(complex)
+    return own, harmonics, real_form(table), real_form(table * same_m)
 
 
-def _derivatives(keys, stacked, step, partner, columns=None) -> np.ndarray:
-    """Fourth-order time derivatives of the stacked modes, everywhere or at interior sample ``columns``.
-
-    With ``partner`` (the mirror symmetry holds) only m >= 0 are differenced; m < 0 follow by symmetry.
-    """
-    if partner is None:
-        own, filled = slice(None), ()
-    else:
-        own, filled = _mirror_plan(tuple(keys))
-    values = stacked[own]
-    if columns is None:
-        derivative = time_derivative(values, step)
-    else:
-        derivative = (values[:, columns - 2] - values[:, columns + 2]
-                      + 8 * (values[:, columns + 1] - values[:, columns - 1])) * (1 / (12 * step))
-    if partner is None:
-        return derivative
-    out = np.empty((len(keys), derivative.shape[1]), dtype=complex)
-    out[own] = derivative
-    for row, source, sign in filled:
-        np.conjugate(derivative[source], out=out[row])
-        if sign < 0:
-            np.negative(out[row], out=out[row])
+def _contract(tables: np.ndarray, harmonics: np.ndarray) -> np.ndarray:
+    """``[Re Q; Im Q]`` of ``Q = sum_k Y_k Q_k`` from ``tables[k] = [Re Q_k; Im Q_k]`` (einsum: the numbers do
+    not depend on BLAS threads)."""
+    if np.iscomplexobj(tables):  # the complex form (no mirror symmetry)
+        return np.einsum("k,kij->ij", harmonics, tables)
+    n = tables.shape[2]
+    real = np.einsum("k,kij->ij", harmonics.real, tables)
+    imaginary = np.einsum("k,kij->ij", harmonics.imag, tables)
+    out = np.empty_like(real)
+    out[:n] = real[:n] - imaginary[n:]
+    out[n:] = real[n:] + imaginary[:n]
     return out
 
 
-def _rates(weights, derivatives) -> np.ndarray:
-    """``sum_ij W_ij dh_i conj(dh_j)`` at every sample, as ``sum_i dh_i (W conj(dh))_i``.
+def _stack_real(modes: dict, keys, real: bool = True) -> np.ndarray:
+    """``[Re h; Im h]`` of the modes ``keys``, stacked (2 len(keys), n); complex rows ``h`` if not ``real``."""
+    if not real:
+        return np.array([modes[k] for k in keys], dtype=complex)
+    first = np.asarray(modes[keys[0]])
+    out = np.empty((2 * len(keys), first.size))
+    for i, key in enumerate(keys):
+        h = np.asarray(modes[key])
+        out[i], out[len(keys) + i] = h.real, h.imag
+    return out
+
+
+def _differences(values: np.ndarray) -> np.ndarray:
+    """``12 step`` times :func:`time_derivative` (the factor is folded into the coupling tables)."""
+    if values.shape[-1] < 5:
+        return np.gradient(values, axis=-1) * 12
+    out = np.empty_like(values)
+    v = values
+    middle = out[..., 2:-2]
+    np.subtract(v[..., :-4], v[..., 4:], out=middle)
+    eight = v[..., 3:-1] - v[..., 1:-3]
+    eight *= 8
+    middle += eight
+    ends = _END_STENCILS
+    out[..., :2] = v[..., :5] @ ends[0]
+    out[..., -2:] = v[..., -5:] @ ends[1]
+    return out
+
+
+_END_STENCILS = (np.array([[-25, 48, -36, 16, -3], [-3, -10, 18, -6, 1]], dtype=float).T,
+                 np.array([[-1, 6, -18, 10, 3], [3, -16, 36, -48, 25]], dtype=float).T)  # one-sided, 4th order
+
+
+def _rates(weights, differences) -> np.ndarray:
+    """``sum_ij W_ij dh_i conj(dh_j)`` at every sample as ``y^T Q y`` (real ``y``, ``weights`` = [Re Q; Im Q]).
 
     One small matrix product: BLAS splits it over samples, never over the sum, so the numbers do not
-    depend on the thread count.
+    depend on the thread count; the sum over the rows runs row by row.
     """
-    return np.einsum("it,it->t", derivatives, weights @ np.conj(derivatives))
+    if np.iscomplexobj(differences):  # the complex form: sum_i dh_i (W conj(dh))_i
+        product = weights @ np.conj(differences)
+        product *= differences
+        return product.sum(axis=0)
+    count = differences.shape[0]
+    product = weights @ differences
+    real = product[:count]
+    real *= differences
+    imaginary = product[count:]
+    imaginary *= differences
+    out = np.empty(differences.shape[1], dtype=complex)
+    out.real = real.sum(axis=0)
+    out.imag = imaginary.sum(axis=0)
+    return out
 
 
-def _slow_inspiral_end(keys, stacked, step) -> int:
+def _slow_inspiral_end(h22, step) -> int:
     """Last sample, a multiple of ``INSPIRAL_STRIDE``, before which the (2, 2) frequency is below
     ``INSPIRAL_FREQUENCY`` / M (0 without a (2, 2) mode)."""
-    if (2, 2) not in keys or stacked.shape[1] < 4 * INSPIRAL_STRIDE:
+    if h22 is None or h22.size < 4 * INSPIRAL_STRIDE:
         return 0
-    h = stacked[keys.index((2, 2))]
-    probes = np.arange(0, h.size - 1, INSPIRAL_STRIDE)
-    frequency = np.abs(np.angle(h[probes + 1] * np.conj(h[probes]))) / (2 * np.pi * step)
+    probes = np.arange(0, h22.size - 1, INSPIRAL_STRIDE)
+    frequency = np.abs(np.angle(h22[probes + 1] * np.conj(h22[probes]))) / (2 * np.pi * step)
     fast = np.nonzero(frequency >= INSPIRAL_FREQUENCY)[0]
     last = (int(fast[0]) if fast.size else probes.size) - 2
     return max(0, last) * INSPIRAL_STRIDE
 
 
 def memory_at_direction(modes: dict, times, theta: float, phi: float, early_inspiral: bool = False,
-                        symmetric_mass_ratio: float | None = None, finer=(), smooth_inspiral: bool = True) -> np.ndarray:
+                        symmetric_mass_ratio: float | None = None, finer=(), smooth_inspiral: bool = True,
+                        mode_scale: float = 1.0) -> np.ndarray:
     """Complex memory strain ``h+_mem - i hx_mem`` (r h / M) towards (theta, phi), every degree kept.
 
     lalsimulation's convention (module docstring). The hot path: the couplings are contracted with
     ``-2Y_lm(theta, phi)`` first, so the cost is one small quadratic form per sample,
     ``h_mem = int sum_ij W_ij dh_i conj(dh_j) dt``. ``finer`` as in :func:`memory_modes`.
+    ``mode_scale``: the modes (also those of ``finer``) are given as ``mode_scale`` x r h / M (for example
+    SI strain, ``mode_scale = M / r``); the memory is then returned in the same units.
 
     ``smooth_inspiral`` (used only when ``h_{l,-m} = (-1)^l conj(h_lm)``, aligned spins): below
     ``M f_22 = INSPIRAL_FREQUENCY`` only the pairs with m_i = m_j are kept, whose product has no orbital
@@ -216,33 +277,41 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     for 12-40 M_sun, at most 2e-4 of the memory's peak for inclinations of 0.3 or more, 8e-4 at 0.05 (nearly
     face-on, where the memory itself nearly vanishes). ``smooth_inspiral=False`` keeps every pair on every sample (exact).
     """
-    keys, stacked = _stack(modes)
-    weights = direction_matrix(keys, theta, phi)
-    partner = mirror_partners(keys, stacked)
-    m_values = np.array([m for _, m in keys])
-    same_m = weights * (m_values[:, None] == m_values[None, :])
+    keys = tuple(sorted(modes))
+    mirrored = _mirrored(keys, modes)
+    own, harmonics, tables, same_m_tables = _layout(keys, mirrored)
+    values = harmonics(theta, phi) / mode_scale  # the memory is quadratic in the modes
+    weights = _contract(tables, values)
+    stacked = _stack_real(modes, own, mirrored)
+    dominant = own.index((2, 2)) if (2, 2) in own else None
 
     def cumulative(level_times, level_stack, coarse=False):
         step = _uniform_step(level_times)
-        early = _slow_inspiral_end(keys, level_stack, step) if (coarse and smooth_inspiral and partner is not None) else 0
+        scale = 1.0 / step  # differences are 12 step dh/dt (the 1/144 is in the tables); trapezoid step
+        early = 0
+        if coarse and smooth_inspiral and mirrored and dominant is not None:
+            h22 = level_stack[dominant] + 1j * level_stack[len(own) + dominant]
+            early = _slow_inspiral_end(h22, step)
         if early == 0:
-            return LALSIMULATION_SIGN * cumulative_integral(_rates(weights, _derivatives(keys, level_stack, step,
-                                                                                          partner)), step)
-        columns = np.arange(INSPIRAL_STRIDE, early + 1, INSPIRAL_STRIDE)
-        slow = _rates(same_m, _derivatives(keys, level_stack, step, partner, columns))
-        first = _rates(same_m, _derivatives(keys, level_stack[:, :5], step, partner)[:, :1])
-        slow = cumulative_integral(np.concatenate([first, slow]), step * INSPIRAL_STRIDE)
-        out = np.empty(level_stack.shape[1], dtype=complex)
-        out[:early + 1] = _interpolate(np.arange(early + 1), np.arange(0, early + 1, INSPIRAL_STRIDE), slow)
+            return cumulative_integral(_rates(weights, _differences(level_stack)), scale)
+        stride = INSPIRAL_STRIDE
+        v = level_stack
+        columns = (v[:, stride - 2:early - 1:stride] - v[:, stride + 2:early + 3:stride]
+                   + 8 * (v[:, stride + 1:early + 2:stride] - v[:, stride - 1:early:stride]))
+        first = _differences(v[:, :5])[:, :1]
+        slow = _rates(_contract(same_m_tables, values), np.concatenate([first, columns], axis=1))
+        slow = cumulative_integral(slow, stride * scale)
+        out = np.empty(v.shape[1], dtype=complex)
+        out[:early + 1] = _interpolate(np.arange(early + 1), np.arange(0, early + 1, stride), slow)
         start = early - 2  # the dense part overlaps the slow one by two samples for its derivative stencil
-        rest = _rates(weights, _derivatives(keys, level_stack[:, start:], step, partner)[:, 2:])
-        out[early:] = slow[-1] + cumulative_integral(rest, step)
-        return LALSIMULATION_SIGN * out
+        rest = _rates(weights, _differences(v[:, start:])[:, 2:])
+        out[early:] = slow[-1] + cumulative_integral(rest, scale)
+        return out
 
-    memory = _levels_memory(np.asarray(times, float), stacked, keys, finer, cumulative)
+    memory = _levels_memory(np.asarray(times, float), stacked, own, finer, cumulative)
     if early_inspiral:
         for (l, m), value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():
-            memory = memory + value * spin_weighted_harmonic(-2, l, m, theta, phi)
+            memory = memory + (value * mode_scale) * spin_weighted_harmonic(-2, l, m, theta, phi)
     return memory
 
 
@@ -252,7 +321,7 @@ def _levels_memory(times, stacked, keys, finer, cumulative):
     ``cumulative(level_times, level_stack)`` integrates one level's flux (last axis is time). The coarse
     flux is integrated only until the first finer level takes over; each level only where it is used.
     """
-    windows = _windows(keys, finer)
+    windows = _windows(keys, finer, not np.iscomplexobj(stacked))
     if windows:
         end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3)
         coarse = cumulative(times[:end], stacked[..., :end], coarse=True)
@@ -263,13 +332,13 @@ def _levels_memory(times, stacked, keys, finer, cumulative):
                                    for level, window_times, window_stack in windows])
 
 
-def _windows(keys, finer):
+def _windows(keys, finer, real=False):
     """``(level, times, stacked modes)`` of each finer level, cut to where it is used (plus a few samples)."""
     out = []
     for k, level in enumerate(finer):
-        level_keys, stacked = _stack(level.modes)
-        if level_keys != keys:
+        if any(k not in level.modes for k in keys):
             raise ValueError("every sampling must hold the same modes")
+        stacked = _stack_real(level.modes, keys, real)
         level_times = np.asarray(level.times, float)
         start = max(int(np.searchsorted(level_times, level.use_from)) - 4, 0)
         end = level_times.size
