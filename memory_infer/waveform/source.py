@@ -58,9 +58,13 @@ class TimeSignal:
     memory: np.ndarray
     early_inspiral_memory: float  # |memory| offset added for the inspiral before the first sample
 
-    def polarizations(self, memory_amplitude: float = 1.0) -> dict:
-        total = self.oscillatory + memory_amplitude * self.memory
-        return {"plus": total.real, "cross": -total.imag}
+
+def combined(oscillatory, memory, amplitude):
+    """The signal for memory amplitude A, ``oscillatory + amplitude x memory``: arrays (or arrays of A
+    broadcast against them), or dicts of polarizations with the same keys."""
+    if isinstance(oscillatory, dict):
+        return {key: oscillatory[key] + amplitude * memory[key] for key in oscillatory}
+    return oscillatory + amplitude * memory
 
 
 def time_signal(series: ModeSeries, inclination: float, phase: float,
@@ -76,12 +80,10 @@ def time_signal(series: ModeSeries, inclination: float, phase: float,
     oscillatory = mode_sum(series.modes, theta, phi)
     if not include_memory:
         return TimeSignal(series.times, oscillatory, np.zeros(series.times.size, complex), 0.0)
-    geometric_times, geometric_modes = series.geometric()
-    memory = memory_at_direction(geometric_modes, geometric_times, theta, phi,
-                                 early_inspiral=early_inspiral,
+    geometric_times, strain_modes = series.geometric(scaled=False)  # SI strain, times in M
+    memory = memory_at_direction(strain_modes, geometric_times, theta, phi, early_inspiral=early_inspiral,
                                  symmetric_mass_ratio=series.symmetric_mass_ratio,
-                                 finer=series.geometric_finer())
-    memory = memory * series.strain_scale
+                                 finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale)
     offset = float(abs(memory[0]))
     return TimeSignal(series.times, oscillatory, memory, offset)
 
@@ -316,11 +318,11 @@ def signal_strain(frequency_array, amplitude: float, cache: SourceCache | None =
                frequency_array.size, float(frequency_array[-1]))
         if key in cache.parts:
             parts = cache.parts[key]
-            return {"plus": parts["plus"] + amplitude * parts["memory_plus"],
-                    "cross": parts["cross"] + amplitude * parts["memory_cross"]}
+            return combined({"plus": parts["plus"], "cross": parts["cross"]},
+                            {"plus": parts["memory_plus"], "cross": parts["memory_cross"]}, amplitude)
     oscillatory, memory, shift, delta_t = _layout(frequency_array, parameters, cache)
     if memory is not None and amplitude != 0:
-        oscillatory = oscillatory + amplitude * memory
+        oscillatory = combined(oscillatory, memory, amplitude)
     return to_frequency_domain(oscillatory, delta_t, shift, frequency_array)
 
 
