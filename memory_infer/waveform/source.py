@@ -195,7 +195,7 @@ def lalsimulation_spins(parameters: dict, reference_frequency: float):
 
     a_1, a_2 = parameters.get("a_1", 0.0), parameters.get("a_2", 0.0)
     tilt_1, tilt_2 = parameters.get("tilt_1", 0.0), parameters.get("tilt_2", 0.0)
-    if np.allclose(np.sin([tilt_1, tilt_2]), 0) or (a_1 == 0 and a_2 == 0):
+    if max(abs(np.sin(tilt_1)), abs(np.sin(tilt_2))) <= 1e-8 or (a_1 == 0 and a_2 == 0):  # as np.allclose
         return (parameters["theta_jn"], (0.0, 0.0, a_1 * np.cos(tilt_1)), (0.0, 0.0, a_2 * np.cos(tilt_2)))
     from bilby.core.utils import solar_mass
 
