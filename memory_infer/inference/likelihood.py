@@ -139,14 +139,15 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
                                                    parameters["psi"], mode) for mode in polarization_sets[0]}
         time_shift = detector.time_delay_from_geocenter(parameters["ra"], parameters["dec"], parameters["geocent_time"])
         dt = (parameters["geocent_time"] - detector.strain_data.start_time) + time_shift
-        phase = np.exp(-1j * 2 * np.pi * dt * frequencies)
-        calibration = detector.calibration_model.get_calibration_factor(
-            frequencies, prefix="recalib_{}_".format(detector.name), **parameters)
+        shift = np.zeros(mask.size, dtype=complex)  # bilby's mask, time shift and calibration as one factor
+        shift[mask] = np.exp(-1j * 2 * np.pi * dt * frequencies)
+        if type(detector.calibration_model) is not bilby.gw.detector.calibration.Recalibrate:  # else exactly 1
+            shift[mask] *= detector.calibration_model.get_calibration_factor(
+                frequencies, prefix="recalib_{}_".format(detector.name), **parameters)
         out = []
         for polarizations in polarization_sets:
-            signal = sum(polarizations[mode] * factors[mode] for mode in polarizations) * mask
-            signal[mask] = signal[mask] * phase
-            signal[mask] *= calibration
+            signal = sum(polarizations[mode] * factors[mode] for mode in polarizations)
+            signal *= shift
             out.append(signal)
         return out
 

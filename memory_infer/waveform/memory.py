@@ -247,13 +247,15 @@ def _rates(weights, differences) -> np.ndarray:
     return out
 
 
-def _slow_inspiral_end(h22, step) -> int:
+def _slow_inspiral_end(real, imaginary, step) -> int:
     """Last sample, a multiple of ``INSPIRAL_STRIDE``, before which the (2, 2) frequency is below
-    ``INSPIRAL_FREQUENCY`` / M (0 without a (2, 2) mode)."""
-    if h22 is None or h22.size < 4 * INSPIRAL_STRIDE:
+    ``INSPIRAL_FREQUENCY`` / M (from the (2, 2) mode's real and imaginary parts)."""
+    if real.size < 4 * INSPIRAL_STRIDE:
         return 0
-    probes = np.arange(0, h22.size - 1, INSPIRAL_STRIDE)
-    frequency = np.abs(np.angle(h22[probes + 1] * np.conj(h22[probes]))) / (2 * np.pi * step)
+    probes = np.arange(0, real.size - 1, INSPIRAL_STRIDE)
+    here = real[probes] + 1j * imaginary[probes]
+    after = real[probes + 1] + 1j * imaginary[probes + 1]
+    frequency = np.abs(np.angle(after * np.conj(here))) / (2 * np.pi * step)
     fast = np.nonzero(frequency >= INSPIRAL_FREQUENCY)[0]
     last = (int(fast[0]) if fast.size else probes.size) - 2
     return max(0, last) * INSPIRAL_STRIDE
@@ -286,12 +288,11 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     dominant = own.index((2, 2)) if (2, 2) in own else None
 
     def cumulative(level_times, level_stack, coarse=False):
-        step = _uniform_step(level_times)
+        step = (level_times[-1] - level_times[0]) / (level_times.size - 1)  # uniform: checked once, below
         scale = 1.0 / step  # differences are 12 step dh/dt (the 1/144 is in the tables); trapezoid step
         early = 0
         if coarse and smooth_inspiral and mirrored and dominant is not None:
-            h22 = level_stack[dominant] + 1j * level_stack[len(own) + dominant]
-            early = _slow_inspiral_end(h22, step)
+            early = _slow_inspiral_end(level_stack[dominant], level_stack[len(own) + dominant], step)
         if early == 0:
             return cumulative_integral(_rates(weights, _differences(level_stack)), scale)
         stride = INSPIRAL_STRIDE
@@ -308,7 +309,9 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
         out[early:] = slow[-1] + cumulative_integral(rest, scale)
         return out
 
-    memory = _levels_memory(np.asarray(times, float), stacked, own, finer, cumulative)
+    times = np.asarray(times, float)
+    _uniform_step(times)
+    memory = _levels_memory(times, stacked, own, finer, cumulative)
     if early_inspiral:
         for (l, m), value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():
             memory = memory + (value * mode_scale) * spin_weighted_harmonic(-2, l, m, theta, phi)

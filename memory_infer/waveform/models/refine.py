@@ -117,7 +117,8 @@ def _continued_phases(modes: np.ndarray, orders: np.ndarray) -> np.ndarray:
     closest to ``m / 2`` times the (2, 2) mode's (row ``orders`` gives m; row 0 is the (2, 2) mode).
     """
     wrapped = np.angle(modes[:, 1:] * np.conj(modes[:, :-1]))
-    change = np.angle(np.exp(1j * np.diff(wrapped[0])))
+    change = np.diff(wrapped[0])
+    change -= (2 * np.pi) * np.round(change / (2 * np.pi))  # into [-pi, pi]
     dominant = wrapped[0, 0] + np.concatenate([[0.0], np.cumsum(change)])
     guide = orders[:, None] / 2 * dominant[None, :]
     steps = wrapped + 2 * np.pi * np.round((guide - wrapped) / (2 * np.pi))
