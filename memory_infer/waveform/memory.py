@@ -192,14 +192,15 @@ def _contract(tables: np.ndarray, harmonics: np.ndarray) -> np.ndarray:
     return out
 
 
-def _stack_real(modes: dict, keys, real: bool = True) -> np.ndarray:
-    """``[Re h; Im h]`` of the modes ``keys``, stacked (2 len(keys), n); complex rows ``h`` if not ``real``."""
+def _stack_real(modes: dict, keys, real: bool = True, part: slice = slice(None)) -> np.ndarray:
+    """``[Re h; Im h]`` of the samples ``part`` of the modes ``keys``, stacked (2 len(keys), n); complex rows
+    ``h`` if not ``real``."""
     if not real:
-        return np.array([modes[k] for k in keys], dtype=complex)
-    first = np.asarray(modes[keys[0]])
+        return np.array([np.asarray(modes[k])[part] for k in keys], dtype=complex)
+    first = np.asarray(modes[keys[0]])[part]
     out = np.empty((2 * len(keys), first.size))
     for i, key in enumerate(keys):
-        h = np.asarray(modes[key])
+        h = np.asarray(modes[key])[part]
         out[i], out[len(keys) + i] = h.real, h.imag
     return out
 
@@ -284,50 +285,55 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     own, harmonics, tables, same_m_tables = _layout(keys, mirrored)
     values = harmonics(theta, phi) / mode_scale  # the memory is quadratic in the modes
     weights = _contract(tables, values)
-    stacked = _stack_real(modes, own, mirrored)
-    dominant = own.index((2, 2)) if (2, 2) in own else None
+    times = np.asarray(times, float)
+    step = _uniform_step(times)
+    early = 0  # the slow early inspiral ends here (a multiple of INSPIRAL_STRIDE), on the part the coarse level uses
+    if smooth_inspiral and mirrored and (2, 2) in own:
+        end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3) if finer else times.size
+        h22 = np.asarray(modes[(2, 2)])[:end]
+        early = _slow_inspiral_end(h22.real, h22.imag, step)
+    first = max(early - 2, 0)  # the dense part overlaps the slow one by two samples for its derivative stencil
+    stacked = _stack_real(modes, own, mirrored, slice(first, None))  # the slow part is read off strided below
 
     def cumulative(level_times, level_stack, coarse=False):
-        step = (level_times[-1] - level_times[0]) / (level_times.size - 1)  # uniform: checked once, below
+        step = (level_times[-1] - level_times[0]) / (level_times.size - 1)  # uniform: checked once, above
         scale = 1.0 / step  # differences are 12 step dh/dt (the 1/144 is in the tables); trapezoid step
-        early = 0
-        if coarse and smooth_inspiral and mirrored and dominant is not None:
-            early = _slow_inspiral_end(level_stack[dominant], level_stack[len(own) + dominant], step)
-        if early == 0:
+        if not coarse or early == 0:
             return cumulative_integral(_rates(weights, _differences(level_stack)), scale)
         stride = INSPIRAL_STRIDE
-        v = level_stack
-        columns = (v[:, stride - 2:early - 1:stride] - v[:, stride + 2:early + 3:stride]
-                   + 8 * (v[:, stride + 1:early + 2:stride] - v[:, stride - 1:early:stride]))
-        first = _differences(v[:, :5])[:, :1]
-        slow = _rates(_contract(same_m_tables, values), np.concatenate([first, columns], axis=1))
+
+        def at(offset):  # the stacked modes at samples stride + offset, 2 stride + offset, ... up to early + offset
+            return _stack_real(modes, own, True, slice(stride + offset, early + 1 + offset, stride))
+
+        columns = at(-2) - at(2) + 8 * (at(1) - at(-1))
+        start = _differences(_stack_real(modes, own, True, slice(0, 5)))[:, :1]
+        slow = _rates(_contract(same_m_tables, values), np.concatenate([start, columns], axis=1))
         slow = cumulative_integral(slow, stride * scale)
-        out = np.empty(v.shape[1], dtype=complex)
-        out[:early + 1] = _interpolate(np.arange(early + 1), np.arange(0, early + 1, stride), slow)
-        start = early - 2  # the dense part overlaps the slow one by two samples for its derivative stencil
-        rest = _rates(weights, _differences(v[:, start:])[:, 2:])
+        out = np.empty(level_times.size, dtype=complex)
+        fractions = np.arange(stride) / stride  # linear between the slow samples
+        out[:early] = (slow[:-1, None] + (slow[1:] - slow[:-1])[:, None] * fractions).ravel()
+        rest = _rates(weights, _differences(level_stack)[:, 2:])
         out[early:] = slow[-1] + cumulative_integral(rest, scale)
         return out
 
-    times = np.asarray(times, float)
-    _uniform_step(times)
-    memory = _levels_memory(times, stacked, own, finer, cumulative)
+    memory = _levels_memory(times, stacked, own, finer, cumulative, first)
     if early_inspiral:
         for (l, m), value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():
             memory = memory + (value * mode_scale) * spin_weighted_harmonic(-2, l, m, theta, phi)
     return memory
 
 
-def _levels_memory(times, stacked, keys, finer, cumulative):
+def _levels_memory(times, stacked, keys, finer, cumulative, first: int = 0):
     """Cumulative memory at ``times`` from the coarse modes and the ``finer`` levels.
 
     ``cumulative(level_times, level_stack)`` integrates one level's flux (last axis is time). The coarse
     flux is integrated only until the first finer level takes over; each level only where it is used.
+    ``stacked`` holds the coarse modes from sample ``first`` on (``cumulative`` supplies the rest).
     """
     windows = _windows(keys, finer, not np.iscomplexobj(stacked))
     if windows:
         end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3)
-        coarse = cumulative(times[:end], stacked[..., :end], coarse=True)
+        coarse = cumulative(times[:end], stacked[..., :end - first], coarse=True)
         coarse = np.concatenate([coarse, np.repeat(coarse[..., -1:], times.size - end, axis=-1)], axis=-1)
     else:
         coarse = cumulative(times, stacked, coarse=True)
