@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import contextlib
+import functools
 import io
 
 import numpy as np
@@ -58,6 +59,7 @@ def _refuse_pyseobnr(approximant: str) -> None:
                         "or IMRPhenomTPHM instead")
 
 
+@functools.lru_cache(maxsize=32)  # refusals raise and are not kept
 def approximant_number(approximant: str) -> int:
     _, lalsim = _lal()
     if approximant in PYSEOBNR_MODELS:
