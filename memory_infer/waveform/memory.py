@@ -31,7 +31,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from .sphere import _direction_tables, coupling_table, spin_weighted_harmonic
+from .sphere import HarmonicSet, _direction_tables, coupling_table, spin_weighted_harmonic
 
 
 LALSIMULATION_SIGN = -1.0  # flux-form memory (e_theta, e_phi basis) -> lalsimulation's polarization basis
@@ -142,6 +142,11 @@ def _mirrored(keys, modes) -> bool:
     mirror = np.array([modes[(l, -m)][probes] for l, m in plus])
     signs = np.array([(-1.0) ** l for l, _ in plus])[:, None]
     return bool(np.abs(values - signs * np.conj(mirror)).max() <= 1e-9 * np.abs(values).max())
+
+
+@lru_cache(maxsize=8)
+def _harmonic_set(modes: tuple) -> HarmonicSet:
+    return HarmonicSet(modes)
 
 
 @lru_cache(maxsize=64)
@@ -318,8 +323,9 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
 
     memory = _levels_memory(times, stacked, own, finer, cumulative, first)
     if early_inspiral:
-        for (l, m), value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():
-            memory = memory + (value * mode_scale) * spin_weighted_harmonic(-2, l, m, theta, phi)
+        offsets = early_inspiral_offset(modes, times, symmetric_mass_ratio)
+        harmonics = _harmonic_set(tuple(offsets))(theta, phi)
+        memory = memory + mode_scale * sum(value * y for value, y in zip(offsets.values(), harmonics))
     return memory
 
 

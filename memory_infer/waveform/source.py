@@ -125,9 +125,16 @@ def circular_layout(signal: TimeSignal, n_buffer: int, delta_t: float, taper_dur
     shift = float(times[0] + peak_index * delta_t)
     buffer_oscillatory = np.zeros(n_buffer, dtype=complex)
     buffer_memory = np.full(n_buffer, memory[0], dtype=complex)
-    index = (np.arange(times.size) - peak_index) % n_buffer
-    buffer_oscillatory[index] = oscillatory
-    buffer_memory[index] = memory
+    # sample k goes to index (k - peak_index) mod n_buffer: the peak and after from 0, the earlier part at the end
+    if 0 <= peak_index <= times.size:
+        buffer_oscillatory[:times.size - peak_index] = oscillatory[peak_index:]
+        buffer_memory[:times.size - peak_index] = memory[peak_index:]
+        if peak_index:
+            buffer_oscillatory[n_buffer - peak_index:] = oscillatory[:peak_index]
+            buffer_memory[n_buffer - peak_index:] = memory[:peak_index]
+    else:
+        index = (np.arange(times.size) - peak_index) % n_buffer
+        buffer_oscillatory[index], buffer_memory[index] = oscillatory, memory
     after = (times.size - peak_index) + np.arange(n_taper)
     fall = 0.5 * (1 + np.cos(np.pi * np.arange(n_taper) / max(n_taper, 1)))
     buffer_memory[after % n_buffer] = memory[0] + (memory[-1] - memory[0]) * fall
