@@ -31,7 +31,8 @@ from functools import lru_cache
 
 import numpy as np
 
-from .sphere import HarmonicSet, _direction_tables, coupling_table, spin_weighted_harmonic
+from .flux import contract, differences, flux_tables, harmonic_set, mirrored_rows, rates, stack_rows
+from .sphere import coupling_table, spin_weighted_harmonic
 
 
 LALSIMULATION_SIGN = -1.0  # flux-form memory (e_theta, e_phi basis) -> lalsimulation's polarization basis
@@ -130,129 +131,6 @@ INSPIRAL_STRIDE = 16  # early-inspiral flux on every 16th sample: it changes ove
 INSPIRAL_FREQUENCY = 0.004  # M f_22 below which the inspiral counts as early (45 Hz at 18 M_sun)
 
 
-def _mirrored(keys, modes) -> bool:
-    """Whether the modes obey ``h_{l,-m} = (-1)^l conj(h_lm)`` (aligned spins; checked on nine samples)."""
-    if any((l, -m) not in modes for l, m in keys):
-        return False
-    plus = [k for k in keys if k[1] > 0]
-    if not plus:
-        return True
-    probes = np.linspace(0, len(modes[plus[0]]) - 1, 9).astype(int)
-    values = np.array([modes[k][probes] for k in plus])
-    mirror = np.array([modes[(l, -m)][probes] for l, m in plus])
-    signs = np.array([(-1.0) ** l for l, _ in plus])[:, None]
-    return bool(np.abs(values - signs * np.conj(mirror)).max() <= 1e-9 * np.abs(values).max())
-
-
-@lru_cache(maxsize=8)
-def _harmonic_set(modes: tuple) -> HarmonicSet:
-    return HarmonicSet(modes)
-
-
-@lru_cache(maxsize=64)
-def _layout(keys: tuple, mirrored: bool):
-    """(keys stacked, coupling tables in the real layout): the quadratic form of the rate in the real
-    vector ``y = [Re dh_own, Im dh_own]`` of the stacked modes' derivatives, with the ``-2Y`` harmonics still to
-    be contracted: ``rate = y^T (sum_k Y_k tables[k]) y``, and the same for the m_i = m_j pairs only.
-
-    With the mirror symmetry only m >= 0 are stacked and differenced; the m < 0 modes are
-    ``(-1)^l conj`` of their partners, which the tables absorb. The tables also hold the memory's
-    sign and the 1/144 of :func:`_differences` (``12 step dh/dt``)."""
-    harmonics, table = _direction_tables(keys)
-    own = tuple(k for k in keys if k[1] >= 0) if mirrored else keys
-    count = len(own)
-    to_complex = np.zeros((len(keys), 2 * count), dtype=complex)  # dh_keys = to_complex @ y
-    for row, (l, m) in enumerate(keys):
-        if (l, m) in own:
-            i = own.index((l, m))
-            to_complex[row, i], to_complex[row, count + i] = 1, 1j
-        else:
-            i = own.index((l, -m))
-            to_complex[row, i], to_complex[row, count + i] = (-1) ** l, -1j * (-1) ** l
-    m_values = np.array([m for _, m in keys])
-    same_m = m_values[:, None] == m_values[None, :]
-    scale = LALSIMULATION_SIGN / 144
-
-    def real_form(couplings):  # (k, keys, keys) -> (k, 2 y, y): [Re Q; Im Q] stacked, Q = T^T W conj(T)
-        q = np.einsum("ai,kab,bj->kij", to_complex, couplings, np.conj(to_complex)) * scale
-        q = (q + np.swapaxes(q, 1, 2)) / 2  # only the symmetric part acts on y^T Q y
-        return np.ascontiguousarray(np.concatenate([q.real, q.imag], axis=1))
-
-    if not mirrored:  # the complex form is the smaller one here: y would be twice as long as dh
-        return own, harmonics, (table * scale).astype(complex), (table * same_m * scale).astype(complex)
-    return own, harmonics, real_form(table), real_form(table * same_m)
-
-
-def _contract(tables: np.ndarray, harmonics: np.ndarray) -> np.ndarray:
-    """``[Re Q; Im Q]`` of ``Q = sum_k Y_k Q_k`` from ``tables[k] = [Re Q_k; Im Q_k]`` (einsum: the numbers do
-    not depend on BLAS threads)."""
-    if np.iscomplexobj(tables):  # the complex form (no mirror symmetry)
-        return np.einsum("k,kij->ij", harmonics, tables)
-    n = tables.shape[2]
-    real = np.einsum("k,kij->ij", harmonics.real, tables)
-    imaginary = np.einsum("k,kij->ij", harmonics.imag, tables)
-    out = np.empty_like(real)
-    out[:n] = real[:n] - imaginary[n:]
-    out[n:] = real[n:] + imaginary[:n]
-    return out
-
-
-def _stack_real(modes: dict, keys, real: bool = True, part: slice = slice(None)) -> np.ndarray:
-    """``[Re h; Im h]`` of the samples ``part`` of the modes ``keys``, stacked (2 len(keys), n); complex rows
-    ``h`` if not ``real``."""
-    if not real:
-        return np.array([np.asarray(modes[k])[part] for k in keys], dtype=complex)
-    first = np.asarray(modes[keys[0]])[part]
-    out = np.empty((2 * len(keys), first.size))
-    for i, key in enumerate(keys):
-        h = np.asarray(modes[key])[part]
-        out[i], out[len(keys) + i] = h.real, h.imag
-    return out
-
-
-def _differences(values: np.ndarray) -> np.ndarray:
-    """``12 step`` times :func:`time_derivative` (the factor is folded into the coupling tables)."""
-    if values.shape[-1] < 5:
-        return np.gradient(values, axis=-1) * 12
-    out = np.empty_like(values)
-    v = values
-    middle = out[..., 2:-2]
-    np.subtract(v[..., :-4], v[..., 4:], out=middle)
-    eight = v[..., 3:-1] - v[..., 1:-3]
-    eight *= 8
-    middle += eight
-    ends = _END_STENCILS
-    out[..., :2] = v[..., :5] @ ends[0]
-    out[..., -2:] = v[..., -5:] @ ends[1]
-    return out
-
-
-_END_STENCILS = (np.array([[-25, 48, -36, 16, -3], [-3, -10, 18, -6, 1]], dtype=float).T,
-                 np.array([[-1, 6, -18, 10, 3], [3, -16, 36, -48, 25]], dtype=float).T)  # one-sided, 4th order
-
-
-def _rates(weights, differences) -> np.ndarray:
-    """``sum_ij W_ij dh_i conj(dh_j)`` at every sample as ``y^T Q y`` (real ``y``, ``weights`` = [Re Q; Im Q]).
-
-    One small matrix product: BLAS splits it over samples, never over the sum, so the numbers do not
-    depend on the thread count; the sum over the rows runs row by row.
-    """
-    if np.iscomplexobj(differences):  # the complex form: sum_i dh_i (W conj(dh))_i
-        product = weights @ np.conj(differences)
-        product *= differences
-        return product.sum(axis=0)
-    count = differences.shape[0]
-    product = weights @ differences
-    real = product[:count]
-    real *= differences
-    imaginary = product[count:]
-    imaginary *= differences
-    out = np.empty(differences.shape[1], dtype=complex)
-    out.real = real.sum(axis=0)
-    out.imag = imaginary.sum(axis=0)
-    return out
-
-
 def _slow_inspiral_end(real, imaginary, step) -> int:
     """Last sample, a multiple of ``INSPIRAL_STRIDE``, before which the (2, 2) frequency is below
     ``INSPIRAL_FREQUENCY`` / M (from the (2, 2) mode's real and imaginary parts)."""
@@ -286,10 +164,10 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     face-on, where the memory itself nearly vanishes). ``smooth_inspiral=False`` keeps every pair on every sample (exact).
     """
     keys = tuple(sorted(modes))
-    mirrored = _mirrored(keys, modes)
-    own, harmonics, tables, same_m_tables = _layout(keys, mirrored)
-    values = harmonics(theta, phi) / mode_scale  # the memory is quadratic in the modes
-    weights = _contract(tables, values)
+    mirrored = mirrored_rows(keys, modes)
+    own, harmonics, tables, same_m_tables = flux_tables(keys, mirrored)
+    values = harmonics(theta, phi) * (LALSIMULATION_SIGN / mode_scale)  # the memory is quadratic in the modes
+    weights = contract(tables, values)
     times = np.asarray(times, float)
     step = _uniform_step(times)
     early = 0  # the slow early inspiral ends here (a multiple of INSPIRAL_STRIDE), on the part the coarse level uses
@@ -298,33 +176,33 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
         h22 = np.asarray(modes[(2, 2)])[:end]
         early = _slow_inspiral_end(h22.real, h22.imag, step)
     first = max(early - 2, 0)  # the dense part overlaps the slow one by two samples for its derivative stencil
-    stacked = _stack_real(modes, own, mirrored, slice(first, None))  # the slow part is read off strided below
+    stacked = stack_rows(modes, own, mirrored, slice(first, None))  # the slow part is read off strided below
 
     def cumulative(level_times, level_stack, coarse=False):
         step = (level_times[-1] - level_times[0]) / (level_times.size - 1)  # uniform: checked once, above
         scale = 1.0 / step  # differences are 12 step dh/dt (the 1/144 is in the tables); trapezoid step
         if not coarse or early == 0:
-            return cumulative_integral(_rates(weights, _differences(level_stack)), scale)
+            return cumulative_integral(rates(weights, differences(level_stack)), scale)
         stride = INSPIRAL_STRIDE
 
         def at(offset):  # the stacked modes at samples stride + offset, 2 stride + offset, ... up to early + offset
-            return _stack_real(modes, own, True, slice(stride + offset, early + 1 + offset, stride))
+            return stack_rows(modes, own, True, slice(stride + offset, early + 1 + offset, stride))
 
         columns = at(-2) - at(2) + 8 * (at(1) - at(-1))
-        start = _differences(_stack_real(modes, own, True, slice(0, 5)))[:, :1]
-        slow = _rates(_contract(same_m_tables, values), np.concatenate([start, columns], axis=1))
+        start = differences(stack_rows(modes, own, True, slice(0, 5)))[:, :1]
+        slow = rates(contract(same_m_tables, values), np.concatenate([start, columns], axis=1))
         slow = cumulative_integral(slow, stride * scale)
         out = np.empty(level_times.size, dtype=complex)
         fractions = np.arange(stride) / stride  # linear between the slow samples
         out[:early] = (slow[:-1, None] + (slow[1:] - slow[:-1])[:, None] * fractions).ravel()
-        rest = _rates(weights, _differences(level_stack)[:, 2:])
+        rest = rates(weights, differences(level_stack)[:, 2:])
         out[early:] = slow[-1] + cumulative_integral(rest, scale)
         return out
 
     memory = _levels_memory(times, stacked, own, finer, cumulative, first)
     if early_inspiral:
         offsets = early_inspiral_offset(modes, times, symmetric_mass_ratio)
-        harmonics = _harmonic_set(tuple(offsets))(theta, phi)
+        harmonics = harmonic_set(tuple(offsets))(theta, phi)
         memory = memory + mode_scale * sum(value * y for value, y in zip(offsets.values(), harmonics))
     return memory
 
@@ -353,7 +231,7 @@ def _windows(keys, finer, real=False):
     for k, level in enumerate(finer):
         if any(k not in level.modes for k in keys):
             raise ValueError("every sampling must hold the same modes")
-        stacked = _stack_real(level.modes, keys, real)
+        stacked = stack_rows(level.modes, keys, real)
         level_times = np.asarray(level.times, float)
         start = max(int(np.searchsorted(level_times, level.use_from)) - 4, 0)
         end = level_times.size
