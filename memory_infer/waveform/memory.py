@@ -202,8 +202,8 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     memory = _levels_memory(times, stacked, own, finer, cumulative, first)
     if early_inspiral:
         offsets = early_inspiral_offset(modes, times, symmetric_mass_ratio)
-        harmonics = harmonic_set(tuple(offsets))(theta, phi)
-        memory = memory + mode_scale * sum(value * y for value, y in zip(offsets.values(), harmonics))
+        towards = harmonic_set(tuple(offsets))(theta, phi)  # -2Y_l0 of the offsets' modes
+        memory = memory + mode_scale * sum(value * y for value, y in zip(offsets.values(), towards))
     return memory
 
 
