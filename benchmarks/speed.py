@@ -61,8 +61,9 @@ def memory_vs_modes(masses):
 
     def modes_and_memory(i):
         series = generate_modes("IMRPhenomTHM", masses[0] + 1e-4 * (i % 50), masses[1], 100.0, 1 / RATE, 20.0)
-        times, modes = series.geometric()
-        memory_at_direction(modes, times, 1.0, 0.5, finer=series.geometric_finer())
+        times, modes = series.geometric(scaled=False)  # as the source model calls it: SI modes, times in M
+        memory_at_direction(modes, times, 1.0, 0.5, finer=series.geometric_finer(scaled=False),
+                            mode_scale=series.strain_scale)
         return series
 
     t_both, t_modes, _, spread = interleaved(modes_and_memory, modes_alone, calls(20), SETTINGS["repeats"])

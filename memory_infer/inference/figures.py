@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..results.estimates import grid_index
+from ..waveform.source import combined
 
 WINDOW = (-0.25, 0.1)  # s around the merger at the geocentre
 SPECTRUM_POINTS = 600  # log-spaced frequencies kept for the spectrum figure
@@ -12,7 +13,7 @@ SPECTRUM_POINTS = 600  # log-spaced frequencies kept for the spectrum figure
 
 def _polarizations(generator, point):
     oscillatory, memory = generator.parts(point, raise_errors=True)
-    with_memory = {k: oscillatory[k] + memory[k] for k in oscillatory}
+    with_memory = combined(oscillatory, memory, 1.0)
     return oscillatory, memory, with_memory
 
 

@@ -17,6 +17,7 @@ from scipy.special import logsumexp
 
 from ..common.errors import MemoryInferError
 from ..inputs.config import PHASE_REFUSAL
+from ..waveform.source import combined
 
 
 @dataclass
@@ -138,14 +139,15 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
                                                    parameters["psi"], mode) for mode in polarization_sets[0]}
         time_shift = detector.time_delay_from_geocenter(parameters["ra"], parameters["dec"], parameters["geocent_time"])
         dt = (parameters["geocent_time"] - detector.strain_data.start_time) + time_shift
-        phase = np.exp(-1j * 2 * np.pi * dt * frequencies)
-        calibration = detector.calibration_model.get_calibration_factor(
-            frequencies, prefix="recalib_{}_".format(detector.name), **parameters)
+        shift = np.zeros(mask.size, dtype=complex)  # bilby's mask, time shift and calibration as one factor
+        shift[mask] = np.exp(-1j * 2 * np.pi * dt * frequencies)
+        if type(detector.calibration_model) is not bilby.gw.detector.calibration.Recalibrate:  # else exactly 1
+            shift[mask] *= detector.calibration_model.get_calibration_factor(
+                frequencies, prefix="recalib_{}_".format(detector.name), **parameters)
         out = []
         for polarizations in polarization_sets:
-            signal = sum(polarizations[mode] * factors[mode] for mode in polarizations) * mask
-            signal[mask] = signal[mask] * phase
-            signal[mask] *= calibration
+            signal = sum(polarizations[mode] * factors[mode] for mode in polarizations)
+            signal *= shift
             out.append(signal)
         return out
 
@@ -252,7 +254,7 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
         if self.time_marginalization and self.jitter_time:
             parameters["geocent_time"] += parameters["time_jitter"]
         amplitudes = np.asarray(amplitudes, dtype=float)
-        d_inner_h = products.d_osc + amplitudes * products.d_mem
+        d_inner_h = combined(products.d_osc, products.d_mem, amplitudes)
         h_inner_h = products.osc_osc + 2 * amplitudes * products.osc_mem + amplitudes ** 2 * products.mem_mem
         if not self.time_marginalization:  # both closed forms take arrays of A at once
             if self.distance_marginalization:
@@ -261,11 +263,11 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
         out = np.empty(len(amplitudes))
         for k, amplitude in enumerate(amplitudes):
             snrs = self._CalculatedSNRs(
-                d_inner_h=products.d_osc + amplitude * products.d_mem,
+                d_inner_h=combined(products.d_osc, products.d_mem, amplitude),
                 optimal_snr_squared=products.osc_osc + 2 * amplitude * products.osc_mem
                 + amplitude ** 2 * products.mem_mem)
             if self.time_marginalization:
-                snrs.d_inner_h_array = products.d_osc_series + amplitude * products.d_mem_series
+                snrs.d_inner_h_array = combined(products.d_osc_series, products.d_mem_series, amplitude)
             out[k] = float(np.real(self.compute_log_likelihood_from_snrs(snrs, parameters=parameters)))
         return out
 

@@ -69,10 +69,11 @@ def memory_strain(modes: FrequencyModes, inclination: float, phase: float, early
     """Complex memory ``h+ - i hx`` (SI at 1 Mpc) at ``modes.series.times`` in lalsimulation's polarization frame."""
     series = modes.series
     theta, phi, rotation = observer(modes, inclination, phase)
-    times, geometric = series.geometric()
-    memory = memory_at_direction(geometric, times, theta, phi, early_inspiral=early_inspiral,
-                                 symmetric_mass_ratio=series.symmetric_mass_ratio, finer=series.geometric_finer())
-    return memory * series.strain_scale * rotation
+    times, strain = series.geometric(scaled=False)  # SI strain, times in M
+    memory = memory_at_direction(strain, times, theta, phi, early_inspiral=early_inspiral,
+                                 symmetric_mass_ratio=series.symmetric_mass_ratio,
+                                 finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale)
+    return memory * rotation
 
 
 def frequency_parts(frequency_array, parameters: dict, settings: dict, values: dict, cache) -> dict:

@@ -14,7 +14,7 @@ import bilby
 from ..common.errors import WaveformError
 from .frequency_source import signal_parts
 from .models.fd_modes import is_frequency_domain
-from .source import DEFAULT_APPROXIMANT, SourceCache, memory_binary_black_hole, signal_strain
+from .source import DEFAULT_APPROXIMANT, SourceCache, combined, memory_binary_black_hole, signal_strain
 
 logger = logging.getLogger("memory_infer")
 
@@ -66,7 +66,7 @@ class MemoryWaveformGenerator(bilby.gw.WaveformGenerator):
             oscillatory, memory = self._parts(parameters)  # the model's own polarizations plus A x memory
             if oscillatory is None:
                 return None
-            return {k: oscillatory[k] + amplitude * memory[k] for k in oscillatory}
+            return combined(oscillatory, memory, amplitude)
         try:  # bilby has converted the parameters already; one transform of oscillatory + A x memory
             return signal_strain(self.frequency_array, amplitude, cache=self.source_cache, **parameters)
         except WaveformError as error:

@@ -31,7 +31,8 @@ from functools import lru_cache
 
 import numpy as np
 
-from .sphere import coupling_table, direction_matrix, spin_weighted_harmonic
+from .flux import contract, differences, flux_tables, harmonic_set, mirrored_rows, rates, stack_rows
+from .sphere import coupling_table, spin_weighted_harmonic
 
 
 LALSIMULATION_SIGN = -1.0  # flux-form memory (e_theta, e_phi basis) -> lalsimulation's polarization basis
@@ -130,84 +131,30 @@ INSPIRAL_STRIDE = 16  # early-inspiral flux on every 16th sample: it changes ove
 INSPIRAL_FREQUENCY = 0.004  # M f_22 below which the inspiral counts as early (45 Hz at 18 M_sun)
 
 
-def mirror_partners(keys, stacked) -> np.ndarray | None:
-    """Index of (l, -m) for every mode when the modes obey ``h_{l,-m} = (-1)^l conj(h_lm)`` (aligned spins;
-    checked on nine samples), else None."""
-    index = {k: i for i, k in enumerate(keys)}
-    partner = np.array([index.get((l, -m), -1) for l, m in keys])
-    if np.any(partner < 0):
-        return None
-    probe = stacked[:, np.linspace(0, stacked.shape[1] - 1, 9).astype(int)]
-    signs = np.array([(-1) ** l for l, _ in keys], dtype=float)[:, None]
-    if np.abs(probe[partner] - signs * np.conj(probe)).max() > 1e-9 * np.abs(probe).max():
-        return None
-    return partner
-
-
-@lru_cache(maxsize=64)
-def _mirror_plan(keys: tuple):
-    """(rows differenced, [(row, source position, sign)] filled by ``h_{l,-m} = (-1)^l conj(h_lm)``)."""
-    own = tuple(i for i, (_, m) in enumerate(keys) if m >= 0)
-    filled = tuple((i, own.index(keys.index((l, -m))), -1.0 if l % 2 else 1.0)
-                   for i, (l, m) in enumerate(keys) if m < 0)
-    return np.array(own), filled
-
-
-def _derivatives(keys, stacked, step, partner, columns=None) -> np.ndarray:
-    """Fourth-order time derivatives of the stacked modes, everywhere or at interior sample ``columns``.
-
-    With ``partner`` (the mirror symmetry holds) only m >= 0 are differenced; m < 0 follow by symmetry.
-    """
-    if partner is None:
-        own, filled = slice(None), ()
-    else:
-        own, filled = _mirror_plan(tuple(keys))
-    values = stacked[own]
-    if columns is None:
-        derivative = time_derivative(values, step)
-    else:
-        derivative = (values[:, columns - 2] - values[:, columns + 2]
-                      + 8 * (values[:, columns + 1] - values[:, columns - 1])) * (1 / (12 * step))
-    if partner is None:
-        return derivative
-    out = np.empty((len(keys), derivative.shape[1]), dtype=complex)
-    out[own] = derivative
-    for row, source, sign in filled:
-        np.conjugate(derivative[source], out=out[row])
-        if sign < 0:
-            np.negative(out[row], out=out[row])
-    return out
-
-
-def _rates(weights, derivatives) -> np.ndarray:
-    """``sum_ij W_ij dh_i conj(dh_j)`` at every sample, as ``sum_i dh_i (W conj(dh))_i``.
-
-    One small matrix product: BLAS splits it over samples, never over the sum, so the numbers do not
-    depend on the thread count.
-    """
-    return np.einsum("it,it->t", derivatives, weights @ np.conj(derivatives))
-
-
-def _slow_inspiral_end(keys, stacked, step) -> int:
+def _slow_inspiral_end(real, imaginary, step) -> int:
     """Last sample, a multiple of ``INSPIRAL_STRIDE``, before which the (2, 2) frequency is below
-    ``INSPIRAL_FREQUENCY`` / M (0 without a (2, 2) mode)."""
-    if (2, 2) not in keys or stacked.shape[1] < 4 * INSPIRAL_STRIDE:
+    ``INSPIRAL_FREQUENCY`` / M (from the (2, 2) mode's real and imaginary parts)."""
+    if real.size < 4 * INSPIRAL_STRIDE:
         return 0
-    h = stacked[keys.index((2, 2))]
-    probes = np.arange(0, h.size - 1, INSPIRAL_STRIDE)
-    frequency = np.abs(np.angle(h[probes + 1] * np.conj(h[probes]))) / (2 * np.pi * step)
+    probes = np.arange(0, real.size - 1, INSPIRAL_STRIDE)
+    here = real[probes] + 1j * imaginary[probes]
+    after = real[probes + 1] + 1j * imaginary[probes + 1]
+    frequency = np.abs(np.angle(after * np.conj(here))) / (2 * np.pi * step)
     fast = np.nonzero(frequency >= INSPIRAL_FREQUENCY)[0]
     last = (int(fast[0]) if fast.size else probes.size) - 2
     return max(0, last) * INSPIRAL_STRIDE
 
 
 def memory_at_direction(modes: dict, times, theta: float, phi: float, early_inspiral: bool = False,
-                        symmetric_mass_ratio: float | None = None, finer=(), smooth_inspiral: bool = True) -> np.ndarray:
+                        symmetric_mass_ratio: float | None = None, finer=(), smooth_inspiral: bool = True,
+                        mode_scale: float = 1.0) -> np.ndarray:
     """Complex memory strain ``h+_mem - i hx_mem`` (r h / M) towards (theta, phi), every degree kept.
 
     lalsimulation's convention (module docstring). The hot path: the couplings are contracted with
     ``-2Y_lm(theta, phi)`` first, so the cost is one small quadratic form per sample,
     ``h_mem = int sum_ij W_ij dh_i conj(dh_j) dt``. ``finer`` as in :func:`memory_modes`.
+    ``mode_scale``: the modes (also those of ``finer``) are given as ``mode_scale`` x r h / M (for example
+    SI strain, ``mode_scale = M / r``); the memory is then returned in the same units.
 
     ``smooth_inspiral`` (used only when ``h_{l,-m} = (-1)^l conj(h_lm)``, aligned spins): below
     ``M f_22 = INSPIRAL_FREQUENCY`` only the pairs with m_i = m_j are kept, whose product has no orbital
@@ -216,46 +163,61 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     for 12-40 M_sun, at most 2e-4 of the memory's peak for inclinations of 0.3 or more, 8e-4 at 0.05 (nearly
     face-on, where the memory itself nearly vanishes). ``smooth_inspiral=False`` keeps every pair on every sample (exact).
     """
-    keys, stacked = _stack(modes)
-    weights = direction_matrix(keys, theta, phi)
-    partner = mirror_partners(keys, stacked)
-    m_values = np.array([m for _, m in keys])
-    same_m = weights * (m_values[:, None] == m_values[None, :])
+    keys = tuple(sorted(modes))
+    mirrored = mirrored_rows(keys, modes)
+    own, harmonics, tables, same_m_tables = flux_tables(keys, mirrored)
+    values = harmonics(theta, phi) * (LALSIMULATION_SIGN / mode_scale)  # the memory is quadratic in the modes
+    weights = contract(tables, values)
+    times = np.asarray(times, float)
+    step = _uniform_step(times)
+    early = 0  # the slow early inspiral ends here (a multiple of INSPIRAL_STRIDE), on the part the coarse level uses
+    if smooth_inspiral and mirrored and (2, 2) in own:
+        end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3) if finer else times.size
+        h22 = np.asarray(modes[(2, 2)])[:end]
+        early = _slow_inspiral_end(h22.real, h22.imag, step)
+    first = max(early - 2, 0)  # the dense part overlaps the slow one by two samples for its derivative stencil
+    stacked = stack_rows(modes, own, mirrored, slice(first, None))  # the slow part is read off strided below
 
     def cumulative(level_times, level_stack, coarse=False):
-        step = _uniform_step(level_times)
-        early = _slow_inspiral_end(keys, level_stack, step) if (coarse and smooth_inspiral and partner is not None) else 0
-        if early == 0:
-            return LALSIMULATION_SIGN * cumulative_integral(_rates(weights, _derivatives(keys, level_stack, step,
-                                                                                          partner)), step)
-        columns = np.arange(INSPIRAL_STRIDE, early + 1, INSPIRAL_STRIDE)
-        slow = _rates(same_m, _derivatives(keys, level_stack, step, partner, columns))
-        first = _rates(same_m, _derivatives(keys, level_stack[:, :5], step, partner)[:, :1])
-        slow = cumulative_integral(np.concatenate([first, slow]), step * INSPIRAL_STRIDE)
-        out = np.empty(level_stack.shape[1], dtype=complex)
-        out[:early + 1] = _interpolate(np.arange(early + 1), np.arange(0, early + 1, INSPIRAL_STRIDE), slow)
-        start = early - 2  # the dense part overlaps the slow one by two samples for its derivative stencil
-        rest = _rates(weights, _derivatives(keys, level_stack[:, start:], step, partner)[:, 2:])
-        out[early:] = slow[-1] + cumulative_integral(rest, step)
-        return LALSIMULATION_SIGN * out
+        step = (level_times[-1] - level_times[0]) / (level_times.size - 1)  # uniform: checked once, above
+        scale = 1.0 / step  # differences are 12 step dh/dt (the 1/144 is in the tables); trapezoid step
+        if not coarse or early == 0:
+            return cumulative_integral(rates(weights, differences(level_stack)), scale)
+        stride = INSPIRAL_STRIDE
 
-    memory = _levels_memory(np.asarray(times, float), stacked, keys, finer, cumulative)
+        def at(offset):  # the stacked modes at samples stride + offset, 2 stride + offset, ... up to early + offset
+            return stack_rows(modes, own, True, slice(stride + offset, early + 1 + offset, stride))
+
+        columns = at(-2) - at(2) + 8 * (at(1) - at(-1))
+        start = differences(stack_rows(modes, own, True, slice(0, 5)))[:, :1]
+        slow = rates(contract(same_m_tables, values), np.concatenate([start, columns], axis=1))
+        slow = cumulative_integral(slow, stride * scale)
+        out = np.empty(level_times.size, dtype=complex)
+        fractions = np.arange(stride) / stride  # linear between the slow samples
+        out[:early] = (slow[:-1, None] + (slow[1:] - slow[:-1])[:, None] * fractions).ravel()
+        rest = rates(weights, differences(level_stack)[:, 2:])
+        out[early:] = slow[-1] + cumulative_integral(rest, scale)
+        return out
+
+    memory = _levels_memory(times, stacked, own, finer, cumulative, first)
     if early_inspiral:
-        for (l, m), value in early_inspiral_offset(modes, times, symmetric_mass_ratio).items():
-            memory = memory + value * spin_weighted_harmonic(-2, l, m, theta, phi)
+        offsets = early_inspiral_offset(modes, times, symmetric_mass_ratio)
+        towards = harmonic_set(tuple(offsets))(theta, phi)  # -2Y_l0 of the offsets' modes
+        memory = memory + mode_scale * sum(value * y for value, y in zip(offsets.values(), towards))
     return memory
 
 
-def _levels_memory(times, stacked, keys, finer, cumulative):
+def _levels_memory(times, stacked, keys, finer, cumulative, first: int = 0):
     """Cumulative memory at ``times`` from the coarse modes and the ``finer`` levels.
 
     ``cumulative(level_times, level_stack)`` integrates one level's flux (last axis is time). The coarse
     flux is integrated only until the first finer level takes over; each level only where it is used.
+    ``stacked`` holds the coarse modes from sample ``first`` on (``cumulative`` supplies the rest).
     """
-    windows = _windows(keys, finer)
+    windows = _windows(keys, finer, not np.iscomplexobj(stacked))
     if windows:
         end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3)
-        coarse = cumulative(times[:end], stacked[..., :end], coarse=True)
+        coarse = cumulative(times[:end], stacked[..., :end - first], coarse=True)
         coarse = np.concatenate([coarse, np.repeat(coarse[..., -1:], times.size - end, axis=-1)], axis=-1)
     else:
         coarse = cumulative(times, stacked, coarse=True)
@@ -263,13 +225,13 @@ def _levels_memory(times, stacked, keys, finer, cumulative):
                                    for level, window_times, window_stack in windows])
 
 
-def _windows(keys, finer):
+def _windows(keys, finer, real=False):
     """``(level, times, stacked modes)`` of each finer level, cut to where it is used (plus a few samples)."""
     out = []
     for k, level in enumerate(finer):
-        level_keys, stacked = _stack(level.modes)
-        if level_keys != keys:
+        if any(k not in level.modes for k in keys):
             raise ValueError("every sampling must hold the same modes")
+        stacked = stack_rows(level.modes, keys, real)
         level_times = np.asarray(level.times, float)
         start = max(int(np.searchsorted(level_times, level.use_from)) - 4, 0)
         end = level_times.size

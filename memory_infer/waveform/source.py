@@ -58,9 +58,13 @@ class TimeSignal:
     memory: np.ndarray
     early_inspiral_memory: float  # |memory| offset added for the inspiral before the first sample
 
-    def polarizations(self, memory_amplitude: float = 1.0) -> dict:
-        total = self.oscillatory + memory_amplitude * self.memory
-        return {"plus": total.real, "cross": -total.imag}
+
+def combined(oscillatory, memory, amplitude):
+    """The signal for memory amplitude A, ``oscillatory + amplitude x memory``: arrays (or arrays of A
+    broadcast against them), or dicts of polarizations with the same keys."""
+    if isinstance(oscillatory, dict):
+        return {key: oscillatory[key] + amplitude * memory[key] for key in oscillatory}
+    return oscillatory + amplitude * memory
 
 
 def time_signal(series: ModeSeries, inclination: float, phase: float,
@@ -76,12 +80,10 @@ def time_signal(series: ModeSeries, inclination: float, phase: float,
     oscillatory = mode_sum(series.modes, theta, phi)
     if not include_memory:
         return TimeSignal(series.times, oscillatory, np.zeros(series.times.size, complex), 0.0)
-    geometric_times, geometric_modes = series.geometric()
-    memory = memory_at_direction(geometric_modes, geometric_times, theta, phi,
-                                 early_inspiral=early_inspiral,
+    geometric_times, strain_modes = series.geometric(scaled=False)  # SI strain, times in M
+    memory = memory_at_direction(strain_modes, geometric_times, theta, phi, early_inspiral=early_inspiral,
                                  symmetric_mass_ratio=series.symmetric_mass_ratio,
-                                 finer=series.geometric_finer())
-    memory = memory * series.strain_scale
+                                 finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale)
     offset = float(abs(memory[0]))
     return TimeSignal(series.times, oscillatory, memory, offset)
 
@@ -123,9 +125,16 @@ def circular_layout(signal: TimeSignal, n_buffer: int, delta_t: float, taper_dur
     shift = float(times[0] + peak_index * delta_t)
     buffer_oscillatory = np.zeros(n_buffer, dtype=complex)
     buffer_memory = np.full(n_buffer, memory[0], dtype=complex)
-    index = (np.arange(times.size) - peak_index) % n_buffer
-    buffer_oscillatory[index] = oscillatory
-    buffer_memory[index] = memory
+    # sample k goes to index (k - peak_index) mod n_buffer: the peak and after from 0, the earlier part at the end
+    if 0 <= peak_index <= times.size:
+        buffer_oscillatory[:times.size - peak_index] = oscillatory[peak_index:]
+        buffer_memory[:times.size - peak_index] = memory[peak_index:]
+        if peak_index:
+            buffer_oscillatory[n_buffer - peak_index:] = oscillatory[:peak_index]
+            buffer_memory[n_buffer - peak_index:] = memory[:peak_index]
+    else:
+        index = (np.arange(times.size) - peak_index) % n_buffer
+        buffer_oscillatory[index], buffer_memory[index] = oscillatory, memory
     after = (times.size - peak_index) + np.arange(n_taper)
     fall = 0.5 * (1 + np.cos(np.pi * np.arange(n_taper) / max(n_taper, 1)))
     buffer_memory[after % n_buffer] = memory[0] + (memory[-1] - memory[0]) * fall
@@ -193,7 +202,7 @@ def lalsimulation_spins(parameters: dict, reference_frequency: float):
 
     a_1, a_2 = parameters.get("a_1", 0.0), parameters.get("a_2", 0.0)
     tilt_1, tilt_2 = parameters.get("tilt_1", 0.0), parameters.get("tilt_2", 0.0)
-    if np.allclose(np.sin([tilt_1, tilt_2]), 0) or (a_1 == 0 and a_2 == 0):
+    if max(abs(np.sin(tilt_1)), abs(np.sin(tilt_2))) <= 1e-8 or (a_1 == 0 and a_2 == 0):  # as np.allclose
         return (parameters["theta_jn"], (0.0, 0.0, a_1 * np.cos(tilt_1)), (0.0, 0.0, a_2 * np.cos(tilt_2)))
     from bilby.core.utils import solar_mass
 
@@ -316,11 +325,11 @@ def signal_strain(frequency_array, amplitude: float, cache: SourceCache | None =
                frequency_array.size, float(frequency_array[-1]))
         if key in cache.parts:
             parts = cache.parts[key]
-            return {"plus": parts["plus"] + amplitude * parts["memory_plus"],
-                    "cross": parts["cross"] + amplitude * parts["memory_cross"]}
+            return combined({"plus": parts["plus"], "cross": parts["cross"]},
+                            {"plus": parts["memory_plus"], "cross": parts["memory_cross"]}, amplitude)
     oscillatory, memory, shift, delta_t = _layout(frequency_array, parameters, cache)
     if memory is not None and amplitude != 0:
-        oscillatory = oscillatory + amplitude * memory
+        oscillatory = combined(oscillatory, memory, amplitude)
     return to_frequency_domain(oscillatory, delta_t, shift, frequency_array)
 
 

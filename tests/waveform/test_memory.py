@@ -103,6 +103,24 @@ def test_smooth_early_inspiral_is_close_to_every_pair(direction):
     assert 0 < np.max(np.abs(fast - exact)) < 3e-4 * np.max(np.abs(exact))
 
 
+@pytest.mark.parametrize("spins", [((0, 0, 0.3), (0, 0, -0.2)), ((0.4, 0.2, 0.3), (-0.1, 0.3, 0.2))])
+def test_strain_units_give_the_same_memory(spins):
+    # the memory is quadratic in the modes: SI modes with mode_scale = M / r give the geometric result times
+    # M / r (identity of the flux form, Wiseman & Will, PRD 44, R2945 (1991)); aligned (mirror-symmetric rows,
+    # real form) and precessing (complex form) spins, finer levels and the early-inspiral offset included
+    approximant = "IMRPhenomTPHM" if spins[0][0] else "IMRPhenomTHM"
+    series = generate_modes(approximant, 30.0, 25.0, 100.0, 1 / 1024, 20.0, *spins, 20.0)
+    times, modes = series.geometric()
+    geometric = memory_at_direction(modes, times, 1.1, 0.4, early_inspiral=True,
+                                    symmetric_mass_ratio=series.symmetric_mass_ratio,
+                                    finer=series.geometric_finer()) * series.strain_scale
+    times, strain = series.geometric(scaled=False)
+    direct = memory_at_direction(strain, times, 1.1, 0.4, early_inspiral=True,
+                                 symmetric_mass_ratio=series.symmetric_mass_ratio,
+                                 finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale)
+    assert np.max(np.abs(direct - geometric)) < 1e-12 * np.max(np.abs(geometric))
+
+
 def test_truncated_degree_converges(thm_modes):
     # measured (convergence in l, no outside source): truncating at l <= 4 leaves ~2e-3, at l <= 6 ~1e-4
     times, modes = thm_modes

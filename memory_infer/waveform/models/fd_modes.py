@@ -101,7 +101,7 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
     if not (mass_1 > 0 and mass_2 > 0 and luminosity_distance > 0):
         raise WaveformError("masses and luminosity distance must be positive")
     precessing = approximant in PRECESSING
-    aligned = bool(np.allclose(spin_1[:2], 0) and np.allclose(spin_2[:2], 0))
+    aligned = bool(max(abs(spin_1[0]), abs(spin_1[1]), abs(spin_2[0]), abs(spin_2[1])) <= 1e-8)  # as np.allclose
     if not precessing and not aligned:
         raise WaveformError(f"waveform model '{approximant}' takes aligned spins only; use IMRPhenomXPHM")
     if memory_lead:

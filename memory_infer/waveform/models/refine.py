@@ -64,6 +64,13 @@ def dominant_phase_step(series: ModeSeries) -> np.ndarray:
     return np.where(amplitude > QUIET_AMPLITUDE * amplitude.max(), step, 0.0)
 
 
+def _steps_above(h: np.ndarray, limit: float) -> np.ndarray:
+    """Whether each phase step ``|arg(h[k+1] conj(h[k]))|`` of ``h`` exceeds ``limit`` (< pi), without arctangents:
+    ``|arg z| > limit`` exactly when ``Re z < cos(limit) |z|``."""
+    z = h[1:] * np.conj(h[:-1])
+    return z.real < np.cos(limit) * np.abs(z)
+
+
 def _late_part(series: ModeSeries) -> int:
     """First sample of the late part of an aligned-spin series: from there on the (2, 2) mode's phase step
     exceeds half ``PHASE_STEP_LIMIT`` (probed on every 16th sample; the inspiral's frequency only rises)."""
@@ -71,13 +78,26 @@ def _late_part(series: ModeSeries) -> int:
         return 0
     h = series.modes[(2, 2)]
     probes = np.arange(0, h.size - 1, 16)
-    fast = np.nonzero(np.abs(np.angle(h[probes + 1] * np.conj(h[probes]))) > PHASE_STEP_LIMIT / 2)[0]
+    z = h[probes + 1] * np.conj(h[probes])
+    fast = np.nonzero(z.real < np.cos(PHASE_STEP_LIMIT / 2) * np.abs(z))[0]
     return max(int(probes[fast[0]]) - 32, 0) if fast.size else max(h.size - 64, 0)
 
 
 def first_unresolved(series: ModeSeries):
     """(time, (2, 2) frequency in Hz) of the last resolved sample before the grid fails, or None."""
     start = _late_part(series)
+    if series.aligned_spins and (2, 2) in series.modes:  # (2, -2) mirrors (2, 2): the same steps
+        h = series.modes[(2, 2)][start:]
+        amplitude = np.abs(h)
+        loud = np.minimum(amplitude[1:], amplitude[:-1])
+        bad = np.nonzero(_steps_above(h, PHASE_STEP_LIMIT) & (loud > QUIET_AMPLITUDE * loud.max()))[0]
+        if bad.size == 0:
+            return None
+        index = max(int(bad[0]) - 1, 0)
+        step = abs(np.angle(h[index + 1] * np.conj(h[index])))
+        if not loud[index] > QUIET_AMPLITUDE * loud.max():
+            step = 0.0
+        return float(series.times[start + index]), float(step / (2 * np.pi * series.delta_t))
     late = series if start == 0 else dataclasses.replace(series, times=series.times[start:],
                                                          modes={k: v[start:] for k, v in series.modes.items()})
     step = dominant_phase_step(late)
@@ -97,7 +117,8 @@ def _continued_phases(modes: np.ndarray, orders: np.ndarray) -> np.ndarray:
     closest to ``m / 2`` times the (2, 2) mode's (row ``orders`` gives m; row 0 is the (2, 2) mode).
     """
     wrapped = np.angle(modes[:, 1:] * np.conj(modes[:, :-1]))
-    change = np.angle(np.exp(1j * np.diff(wrapped[0])))
+    change = np.diff(wrapped[0])
+    change -= (2 * np.pi) * np.round(change / (2 * np.pi))  # into [-pi, pi]
     dominant = wrapped[0, 0] + np.concatenate([[0.0], np.cumsum(change)])
     guide = orders[:, None] / 2 * dominant[None, :]
     steps = wrapped + 2 * np.pi * np.round((guide - wrapped) / (2 * np.pi))
@@ -138,7 +159,10 @@ def interpolated_level(series: ModeSeries, join_time: float, factor: int) -> Mod
     windows = sliding_window_view(np.concatenate([amplitude, phase]), 6, axis=1)  # (2K, n - 5, 6)
     values = (windows @ _lagrange_weights(factor).T).reshape(2 * len(keys), -1)
     count = len(keys)
-    values = values[:count] * np.exp(1j * values[count:])
+    amplitudes, phases = values[:count], values[count:]
+    values = np.empty(amplitudes.shape, dtype=complex)
+    np.multiply(amplitudes, np.cos(phases), out=values.real)
+    np.multiply(amplitudes, np.sin(phases), out=values.imag)
     fine_times = times[first + 2] + np.arange(values.shape[1]) * (delta_t / factor)
     modes = {}
     for k, (l, m) in enumerate(keys):

@@ -44,17 +44,21 @@ class ModeSeries:
         """``M / r`` in SI: multiply ``r h / M`` by this to get strain at the distance."""
         return self.total_mass * SOLAR_MASS_METRES / (self.luminosity_distance * MEGAPARSEC_METRES)
 
-    def geometric(self):
-        """``(t / M, {(l, m): r h_lm / M})`` for :func:`memory_infer.memory.memory_modes`."""
+    def geometric(self, scaled: bool = True):
+        """``(t / M, {(l, m): r h_lm / M})`` for :func:`memory_infer.memory.memory_modes`; with ``scaled=False``
+        the modes stay SI strain (``strain_scale`` x r h / M) and only the times are converted."""
+        if not scaled:
+            return self.times / self.mass_seconds, self.modes
         scale = 1.0 / self.strain_scale
         return self.times / self.mass_seconds, {k: v * scale for k, v in self.modes.items()}
 
-    def geometric_finer(self) -> list:
-        """The finer samplings as :class:`memory_infer.memory.Sampling` in geometric units (t / M, r h / M)."""
+    def geometric_finer(self, scaled: bool = True) -> list:
+        """The finer samplings as :class:`memory_infer.memory.Sampling` in geometric units (t / M, r h / M;
+        SI strain with ``scaled=False``)."""
         from ..memory import Sampling
 
         out = []
         for level in self.finer:
-            times, modes = level.geometric()
+            times, modes = level.geometric(scaled)
             out.append(Sampling(times=times, modes=modes, use_from=level.use_from / self.mass_seconds))
         return out

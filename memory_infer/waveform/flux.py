@@ -1,0 +1,139 @@
+"""The memory's flux towards one direction as a small quadratic form per sample, and its pieces.
+
+``h_mem(t, N) = int sum_ij W_ij dh_i conj(dh_j) dt`` (:mod:`memory_infer.waveform.memory`) with
+``W_ij = sum_k -2Y_k(N) couplings[k, i, j]``. For modes with ``h_{l,-m} = (-1)^l conj(h_lm)`` (aligned spins) only
+the m >= 0 modes are stacked and differenced, as real rows ``y = [Re dh, Im dh]``, and the rate is ``y^T Q y``
+with ``Q`` real-blocked: half the arithmetic of the complex form over all modes. Without that symmetry the
+complex form ``sum_i dh_i (W conj(dh))_i`` is the smaller one and is used.
+"""
+from __future__ import annotations
+
+from functools import lru_cache
+
+import numpy as np
+
+from .sphere import HarmonicSet, _direction_tables
+
+
+def mirrored_rows(keys, modes) -> bool:
+    """Whether the modes obey ``h_{l,-m} = (-1)^l conj(h_lm)`` (aligned spins; checked on nine samples)."""
+    if any((l, -m) not in modes for l, m in keys):
+        return False
+    plus = [k for k in keys if k[1] > 0]
+    if not plus:
+        return True
+    probes = np.linspace(0, len(modes[plus[0]]) - 1, 9).astype(int)
+    values = np.array([modes[k][probes] for k in plus])
+    mirror = np.array([modes[(l, -m)][probes] for l, m in plus])
+    signs = np.array([(-1.0) ** l for l, _ in plus])[:, None]
+    return bool(np.abs(values - signs * np.conj(mirror)).max() <= 1e-9 * np.abs(values).max())
+
+
+@lru_cache(maxsize=8)
+def harmonic_set(modes: tuple) -> HarmonicSet:
+    """The cached :class:`HarmonicSet` of ``modes``."""
+    return HarmonicSet(modes)
+
+
+@lru_cache(maxsize=64)
+def flux_tables(keys: tuple, mirrored: bool):
+    """(keys stacked, coupling tables in the real layout): the quadratic form of the rate in the real
+    vector ``y = [Re dh_own, Im dh_own]`` of the stacked modes' derivatives, with the ``-2Y`` harmonics still to
+    be contracted: ``rate = y^T (sum_k Y_k tables[k]) y``, and the same for the m_i = m_j pairs only.
+
+    With the mirror symmetry only m >= 0 are stacked and differenced; the m < 0 modes are
+    ``(-1)^l conj`` of their partners, which the tables absorb. The tables also hold the 1/144 of
+    :func:`differences` (``12 step dh/dt``). Without the symmetry: complex tables over every mode."""
+    harmonics, table = _direction_tables(keys)
+    own = tuple(k for k in keys if k[1] >= 0) if mirrored else keys
+    count = len(own)
+    to_complex = np.zeros((len(keys), 2 * count), dtype=complex)  # dh_keys = to_complex @ y
+    for row, (l, m) in enumerate(keys):
+        if (l, m) in own:
+            i = own.index((l, m))
+            to_complex[row, i], to_complex[row, count + i] = 1, 1j
+        else:
+            i = own.index((l, -m))
+            to_complex[row, i], to_complex[row, count + i] = (-1) ** l, -1j * (-1) ** l
+    m_values = np.array([m for _, m in keys])
+    same_m = m_values[:, None] == m_values[None, :]
+    scale = 1 / 144
+
+    def real_form(couplings):  # (k, keys, keys) -> (k, 2 y, y): [Re Q; Im Q] stacked, Q = T^T W conj(T)
+        q = np.einsum("ai,kab,bj->kij", to_complex, couplings, np.conj(to_complex)) * scale
+        q = (q + np.swapaxes(q, 1, 2)) / 2  # only the symmetric part acts on y^T Q y
+        return np.ascontiguousarray(np.concatenate([q.real, q.imag], axis=1))
+
+    if not mirrored:  # the complex form is the smaller one here: y would be twice as long as dh
+        return own, harmonics, (table * scale).astype(complex), (table * same_m * scale).astype(complex)
+    return own, harmonics, real_form(table), real_form(table * same_m)
+
+
+def contract(tables: np.ndarray, harmonics: np.ndarray) -> np.ndarray:
+    """``[Re Q; Im Q]`` of ``Q = sum_k Y_k Q_k`` from ``tables[k] = [Re Q_k; Im Q_k]`` (einsum: the numbers do
+    not depend on BLAS threads)."""
+    if np.iscomplexobj(tables):  # the complex form (no mirror symmetry)
+        return np.einsum("k,kij->ij", harmonics, tables)
+    n = tables.shape[2]
+    real = np.einsum("k,kij->ij", harmonics.real, tables)
+    imaginary = np.einsum("k,kij->ij", harmonics.imag, tables)
+    out = np.empty_like(real)
+    out[:n] = real[:n] - imaginary[n:]
+    out[n:] = real[n:] + imaginary[:n]
+    return out
+
+
+def stack_rows(modes: dict, keys, real: bool = True, part: slice = slice(None)) -> np.ndarray:
+    """``[Re h; Im h]`` of the samples ``part`` of the modes ``keys``, stacked (2 len(keys), n); complex rows
+    ``h`` if not ``real``."""
+    if not real:
+        return np.array([np.asarray(modes[k])[part] for k in keys], dtype=complex)
+    first = np.asarray(modes[keys[0]])[part]
+    out = np.empty((2 * len(keys), first.size))
+    for i, key in enumerate(keys):
+        h = np.asarray(modes[key])[part]
+        out[i], out[len(keys) + i] = h.real, h.imag
+    return out
+
+
+def differences(values: np.ndarray) -> np.ndarray:
+    """``12 step`` times :func:`time_derivative` (the factor is folded into the coupling tables)."""
+    if values.shape[-1] < 5:
+        return np.gradient(values, axis=-1) * 12
+    out = np.empty_like(values)
+    v = values
+    middle = out[..., 2:-2]
+    np.subtract(v[..., :-4], v[..., 4:], out=middle)
+    eight = v[..., 3:-1] - v[..., 1:-3]
+    eight *= 8
+    middle += eight
+    ends = END_STENCILS
+    out[..., :2] = v[..., :5] @ ends[0]
+    out[..., -2:] = v[..., -5:] @ ends[1]
+    return out
+
+
+END_STENCILS = (np.array([[-25, 48, -36, 16, -3], [-3, -10, 18, -6, 1]], dtype=float).T,
+                 np.array([[-1, 6, -18, 10, 3], [3, -16, 36, -48, 25]], dtype=float).T)  # one-sided, 4th order
+
+
+def rates(weights, differences) -> np.ndarray:
+    """``sum_ij W_ij dh_i conj(dh_j)`` at every sample as ``y^T Q y`` (real ``y``, ``weights`` = [Re Q; Im Q]).
+
+    One small matrix product: BLAS splits it over samples, never over the sum, so the numbers do not
+    depend on the thread count; the sum over the rows runs row by row.
+    """
+    if np.iscomplexobj(differences):  # the complex form: sum_i dh_i (W conj(dh))_i
+        product = weights @ np.conj(differences)
+        product *= differences
+        return product.sum(axis=0)
+    count = differences.shape[0]
+    product = weights @ differences
+    real = product[:count]
+    real *= differences
+    imaginary = product[count:]
+    imaginary *= differences
+    out = np.empty(differences.shape[1], dtype=complex)
+    out.real = real.sum(axis=0)
+    out.imag = imaginary.sum(axis=0)
+    return out
