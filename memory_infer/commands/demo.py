@@ -59,7 +59,7 @@ phase = {{ kind = "periodic", minimum = 0.0, maximum = 6.283185307179586 }}
 
 [sampler]
 live_points = {live_points}
-accepted_walks = 10
+accepted_walks = 5
 seed = {seed}
 checkpoint_seconds = 30.0
 
@@ -94,7 +94,7 @@ minimum_frequency = 20.0
 
 def add_arguments(parser):
     parser.add_argument("--outdir", default="demo-out", help="folder for the demo's configurations and reports")
-    parser.add_argument("--live-points", type=int, default=60, help="live points of each short nested run")
+    parser.add_argument("--live-points", type=int, default=40, help="live points of each short nested run")
     parser.add_argument("--injections", type=int, default=2000, help="injections in the demo campaign")
     parser.add_argument("--workers", type=int, default=2, help="local processes for the events and the campaign")
     parser.add_argument("--catalog", action="store_true", help="instead, the invented demo catalog: releases from "
