@@ -3,7 +3,8 @@
 Six invented events in simulated data across mixed networks (third generation and second generation),
 memory injected as general relativity predicts in five and absent in one; per-event evidence (a short
 nested run plus reweighting and the fast estimates), the catalog combination, a small campaign, and an
-index page linking the reports. Every configuration it runs is written beside its outputs.
+index page linking the reports. The events run side by side on ``--workers`` local processes (two by default),
+then the campaign on the same number. Every configuration it runs is written beside its outputs.
 """
 from __future__ import annotations
 
