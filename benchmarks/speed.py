@@ -173,9 +173,9 @@ def campaign_rates():
     """Campaign injections per second on 2 local processes: the steady rate (once the workers are running) and
     the rate including the workers' start-up, medians of the rounds, and the start-up alone (seconds to the
     first stored record: two fresh interpreters importing bilby, then one injection each)."""
-    rounds = np.array([campaign_rate(SETTINGS["injections"])[:3] for _ in range(SETTINGS["repeats"])])
-    steady, overall, startup = np.median(rounds, axis=0)
-    return float(steady), float(overall), float(startup), (rounds[:, 0].min(), rounds[:, 0].max())
+    rounds = np.array([campaign_rate(SETTINGS["injections"]) for _ in range(SETTINGS["repeats"])])
+    steady, overall, startup, cpu = np.median(rounds, axis=0)
+    return float(steady), float(overall), float(startup), float(cpu), (rounds[:, 0].min(), rounds[:, 0].max())
 
 
 def reweighting_vs_bilby(approximant, point_changes=None):
@@ -261,10 +261,11 @@ def main(argv=None):
     ratio, note = reweighting_vs_bilby("IMRPhenomXPHM", dict(tilt_1=0.6, tilt_2=1.9, phi_12=0.8))
     rows.append(("reweighting per sample / bilby IMRPhenomXPHM likelihood", ratio, 1.4, "lower", "bilby XPHM, same run",
                  note))
-    rate, overall, startup, (low, high) = campaign_rates()
+    rate, overall, startup, cpu, (low, high) = campaign_rates()
     rows.append(("fast campaign, injections per second on 2 cores", rate, 40, "higher", "none (absolute rate)",
                  f"{SETTINGS['injections']} HLV-design injections, 4 s at 2048 Hz, all recovered; steady rate (after "
-                 f"the first tenth), rounds {low:.1f}-{high:.1f}; with start-up {overall:.1f}/s, start-up {startup:.1f} s"))
+                 f"the first tenth), rounds {low:.1f}-{high:.1f}; with start-up {overall:.1f}/s, start-up {startup:.1f} s; "
+                 f"CPU {cpu * 1e3:.1f} ms per injection, all processes and start-up ({2 / cpu:.1f}/s if CPU-bound)"))
     if options.runs:
         repeats = options.run_repeats or SETTINGS["repeats"]
         for name, arguments in end_to_end_commands():
@@ -334,7 +335,8 @@ class _TimedStore:
 
 def campaign_rate(count: int = 400, make_executor=None):
     """Fast-method injections through the campaign machinery (every one recovered): (steady injections per
-    second, injections per second including start-up, seconds to the first stored record).
+    second, injections per second including start-up, seconds to the first stored record, CPU seconds per
+    injection of this process and its workers together, their start-up included).
 
     ``make_executor()`` builds the executor (default: two local processes); its start-up is timed too.
     """
@@ -363,16 +365,26 @@ sampling_rate = 2048.0
         for task in tasks:
             task["settings"]["workdir"] = folder
         store = _TimedStore(RecordStore(os.path.join(folder, "records.sqlite"), fingerprint(tasks)))
+        cpu_before = _cpu_seconds()
         start = time.perf_counter()
         executor = make_executor(folder) if make_executor else ProcessExecutor(2)
         execute(tasks, store, executor, progress=False, window=16)
         elapsed = time.perf_counter() - start
-        executor.close()
+        executor.close()  # waits for the workers, so their CPU time is counted
+        cpu = _cpu_seconds() - cpu_before
         store.store.close()
     times = np.array(store.times)
     first = max(4, count // 10)  # steady rate: from the first tenth's last record on (the workers are warm)
     steady = (count - first) / (times[-1] - times[first - 1])
-    return steady, count / elapsed, times[0] - start
+    return steady, count / elapsed, times[0] - start, cpu / count
+
+
+def _cpu_seconds() -> float:
+    """User + system CPU seconds of this process and of its ended child processes (local workers)."""
+    import resource
+
+    own, children = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
 
 
 def slurm_overhead(count: int = 400):
