@@ -171,9 +171,12 @@ def reweighting_throughput():
 
 
 def campaign_rates():
-    """Campaign injections per second, median of the rounds, with one bilby likelihood call timed between."""
-    rates = [campaign_rate(SETTINGS["injections"])[0] for _ in range(SETTINGS["repeats"])]
-    return float(np.median(rates)), (min(rates), max(rates))
+    """Campaign injections per second on 2 local processes: the steady rate (once the workers are running) and
+    the rate including the workers' start-up, medians of the rounds, and the start-up alone (seconds to the
+    first stored record: two fresh interpreters importing bilby, then one injection each)."""
+    rounds = np.array([campaign_rate(SETTINGS["injections"]) for _ in range(SETTINGS["repeats"])])
+    steady, overall, startup, cpu = np.median(rounds, axis=0)
+    return float(steady), float(overall), float(startup), float(cpu), (rounds[:, 0].min(), rounds[:, 0].max())
 
 
 def reweighting_vs_bilby(approximant, point_changes=None):
@@ -226,6 +229,8 @@ def main(argv=None):
     parser.add_argument("--repeats", type=int, default=None, help="rounds per row (default 5, quick 3)")
     parser.add_argument("--runs", action="store_true",
                         help="also time the demo and configs/example_event.toml end to end (minutes each; idle cores)")
+    parser.add_argument("--run-repeats", type=int, default=None,
+                        help="runs of each end-to-end command (default: the rounds of the other rows)")
     options = parser.parse_args(argv)
     if options.quick:
         SETTINGS.update(repeats=3, calls=0.3, injections=100)
@@ -257,14 +262,19 @@ def main(argv=None):
     ratio, note = reweighting_vs_bilby("IMRPhenomXPHM", dict(tilt_1=0.6, tilt_2=1.9, phi_12=0.8))
     rows.append(("reweighting per sample / bilby IMRPhenomXPHM likelihood", ratio, 1.4, "lower", "bilby XPHM, same run",
                  note))
-    rate, (low, high) = campaign_rates()
+    rate, overall, startup, cpu, (low, high) = campaign_rates()
     rows.append(("fast campaign, injections per second on 2 cores", rate, 40, "higher", "none (absolute rate)",
-                 f"{SETTINGS['injections']} HLV-design injections, 4 s at 2048 Hz, all recovered; rounds {low:.1f}-{high:.1f}"))
+                 f"{SETTINGS['injections']} HLV-design injections, 4 s at 2048 Hz, all recovered; steady rate (after "
+                 f"the first tenth), rounds {low:.1f}-{high:.1f}; with start-up {overall:.1f}/s, start-up {startup:.1f} s; "
+                 f"CPU {cpu * 1e3:.1f} ms per injection, all processes and start-up ({2 / cpu:.1f}/s if CPU-bound)"))
     if options.runs:
+        repeats = options.run_repeats or SETTINGS["repeats"]
         for name, arguments in end_to_end_commands():
-            seconds = end_to_end_seconds(arguments)
-            rows.append((f"{name}, wall time in seconds", seconds, 300, "lower", "none (absolute, 2 cores)",
-                         " ".join(arguments[:2]) + " (one run)"))
+            runs = np.array([end_to_end_seconds(arguments) for _ in range(repeats)])
+            wall, cpu = np.median(runs[:, 0]), np.median(runs[:, 1])
+            rows.append((f"{name}, wall time in seconds", wall, 300, "lower", "none (absolute, 2 cores)",
+                         f"{' '.join(arguments[:1])}: median of {repeats} runs, CPU {cpu:.0f} s (all processes); "
+                         f"load average {runs[:, 2].min():.1f}-{runs[:, 3].max():.1f} (before-after)"))
     print(table(rows), flush=True)
     if options.quick:
         return
@@ -285,26 +295,49 @@ def end_to_end_commands():
             ("configs/example_event.toml", ["evidence", os.path.join(here, "..", "configs", "example_event.toml")])]
 
 
-def end_to_end_seconds(arguments) -> float:
-    """Wall time of one ``memory-infer`` command in a fresh process, output into a temporary folder."""
+def end_to_end_seconds(arguments):
+    """(wall seconds, CPU seconds of the command and every process it waited for, load average before, after) of
+    one ``memory-infer`` command in a fresh process, output into a temporary folder."""
     import os
+    import resource
     import subprocess
     import sys
     import tempfile
 
     with tempfile.TemporaryDirectory() as folder:
+        load_before = os.getloadavg()[0]
+        usage = resource.getrusage(resource.RUSAGE_CHILDREN)
         start = time.perf_counter()
         done = subprocess.run([sys.executable, "-m", "memory_infer.cli", *arguments, "--outdir",
                                os.path.join(folder, "out")], capture_output=True, text=True,
                               cwd=os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+        wall = time.perf_counter() - start
+        after = resource.getrusage(resource.RUSAGE_CHILDREN)
+        cpu = (after.ru_utime - usage.ru_utime) + (after.ru_stime - usage.ru_stime)
         if done.returncode != 0:
             print(f"memory-infer {arguments[0]} failed: {(done.stderr or done.stdout).strip()[-300:]}")
-            return float("nan")
-        return time.perf_counter() - start
+            return float("nan"), float("nan"), load_before, os.getloadavg()[0]
+        return wall, cpu, load_before, os.getloadavg()[0]
+
+
+class _TimedStore:
+    """A record store that notes when each record is stored (all ``execute`` uses of a store)."""
+
+    def __init__(self, store):
+        self.store, self.times = store, []
+
+    def done(self):
+        return self.store.done()
+
+    def write(self, record):
+        self.store.write(record)
+        self.times.append(time.perf_counter())
 
 
 def campaign_rate(count: int = 400, make_executor=None):
-    """Fast-method injections through the campaign machinery (every one recovered), injections per second.
+    """Fast-method injections through the campaign machinery (every one recovered): (steady injections per
+    second, injections per second including start-up, seconds to the first stored record, CPU seconds per
+    injection of this process and its workers together, their start-up included).
 
     ``make_executor()`` builds the executor (default: two local processes); its start-up is timed too.
     """
@@ -332,14 +365,27 @@ sampling_rate = 2048.0
         tasks = plan(load_campaign_config(path))
         for task in tasks:
             task["settings"]["workdir"] = folder
-        store = RecordStore(os.path.join(folder, "records.sqlite"), fingerprint(tasks))
+        store = _TimedStore(RecordStore(os.path.join(folder, "records.sqlite"), fingerprint(tasks)))
+        cpu_before = _cpu_seconds()
         start = time.perf_counter()
         executor = make_executor(folder) if make_executor else ProcessExecutor(2)
         execute(tasks, store, executor, progress=False, window=16)
         elapsed = time.perf_counter() - start
-        executor.close()
-        store.close()
-    return count / elapsed, f"{count} HLV-design injections, 4 s at 2048 Hz, all recovered (no detection cut)"
+        executor.close()  # waits for the workers, so their CPU time is counted
+        cpu = _cpu_seconds() - cpu_before
+        store.store.close()
+    times = np.array(store.times)
+    first = max(4, count // 10)  # steady rate: from the first tenth's last record on (the workers are warm)
+    steady = (count - first) / (times[-1] - times[first - 1])
+    return steady, count / elapsed, times[0] - start, cpu / count
+
+
+def _cpu_seconds() -> float:
+    """User + system CPU seconds of this process and of its ended child processes (local workers)."""
+    import resource
+
+    own, children = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
 
 
 def slurm_overhead(count: int = 400):
@@ -354,9 +400,9 @@ def slurm_overhead(count: int = 400):
 
     section = {"kind": "slurm", "scheduler_address": None, "jobs": 2, "cores": 1, "memory": "2GB",
                "walltime": "00:30:00", "queue": None, "job_logs": None}
-    local, _ = campaign_rate(count)
-    on_slurm, _ = campaign_rate(count, lambda folder: DaskExecutor.from_config(section, None,
-                                                                               os.path.join(folder, "logs")))
+    local = campaign_rate(count)[1]
+    on_slurm = campaign_rate(count, lambda folder: DaskExecutor.from_config(section, None,
+                                                                            os.path.join(folder, "logs")))[1]
     return local / on_slurm, (f"{on_slurm:.1f} vs {local:.1f} injections/s, {count} injections, 2 workers, "
                               "job start-up included")
 

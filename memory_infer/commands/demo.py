@@ -3,7 +3,8 @@
 Six invented events in simulated data across mixed networks (third generation and second generation),
 memory injected as general relativity predicts in five and absent in one; per-event evidence (a short
 nested run plus reweighting and the fast estimates), the catalog combination, a small campaign, and an
-index page linking the reports. Every configuration it runs is written beside its outputs.
+index page linking the reports. The events run side by side on ``--workers`` local processes (two by default),
+then the campaign on the same number. Every configuration it runs is written beside its outputs.
 """
 from __future__ import annotations
 
@@ -59,7 +60,7 @@ phase = {{ kind = "periodic", minimum = 0.0, maximum = 6.283185307179586 }}
 
 [sampler]
 live_points = {live_points}
-accepted_walks = 10
+accepted_walks = 5
 seed = {seed}
 checkpoint_seconds = 30.0
 
@@ -94,9 +95,9 @@ minimum_frequency = 20.0
 
 def add_arguments(parser):
     parser.add_argument("--outdir", default="demo-out", help="folder for the demo's configurations and reports")
-    parser.add_argument("--live-points", type=int, default=60, help="live points of each short nested run")
+    parser.add_argument("--live-points", type=int, default=40, help="live points of each short nested run")
     parser.add_argument("--injections", type=int, default=2000, help="injections in the demo campaign")
-    parser.add_argument("--workers", type=int, default=2, help="local processes for the campaign")
+    parser.add_argument("--workers", type=int, default=2, help="local processes for the events and the campaign")
     parser.add_argument("--catalog", action="store_true", help="instead, the invented demo catalog: releases from "
                         "short bilby runs written by pesummary, open-data-layout strain, and the catalog command")
 
@@ -117,28 +118,53 @@ def event_configuration(index: int, event, live_points: int) -> str:
         live_points=live_points, hypotheses=repr(hypotheses).replace("'", '"'))
 
 
-def run_events(outdir: str, live_points: int, events=None, started: float | None = None) -> list:
-    """Write and run every demo event's configuration; returns the events' output folders."""
+def run_event(job) -> str:
+    """One demo event's evidence run (``job`` = (configuration path, output folder)); a plain function of a
+    picklable job, so local worker processes run it too."""
     import argparse
 
     from . import evidence
+
+    path, event_dir = job
+    evidence.run(argparse.Namespace(config=path, outdir=event_dir, quiet=True))
+    return event_dir
+
+
+def run_events(outdir: str, live_points: int, events=None, started: float | None = None, workers: int = 1) -> list:
+    """Write and run every demo event's configuration, on ``workers`` local processes (events are independent:
+    each has its own seeds, so the numbers do not depend on where it runs); returns the events' output folders."""
+    from ..campaign.executors import ProcessExecutor
 
     events = EVENTS if events is None else events
     started = time.time() if started is None else started
     configs = os.path.join(outdir, "configs")
     os.makedirs(configs, exist_ok=True)
-    event_dirs = []
+    jobs, names = [], {}
     for index, event in enumerate(EVENTS):
         if event not in events:
             continue
         label, detectors, amplitude = event[0], event[1], event[6]
         path = _write(os.path.join(configs, f"{label}.toml"), event_configuration(index, event, live_points))
-        event_dir = os.path.join(outdir, "events", label)
-        print(f"demo [{time.time() - started:5.0f} s]: event {label} ({'+'.join(detectors)}, A = {amplitude:g})",
-              flush=True)
-        evidence.run(argparse.Namespace(config=path, outdir=event_dir, quiet=True))
-        event_dirs.append(event_dir)
-    return event_dirs
+        jobs.append((path, os.path.join(outdir, "events", label)))
+        names[jobs[-1]] = f"{label} ({'+'.join(detectors)}, A = {amplitude:g})"
+    workers = max(1, min(int(workers), len(jobs)))
+    if workers == 1:
+        for job in jobs:
+            print(f"demo [{time.time() - started:5.0f} s]: event {names[job]}", flush=True)
+            run_event(job)
+        return [event_dir for _, event_dir in jobs]
+    print(f"demo [{time.time() - started:5.0f} s]: {len(jobs)} events on {workers} processes", flush=True)
+    executor = ProcessExecutor(workers)  # largest first (EVENTS order): the last event to start is a short one
+    try:
+        futures = {executor.submit(run_event, job): job for job in jobs}
+        for future in executor.as_completed(list(futures)):
+            future.result()
+            print(f"demo [{time.time() - started:5.0f} s]: event {names[futures[future]]} done", flush=True)
+    except BaseException:  # interrupted or failed: end the workers now (nested runs resume from checkpoints)
+        executor.close(now=True)
+        raise
+    executor.close()
+    return [event_dir for _, event_dir in jobs]
 
 
 def combine_events(outdir: str, event_dirs) -> None:
@@ -162,7 +188,7 @@ def run(args) -> int:
     started = time.time()
     outdir = os.path.abspath(args.outdir)
     configs = os.path.join(outdir, "configs")
-    event_dirs = run_events(outdir, args.live_points, started=started)
+    event_dirs = run_events(outdir, args.live_points, started=started, workers=args.workers)
     print(f"demo [{time.time() - started:5.0f} s]: catalog combination", flush=True)
     combine_events(outdir, event_dirs)
     print(f"demo [{time.time() - started:5.0f} s]: campaign of {args.injections} injections", flush=True)

@@ -123,3 +123,23 @@ def test_ctrl_c_stops_a_campaign_in_one_line_with_its_workers(tmp_path):
     while time.time() < deadline and session_processes(process.pid):
         time.sleep(0.1)
     assert session_processes(process.pid) == []
+
+
+def test_local_workers_get_one_blas_thread_each_unless_chosen(monkeypatch):
+    # one worker per core: each with one BLAS/OpenMP thread (an explicit choice of the caller is kept), and the
+    # campaign's own environment is left as it was
+    import os
+
+    from memory_infer.campaign.executors import THREAD_VARIABLES, ProcessExecutor
+
+    for name in THREAD_VARIABLES:
+        monkeypatch.delenv(name, raising=False)
+    monkeypatch.setenv("MKL_NUM_THREADS", "3")
+    executor = ProcessExecutor(1)
+    try:
+        seen = {name: executor.submit(os.getenv, name).result() for name in THREAD_VARIABLES}
+    finally:
+        executor.close()
+    assert seen == {"OMP_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1", "MKL_NUM_THREADS": "3"}
+    assert "OMP_NUM_THREADS" not in os.environ and "OPENBLAS_NUM_THREADS" not in os.environ
+    assert os.environ["MKL_NUM_THREADS"] == "3"

@@ -174,21 +174,36 @@ def _sigmoid(x):
     return 0.5 * (1 + np.tanh(x / 2))
 
 
-def _normal_mean(function, mean, sigma, nodes: int):
-    """``E[function(mean + sigma t)]`` over t ~ N(0, 1) for arrays ``mean`` (any shape, broadcast with ``sigma``):
-    Gauss-Legendre on [-12, 12] split where ``mean + sigma t = 0`` (the softplus kink), ``nodes`` per side."""
+def _normal_means(functions, mean, sigma, nodes: int) -> list:
+    """``[E[f(mean + sigma t)] for f in functions]`` over t ~ N(0, 1) for arrays ``mean`` (any shape, broadcast with
+    ``sigma``): Gauss-Legendre on [-12, 12] split where ``mean + sigma t = 0`` (the softplus kink), ``nodes`` per
+    side. ``functions(x)`` returns the integrands at ``x`` as a tuple, so several integrals share their nodes."""
     mean, sigma = np.broadcast_arrays(np.asarray(mean, float), np.asarray(sigma, float))
     x, w = _legendre(nodes)
     with np.errstate(divide="ignore", invalid="ignore"):
         kink = np.where(sigma > 0, -mean / np.where(sigma > 0, sigma, 1.0), STANDARD_RANGE)
     kink = np.clip(kink, -STANDARD_RANGE, STANDARD_RANGE)[..., None]
-    total = 0.0
+    totals = None
     for low, high in ((-STANDARD_RANGE, kink), (kink, STANDARD_RANGE)):
         half = (high - low) / 2
         t = low + half * (x + 1)
         density = np.exp(-t ** 2 / 2) / np.sqrt(2 * np.pi)
-        total = total + np.sum(half * w * density * function(mean[..., None] + sigma[..., None] * t), axis=-1)
-    return np.where(sigma > 0, total, function(mean))
+        weight = half * w * density
+        parts = [np.sum(weight * value, axis=-1) for value in functions(mean[..., None] + sigma[..., None] * t)]
+        totals = parts if totals is None else [total + part for total, part in zip(totals, parts)]
+    at_mean = functions(mean)
+    return [np.where(sigma > 0, total, value) for total, value in zip(totals, at_mean)]
+
+
+def _normal_mean(function, mean, sigma, nodes: int):
+    """``E[function(mean + sigma t)]`` over t ~ N(0, 1) (:func:`_normal_means` with one integrand)."""
+    return _normal_means(lambda x: (function(x),), mean, sigma, nodes)[0]
+
+
+def _softplus_moments(x):
+    """softplus, its square and its slope (the sigmoid) at ``x``."""
+    value = _softplus(x)
+    return value, value ** 2, _sigmoid(x)
 
 
 def _exact_average(terms, injected, amplitude, nodes, spread: bool = True):
@@ -206,27 +221,27 @@ def _exact_average(terms, injected, amplitude, nodes, spread: bool = True):
     cov = lambda p, q: float(p[1] @ gram @ q[1])
     var_u, var_v, cov_uv = max(cov(u, u), 0.0), max(cov(v, v), 0.0), cov(u, v)
     sd_u, sd_v = np.sqrt(var_u), np.sqrt(var_v)
-    sp_u = float(_normal_mean(_softplus, u[0], sd_u, nodes))
-    sp_v = float(_normal_mean(_softplus, v[0], sd_v, nodes))
-    mean = big_l[0] + sp_v - sp_u
+    # u's and v's integrals side by side (each element is its own integral, so the numbers are those of
+    # separate calls)
     if not spread:
-        return float(mean), None
+        sp_u, sp_v = map(float, _normal_mean(_softplus, [u[0], v[0]], [sd_u, sd_v], nodes))
+        return float(big_l[0] + sp_v - sp_u), None
     # second moments: Stein's lemma for the linear part, a nested integral for softplus(u) softplus(v)
-    sq_u = float(_normal_mean(lambda x: _softplus(x) ** 2, u[0], sd_u, nodes))
-    sq_v = float(_normal_mean(lambda x: _softplus(x) ** 2, v[0], sd_v, nodes))
-    slope_u = float(_normal_mean(_sigmoid, u[0], sd_u, nodes))
-    slope_v = float(_normal_mean(_sigmoid, v[0], sd_v, nodes))
+    (sp_u, sp_v), (sq_u, sq_v), (slope_u, slope_v) = (
+        map(float, values) for values in _normal_means(_softplus_moments, [u[0], v[0]], [sd_u, sd_v], nodes))
+    mean = big_l[0] + sp_v - sp_u
     if sd_u > 0:  # v = v0 + (cov_uv / var_u)(u - u0) + independent normal of variance var_v - cov_uv^2 / var_u
         rest = np.sqrt(max(var_v - cov_uv ** 2 / var_u, 0.0))
         x, w = _legendre(nodes)
         kink = float(np.clip(-u[0] / sd_u, -STANDARD_RANGE, STANDARD_RANGE))
+        halves = [((high - low) / 2, low + (high - low) / 2 * (x + 1))
+                  for low, high in ((-STANDARD_RANGE, kink), (kink, STANDARD_RANGE))]
+        s = np.concatenate([nodes_s for _, nodes_s in halves])  # both halves' outer nodes in one inner call
+        inner = np.split(_normal_mean(_softplus, v[0] + cov_uv / sd_u * s, rest, nodes), 2)
         joint = 0.0
-        for low, high in ((-STANDARD_RANGE, kink), (kink, STANDARD_RANGE)):
-            half = (high - low) / 2
-            s = low + half * (x + 1)
+        for (half, s), inside in zip(halves, inner):
             density = np.exp(-s ** 2 / 2) / np.sqrt(2 * np.pi)
-            inner = _normal_mean(_softplus, v[0] + cov_uv / sd_u * s, rest, nodes)
-            joint += float(np.sum(half * w * density * _softplus(u[0] + sd_u * s) * inner))
+            joint += float(np.sum(half * w * density * _softplus(u[0] + sd_u * s) * inside))
     else:
         joint = float(_softplus(u[0])) * sp_v
     variance = (cov(big_l, big_l) + (sq_v - sp_v ** 2) + (sq_u - sp_u ** 2)
