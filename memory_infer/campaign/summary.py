@@ -95,7 +95,7 @@ def catalog_growth(pool, threshold: float, bootstrap: int, seed: int, max_events
     curve reaches the threshold and where the 95% and 5% curves do (the 90% range), linear between grid sizes.
     """
     pool = np.asarray(pool, dtype=float)
-    pool = pool.reshape(len(pool), -1)
+    pool = pool.reshape(len(pool), -1) if pool.size else pool.reshape(0, 1)  # no detected injection: empty bands
     events = {"threshold": float(threshold), "median": None, "lower_90": None, "upper_90": None,
               "reached_fraction": 0.0, "bootstrap": int(bootstrap), "max_events": int(max_events),
               "method": "catalogs simulated by resampling the detected injections and drawing each event's ln BF "

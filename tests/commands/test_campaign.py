@@ -15,3 +15,13 @@ def test_campaign_command_writes_summary_and_report_from_it(tmp_path, capsys):
     assert main(["report", str(outdir / "campaign.json"), "--output", str(tmp_path / "again.html")]) == 0
     assert (tmp_path / "again.html").read_text() == (outdir / "report.html").read_text()
     assert main(["campaign", config, "--outdir", str(outdir), "--workers", "0"]) == 2
+
+
+def test_campaign_with_no_detected_injection_finishes_with_an_empty_forecast(tmp_path):
+    # a valid configuration whose detection threshold no injection reaches: a summary that says so, no traceback
+    config = campaign_config(tmp_path, count=4, network="ce", noise="zero", detection_snr=1e9)
+    outdir = tmp_path / "out"
+    assert main(["campaign", config, "--outdir", str(outdir), "--quiet"]) == 0
+    summary = json.loads((outdir / "campaign.json").read_text())
+    assert summary["n_injections"] == 4 and summary["n_detected"] == 0 and summary["ln_bf_values"] == []
+    assert (outdir / "report.html").exists()
