@@ -110,19 +110,19 @@ class NestedSampling(EvidenceMethod):
     name = "nested"
 
     def run(self, state: RunState) -> None:
-        config = state.setup.config
-        sampler = config["sampler"]
+        settings = state.setup.settings
+        sampler = settings.sampler
         outdir = os.path.join(state.outdir, "runs")
-        for index, hypothesis in enumerate(config["evidence"]["nested_hypotheses"]):
+        for index, hypothesis in enumerate(settings.evidence.nested_hypotheses):
             if hypothesis not in HYPOTHESES:
                 raise MemoryInferError(f"unknown hypothesis '{hypothesis}' in [evidence] nested_hypotheses")
             likelihood, priors = state.setup.likelihood(hypothesis)
             logger.info("%s: nested sampling, hypothesis '%s'", state.label, hypothesis)
             state.nested[hypothesis] = run_nested(
                 likelihood, priors, label=f"{state.label}_{hypothesis}", outdir=outdir,
-                live_points=sampler["live_points"], accepted_walks=sampler["accepted_walks"], pool=sampler["pool"],
-                seed=int(sampler["seed"]) + index, checkpoint_seconds=sampler["checkpoint_seconds"],
-                progress=bool(sampler["progress"]) and state.progress)
+                live_points=sampler.live_points, accepted_walks=sampler.accepted_walks, pool=sampler.pool,
+                seed=int(sampler.seed) + index, checkpoint_seconds=sampler.checkpoint_seconds,
+                progress=bool(sampler.progress) and state.progress)
         results = state.nested
         found = {}
         for numerator in ("memory", "flipped"):
