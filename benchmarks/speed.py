@@ -310,7 +310,7 @@ def campaign_rate(count: int = 400, make_executor=None):
     import os
     import tempfile
 
-    from memory_infer.campaign.config import fingerprint, load_campaign_config, plan
+    from memory_infer.campaign.config import fingerprint, load_campaign_settings, plan
     from memory_infer.campaign.executors import ProcessExecutor, execute
     from memory_infer.campaign.store import RecordStore
 
@@ -328,9 +328,7 @@ method = "fast"
 duration = 4.0
 sampling_rate = 2048.0
 """)
-        tasks = plan(load_campaign_config(path))
-        for task in tasks:
-            task["settings"]["workdir"] = folder
+        tasks = plan(load_campaign_settings(path), folder)
         store = RecordStore(os.path.join(folder, "records.sqlite"), fingerprint(tasks))
         start = time.perf_counter()
         executor = make_executor(folder) if make_executor else ProcessExecutor(2)
