@@ -349,11 +349,12 @@ def slurm_overhead(count: int = 400):
         return None, "not measured: no Slurm here (python3 scripts/local_slurm.py up starts one)"
     from memory_infer.campaign.executors import DaskExecutor
 
-    section = {"kind": "slurm", "scheduler_address": None, "jobs": 2, "cores": 1, "memory": "2GB",
-               "walltime": "00:30:00", "queue": None, "job_logs": None}
+    from memory_infer.inputs.settings import ClusterSettings
+
+    section = ClusterSettings(kind="slurm", jobs=2, cores=1, memory="2GB", walltime="00:30:00")
     local, _ = campaign_rate(count)
-    on_slurm, _ = campaign_rate(count, lambda folder: DaskExecutor.from_config(section, None,
-                                                                               os.path.join(folder, "logs")))
+    on_slurm, _ = campaign_rate(count, lambda folder: DaskExecutor.from_settings(section, None,
+                                                                                 os.path.join(folder, "logs")))
     return local / on_slurm, (f"{on_slurm:.1f} vs {local:.1f} injections/s, {count} injections, 2 workers, "
                               "job start-up included")
 
