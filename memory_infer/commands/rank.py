@@ -3,8 +3,6 @@ from __future__ import annotations
 
 import os
 
-import numpy as np
-
 
 def add_arguments(parser):
     parser.add_argument("table", help="CSV of events: a 'label' column and bilby parameter names (spins default 0)")

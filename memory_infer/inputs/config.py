@@ -1,4 +1,5 @@
-"""Run configurations: TOML read with the standard library, checked key by key against a schema.
+"""Run configurations: TOML read with the standard library, checked key by key against a schema, then typed as
+settings (:mod:`.settings`, whose dataclasses hold every default once).
 
 Every problem is one sentence naming the section and key; unknown keys are errors (a typo must
 not silently fall back to a default).
@@ -10,9 +11,9 @@ import os
 import tomllib
 
 from ..common.errors import MemoryInferError, close_match
-from .settings import (DEFAULT_REFERENCE_FREQUENCY, AnalysisSettings, CalibrationSettings, DataSettings,  # noqa: F401
-                       EventSettings, EvidenceSettings, LikelihoodSettings, ModelSettings, SamplerSettings,
-                       defaults_of, grid_with_hypotheses)
+from .settings import (AnalysisSettings, CalibrationSettings, DataSettings, EventSettings, EvidenceSettings,
+                       LikelihoodSettings, ModelSettings, SamplerSettings, defaults_of,
+                       grid_with_hypotheses)  # noqa: F401  (grid_with_hypotheses: also its callers' name here)
 
 NUMBER = (int, float)
 ANY = object

@@ -264,6 +264,3 @@ class CampaignSettings:
         import os
 
         return os.path.join(self.directory, self.injections)
-
-
-CAMPAIGN_DATA_KEYS = ("duration", "sampling_rate", "minimum_frequency")
