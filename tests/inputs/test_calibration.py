@@ -12,7 +12,7 @@ CONSTANT = "\n[calibration]\nkind = \"constant\"\namplitude_sigma = 0.05\nphase_
 
 def _setup(tmp_path, extra="", likelihood="", name="event.toml", priors=None):
     from memory_infer.inference.setup import prepare
-    from memory_infer.inputs.config import load_evidence_config, load_evidence_settings
+    from memory_infer.inputs.config import load_evidence_settings
 
     keywords = {"priors": priors} if priors else {}
     path = event_config(tmp_path, name=name, detectors='["H1", "L1"]', noise_curve="ligo-design", noise="gaussian",
