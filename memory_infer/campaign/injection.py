@@ -161,6 +161,7 @@ def _full_recovery(task, detectors, generator, truth) -> dict:
     or nested runs for every hypothesis as well (``method = "nested"``)."""
     from ..inference.runner import run_methods
     from ..inference.setup import EventSetup
+    from ..results.estimates import cumulative_distribution
 
     settings = task["settings"]
     workdir = os.path.join(task["workdir"], f"injection-{task['index']}")
