@@ -344,7 +344,7 @@ def campaign_rate(count: int = 400, make_executor=None):
     import os
     import tempfile
 
-    from memory_infer.campaign.config import fingerprint, load_campaign_config, plan
+    from memory_infer.campaign.config import fingerprint, load_campaign_settings, plan
     from memory_infer.campaign.executors import ProcessExecutor, execute
     from memory_infer.campaign.store import RecordStore
 
@@ -362,9 +362,7 @@ method = "fast"
 duration = 4.0
 sampling_rate = 2048.0
 """)
-        tasks = plan(load_campaign_config(path))
-        for task in tasks:
-            task["settings"]["workdir"] = folder
+        tasks = plan(load_campaign_settings(path), folder)
         store = _TimedStore(RecordStore(os.path.join(folder, "records.sqlite"), fingerprint(tasks)))
         cpu_before = _cpu_seconds()
         start = time.perf_counter()
@@ -398,11 +396,12 @@ def slurm_overhead(count: int = 400):
         return None, "not measured: no Slurm here (python3 scripts/local_slurm.py up starts one)"
     from memory_infer.campaign.executors import DaskExecutor
 
-    section = {"kind": "slurm", "scheduler_address": None, "jobs": 2, "cores": 1, "memory": "2GB",
-               "walltime": "00:30:00", "queue": None, "job_logs": None}
+    from memory_infer.inputs.settings import ClusterSettings
+
+    section = ClusterSettings(kind="slurm", jobs=2, cores=1, memory="2GB", walltime="00:30:00")
     local = campaign_rate(count)[1]
-    on_slurm = campaign_rate(count, lambda folder: DaskExecutor.from_config(section, None,
-                                                                            os.path.join(folder, "logs")))[1]
+    on_slurm = campaign_rate(count, lambda folder: DaskExecutor.from_settings(section, None,
+                                                                             os.path.join(folder, "logs")))[1]
     return local / on_slurm, (f"{on_slurm:.1f} vs {local:.1f} injections/s, {count} injections, 2 workers, "
                               "job start-up included")
 

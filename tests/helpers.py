@@ -115,14 +115,11 @@ def stored(outdir):
 
 
 def run_store(config_path, outdir, executor, window):
-    from memory_infer.campaign.config import fingerprint, load_campaign_config, plan
+    from memory_infer.campaign.config import fingerprint, load_campaign_settings, plan
     from memory_infer.campaign.executors import execute
     from memory_infer.campaign.store import RecordStore
 
-    config = load_campaign_config(config_path)
-    tasks = plan(config)
-    for task in tasks:
-        task["settings"]["workdir"] = str(outdir)
+    tasks = plan(load_campaign_settings(config_path), str(outdir))
     os.makedirs(outdir, exist_ok=True)
     store = RecordStore(os.path.join(outdir, "records.sqlite"), fingerprint(tasks))
     try:

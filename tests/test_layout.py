@@ -155,3 +155,193 @@ def test_public_api_resolves():
         assert getattr(memory_infer, name) is not None
     with pytest.raises(AttributeError):
         memory_infer.no_such_name
+
+
+# ---------------------------------------------------------------- settings, caches, randomness, logging
+
+BELOW_INPUTS = ("results", "inference", "catalog", "campaign", "reports")  # stages that take settings objects
+BELOW_COMMANDS = ("common", "waveform", "inputs", "results", "inference", "catalog", "campaign", "reports")
+# what hands out the configuration mapping (checked TOML as a dict) rather than settings objects
+MAPPING_SOURCES = {"evidence_config", "load_evidence_config", "apply_schema", "load_toml", "EVIDENCE_SCHEMA",
+                   "CAMPAIGN_SCHEMA", "amplitude_grid"}
+HIDDEN_KEYS = {"_directory", "_given", "_origins", "_envelopes"}
+
+
+def _schema_keys() -> dict:
+    from memory_infer.inputs.campaign_config import CAMPAIGN_SCHEMA
+    from memory_infer.inputs.config import EVIDENCE_SCHEMA
+
+    sections = {}
+    for schema in (EVIDENCE_SCHEMA, CAMPAIGN_SCHEMA):
+        for section, keys in schema.items():
+            sections.setdefault(section, set()).update(k for k in keys if k != "*")
+    return sections
+
+
+def _key(node):
+    """The string key of ``x["key"]`` or ``x.get("key", ...)`` being read, else None."""
+    if isinstance(node, ast.Subscript) and isinstance(node.ctx, ast.Load) and isinstance(node.slice, ast.Constant) \
+            and isinstance(node.slice.value, str):
+        return node.slice.value, node.value
+    if isinstance(node, ast.Call) and isinstance(node.func, ast.Attribute) and node.func.attr in ("get", "pop") \
+            and node.args and isinstance(node.args[0], ast.Constant) and isinstance(node.args[0].value, str):
+        return node.args[0].value, node.func.value
+    return None
+
+
+def configuration_reads(module: str, source: str) -> list:
+    """Where ``source`` (a module below the inputs stage) reads the configuration mapping instead of settings: a
+    mapping source imported from the inputs stage, a parameter or attribute named ``config``, a hidden key, a
+    section then key subscript (``x["evidence"]["methods"]``), or a section read from a plain name
+    (``config["evidence"]``, ``cfg.get("model")``)."""
+    sections, found = _schema_keys(), []
+    tree = ast.parse(source)
+    for node in ast.walk(tree):
+        where = f"{module} (line {getattr(node, 'lineno', '?')})"
+        if isinstance(node, ast.ImportFrom) and any(a.name in MAPPING_SOURCES for a in node.names):
+            found.append(f"{where} imports the configuration mapping's source")
+        elif isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef, ast.Lambda)):
+            names = [a.arg for a in node.args.args + node.args.kwonlyargs + node.args.posonlyargs]
+            found += [f"{where} takes a parameter '{n}'" for n in names if n in ("config", "configuration", "cfg")]
+        elif isinstance(node, ast.Attribute) and node.attr == "config":
+            found.append(f"{where} reads an attribute 'config'")
+        key = _key(node)
+        if key is None:
+            continue
+        name, base = key
+        if name in HIDDEN_KEYS:
+            found.append(f"{where} reads the hidden key '{name}'")
+        inner = _key(base)
+        if inner is not None and inner[0] in sections and name in sections[inner[0]]:
+            found.append(f"{where} reads [{inner[0]}] {name} from a mapping")
+        elif name in sections and isinstance(base, ast.Name) and module.split(".")[0] not in ("results", "reports"):
+            found.append(f"{where} reads the section '{name}' from '{base.id}'")
+    return found
+
+
+def test_no_code_below_inputs_reads_the_configuration_mapping():
+    found = []
+    for module, path in modules():
+        if module.split(".")[0] in BELOW_INPUTS:
+            found += configuration_reads(module, open(path).read())
+    assert not found, "\n".join(found)
+
+
+@pytest.mark.parametrize("line", [
+    "def run(setup):\n    return setup.config['evidence']['methods']\n",
+    "def run(state):\n    sampler = state.settings['sampler']['live_points']\n",
+    "def run(config):\n    return 1\n",
+    "def run(options):\n    evidence = options['evidence']\n",
+    "def run(task):\n    return task['settings'].get('_directory')\n",
+    "from ..inputs.config import evidence_config\n",
+])
+def test_the_configuration_check_catches_each_kind_of_read(line):
+    assert configuration_reads("inference.probe", line)
+
+
+def test_the_configuration_check_passes_settings_reads():
+    assert not configuration_reads("inference.probe", "def run(setup):\n    return setup.settings.evidence.methods\n")
+
+
+def cached_functions(source: str) -> list:
+    """(name, line, what it returns) of every function decorated with ``lru_cache``/``cache`` in ``source``."""
+    tree = ast.parse(source)
+    out = []
+    for node in ast.walk(tree):
+        if isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef)):
+            for decorator in node.decorator_list:
+                target = decorator.func if isinstance(decorator, ast.Call) else decorator
+                name = target.attr if isinstance(target, ast.Attribute) else getattr(target, "id", "")
+                if name in ("lru_cache", "cache"):
+                    returned = [ast.unparse(n.value) for n in ast.walk(node) if isinstance(n, ast.Return) and n.value]
+                    out.append((node.name, node.lineno, " ".join(returned)))
+    return out
+
+
+# every cache in the package and what it returns: numbers, or arrays and tables its callers only read; a new
+# cache must be added here deliberately, and none may hold a bilby object (its state would be shared by callers)
+CACHES = {
+    "waveform.sphere.wigner_3j": "a float",
+    "waveform.sphere.coupling_table": "coupling coefficients (arrays, read only)",
+    "waveform.sphere._direction_tables": "a harmonic set and its table (read only)",
+    "waveform.source._harmonic_set": "a harmonic set (read only)",
+    "waveform.models.refine._lagrange_weights": "interpolation weights (an array, read only)",
+    "waveform.memory._mirror_plan": "row indices (read only)",
+    "waveform.memory._leading_order_projection": "coefficients (a table of floats, read only)",
+    "common.performance.tune_allocator": "a bool (once per process)",
+    "inference.methods.fast._legendre": "quadrature nodes and weights (arrays, read only)",
+    "inputs.detectors.known_detectors": "detector names (a table of strings, read only)",
+}
+BILBY_BUILDERS = ("bilby", "waveform_generator", "network_detectors", "configured_detectors", "empty_detectors",
+                  "InterferometerList", "MemoryWaveformGenerator", "MemoryTransient")
+
+
+def cache_problems(module: str, source: str) -> list:
+    found = []
+    for name, line, returned in cached_functions(source):
+        if any(word in returned for word in BILBY_BUILDERS):
+            found.append(f"{module}.{name} (line {line}) caches a bilby object, shared by every caller")
+        elif f"{module}.{name}" not in CACHES:
+            found.append(f"{module}.{name} (line {line}) is a cache not reviewed in tests/test_layout.py CACHES")
+    return found
+
+
+def test_no_module_level_cache_of_mutable_bilby_objects():
+    found = []
+    for module, path in modules():
+        found += cache_problems(module, open(path).read())
+    assert not found, "\n".join(found)
+
+
+def test_the_cache_check_catches_a_cached_generator():
+    probe = ("from functools import lru_cache\n\n@lru_cache(maxsize=4)\ndef cached_generator(duration):\n"
+             "    from ..waveform.generator import waveform_generator\n    return waveform_generator(duration)\n")
+    assert cache_problems("campaign.probe", probe)
+    assert cache_problems("campaign.probe", "import functools\n\n@functools.cache\ndef table():\n    return {}\n")
+
+
+def randomness_problems(module: str, source: str) -> list:
+    """Global seeding, unseeded generators, draws from numpy's global state, a swap of bilby's generator outside
+    its one helper, and bilby's log level: none of them below the command layer."""
+    found = []
+    for node in ast.walk(ast.parse(source)):
+        where = f"{module} (line {getattr(node, 'lineno', '?')})"
+        if isinstance(node, ast.Call):
+            text = ast.unparse(node.func)
+            if text.endswith("random.seed") or text == "seed" or text.endswith(".seed"):
+                found.append(f"{where} seeds a global generator ({text})")
+            elif text.endswith("default_rng") and not node.args and not node.keywords:
+                found.append(f"{where} makes an unseeded generator")
+            elif text.startswith(("np.random.", "numpy.random.")) and text.split("random.", 1)[1].split("(")[0] \
+                    .split(".")[0] not in ("default_rng", "SeedSequence", "Generator", "PCG64"):
+                found.append(f"{where} draws from numpy's global generator ({text})")
+            elif "getLogger" in text and node.args and isinstance(node.args[0], ast.Constant) \
+                    and node.args[0].value in ("bilby", "dynesty"):
+                found.append(f"{where} touches {node.args[0].value}'s logger")
+            elif text.endswith("setup_logger"):
+                found.append(f"{where} sets bilby's logger")
+        elif isinstance(node, ast.Assign):
+            for target in node.targets:
+                if ast.unparse(target).endswith("Generator.rng") and module != "inputs.event_data":
+                    found.append(f"{where} replaces bilby's generator (only inputs.event_data.bilby_draws_from may)")
+    return found
+
+
+def test_randomness_and_bilby_logging_are_set_only_at_the_command_layer():
+    found = []
+    for module, path in modules():
+        if module.split(".")[0] in BELOW_COMMANDS:
+            found += randomness_problems(module, open(path).read())
+    assert not found, "\n".join(found)
+
+
+@pytest.mark.parametrize("line", [
+    "import bilby\nbilby.core.utils.random.seed(3)\n",
+    "import numpy as np\nnp.random.seed(3)\n",
+    "import numpy as np\nrng = np.random.default_rng()\n",
+    "import numpy as np\nx = np.random.normal(0, 1)\n",
+    "import logging\nlogging.getLogger('bilby').setLevel(logging.ERROR)\n",
+    "from bilby.core.utils import random\nrandom.Generator.rng = None\n",
+])
+def test_the_randomness_check_catches_each_kind(line):
+    assert randomness_problems("campaign.probe", line)

@@ -39,9 +39,12 @@ def run_catalog_event(task: dict) -> dict:
     ``failed`` (an error while running), with the reason and the wall time."""
     import logging
 
+    import numpy as np
+
     from ..inference.runner import run_event
     from ..inference.setup import prepare
-    from ..inputs.config import evidence_config
+    from ..inputs.config import evidence_settings
+    from ..inputs.event_data import bilby_draws_from
 
     began, cpu = time.perf_counter(), time.process_time()
     record = {"index": task["index"], "label": task["label"], "status": "done", "reason": "", "result": None}
@@ -50,12 +53,13 @@ def run_catalog_event(task: dict) -> dict:
     try:
         if "_refused" in mapping:
             raise MemoryInferError(mapping["_refused"])
-        config = evidence_config(mapping, f"the catalog entry '{task['label']}'", task["workdir"])
-        setup = prepare(config)
-        os.makedirs(task["workdir"], exist_ok=True)
-        result = run_event(setup, task["workdir"], progress=False)
-        clean = {k: v for k, v in config.items() if not k.startswith("_")}
-        result.provenance = provenance(clean, config["sampler"]["seed"])
+        settings = evidence_settings(mapping, f"the catalog entry '{task['label']}'", task["workdir"])
+        rng = np.random.default_rng(settings.data.seed)
+        with bilby_draws_from(rng):  # bilby's own draws (noise, resampling) from this event's generator
+            setup = prepare(settings, rng)
+            os.makedirs(task["workdir"], exist_ok=True)
+            result = run_event(setup, task["workdir"], progress=False)
+        result.provenance = provenance(setup.settings.as_mapping(), settings.sampler.seed)
         result.provenance["command"] = ["memory-infer", "catalog"]  # the same in every run of this catalog
         record["result"] = json.loads(json.dumps(result.to_json(), cls=JSONEncoder, allow_nan=True))
     except MemoryInferError as error:

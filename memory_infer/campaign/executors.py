@@ -35,17 +35,14 @@ PR_SET_PDEATHSIG = 1  # prctl(2): the signal a process gets when the thread that
 WORKER_FLAG = "MEMORY_INFER_CAMPAIGN_WORKER"  # set in each worker: Ctrl-C is the campaign's, even inside bilby
 
 
-def start_worker(campaign_pid: int) -> None:
-    """A worker's start, as the command line sets up its own process: the allocator tuning, bilby's logger quiet
-    (its import sets it to INFO), Ctrl-C left to the campaign, and death with the campaign."""
-    import logging
-
-    import bilby  # noqa: F401
-
+def start_worker(campaign_pid: int, setup=None) -> None:
+    """A worker's start, as the command line sets up its own process: the allocator tuning, the command's own
+    ``setup`` (its log levels), Ctrl-C left to the campaign, and death with the campaign."""
     from ..common.performance import tune_allocator
 
     tune_allocator()
-    logging.getLogger("bilby").setLevel(logging.WARNING)
+    if setup is not None:
+        setup()
     os.environ[WORKER_FLAG] = "1"
     die_with(campaign_pid)
 
@@ -116,12 +113,13 @@ class ProcessExecutor:
     A forkserver would not do: every worker it starts holds the server's own keep-alive pipe, so the server
     outlives a killed campaign and the workers' parent-death signal never comes."""
 
-    def __init__(self, workers: int):
+    def __init__(self, workers: int, setup=None):
+        """``setup``: a module-level function each worker runs first (the command's log levels)."""
         import multiprocessing
 
         context = multiprocessing.get_context("spawn")
         self.pool = concurrent.futures.ProcessPoolExecutor(max_workers=workers, mp_context=context,
-                                                           initializer=start_worker, initargs=(os.getpid(),))
+                                                           initializer=start_worker, initargs=(os.getpid(), setup))
         with one_thread_each():  # every worker started now (one per submission while none is idle)
             for _ in range(workers):
                 self.pool.submit(int)
@@ -148,35 +146,43 @@ class DaskExecutor:
         self.client, self.cluster = client, cluster
 
     @classmethod
-    def from_config(cls, section: dict, address: str | None = None, log_folder: str | None = None):
-        """Connect to ``address``, or start ``section['jobs']`` batch jobs of one Dask worker each.
+    def from_settings(cls, section, address: str | None = None, log_folder: str | None = None, setup=None):
+        """Connect to ``address``, or start ``section.jobs`` batch jobs of one Dask worker each (``section``:
+        :class:`memory_infer.inputs.settings.ClusterSettings`); every worker runs ``setup`` (a module-level
+        function: the command's log levels) when it starts.
 
-        Job logs go to ``section['job_logs']`` or else ``log_folder`` (the batch system's default otherwise).
+        Job logs go to ``section.job_logs`` or else ``log_folder`` (the batch system's default otherwise).
         """
         from dask.distributed import Client
 
-        if address or section["kind"] == "address":
-            target = address or section["scheduler_address"]
+        if address or section.kind == "address":
+            target = address or section.scheduler_address
             if not target:
                 raise MemoryInferError("a Dask cluster of kind 'address' needs 'scheduler_address'")
-            return cls(Client(target))
+            return cls._started(Client(target), None, setup)
         import dask_jobqueue
 
-        kind = {"slurm": dask_jobqueue.SLURMCluster, "htcondor": dask_jobqueue.HTCondorCluster}[section["kind"]]
-        options = dict(cores=section["cores"], memory=section["memory"], walltime=section["walltime"],
+        kind = {"slurm": dask_jobqueue.SLURMCluster, "htcondor": dask_jobqueue.HTCondorCluster}[section.kind]
+        options = dict(cores=section.cores, memory=section.memory, walltime=section.walltime,
                        job_name="memory-infer")
-        logs = section["job_logs"] or log_folder
+        logs = section.job_logs or log_folder
         if logs:
             os.makedirs(logs, exist_ok=True)
             options["log_directory"] = logs
-        if section["queue"] and section["kind"] == "slurm":
-            options["queue"] = section["queue"]
-        if section["kind"] == "htcondor":
+        if section.queue and section.kind == "slurm":
+            options["queue"] = section.queue
+        if section.kind == "htcondor":
             options.pop("walltime")
-            options["disk"] = section["memory"]
+            options["disk"] = section.memory
         cluster = kind(**options)
-        cluster.scale(jobs=section["jobs"])
-        return cls(Client(cluster), cluster)
+        cluster.scale(jobs=section.jobs)
+        return cls._started(Client(cluster), cluster, setup)
+
+    @classmethod
+    def _started(cls, client, cluster, setup):
+        if setup is not None:
+            client.register_worker_callbacks(setup=_WorkerStart(setup))
+        return cls(client, cluster)
 
     def submit(self, function, task):
         return self.client.submit(function, task, pure=False)
@@ -193,27 +199,46 @@ class DaskExecutor:
             self.cluster.close()
 
 
-def execute(tasks, store: RecordStore, executor, progress: bool = True, window: int = 64) -> int:
-    """Submit what is not yet stored, in a bounded window; store each record as it finishes."""
+class _WorkerStart:
+    """A Dask worker-setup callback (called with the worker) that runs a module-level function without it."""
+
+    def __init__(self, function):
+        self.function = function
+
+    def __call__(self, dask_worker=None):
+        self.function()
+
+
+def batches(tasks, size: int) -> list:
+    return [tasks[i:i + size] for i in range(0, len(tasks), size)]
+
+
+def execute(tasks, store: RecordStore, executor, progress: bool = True, window: int = 64, batch: int = 8) -> int:
+    """Submit what is not yet stored in batches of ``batch`` injections (each batch builds its generator and
+    network once, :func:`memory_infer.campaign.injection.run_injections`), at most ``window`` injections at a
+    time; store each record as its batch finishes."""
     from tqdm import tqdm
 
-    from .injection import run_injection
+    from .injection import run_injections
 
     done = store.done()
-    todo = [t for t in tasks if t["index"] not in done]
+    todo = batches([t for t in tasks if t["index"] not in done], max(1, int(batch)))
     bar = tqdm(total=len(tasks), initial=len(done), desc="injections", unit="inj", disable=not progress,
                smoothing=0.05)
     pending, position, written = set(), 0, 0
+    limit = max(1, window // max(1, int(batch)))
     try:
         while position < len(todo) or pending:
-            while position < len(todo) and len(pending) < window:
-                pending.add(executor.submit(run_injection, todo[position]))
+            while position < len(todo) and len(pending) < limit:
+                pending.add(executor.submit(run_injections, todo[position]))
                 position += 1
             for future in executor.as_completed(list(pending)):
                 pending.discard(future)
-                store.write(future.result())
-                written += 1
-                bar.update(1)
+                records = future.result()
+                for record in records:
+                    store.write(record)
+                written += len(records)
+                bar.update(len(records))
                 if position < len(todo):
                     break  # top the window up again
     finally:

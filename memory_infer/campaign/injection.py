@@ -13,57 +13,55 @@ The fast estimates are computed in every mode, so full methods are calibrated ag
 """
 from __future__ import annotations
 
-import logging
+import dataclasses
 import os
 import shutil
 import time
-from functools import lru_cache
+from dataclasses import dataclass
 
 import numpy as np
+
+from ..waveform.source import combined
 
 NOISE_LABEL = {"gaussian": "Gaussian noise", "zero": "zero noise"}
 
 
-@lru_cache(maxsize=4)
-def cached_generator(duration, rate, approximant, minimum_frequency):
-    """One generator per worker process and segment (its caches make repeated sources cheap)."""
+@dataclass
+class Network:
+    """A campaign's waveform generator and detector network, built by :func:`build_network` in the process that
+    runs a batch of injections and handed to each of them: each injection sets their segment and data (the
+    generator's caches make the estimates that follow an injection cheap)."""
+
+    generator: object
+    detectors: object
+
+
+def build_network(settings) -> Network:
+    """The generator and network for a campaign's segment and model (:class:`memory_infer.inputs.settings.
+    CampaignSettings`)."""
+    from ..inputs.detectors import network_detectors
     from ..waveform.generator import waveform_generator
 
-    arguments = dict(waveform_approximant=approximant, minimum_frequency=minimum_frequency,
-                     reference_frequency=minimum_frequency, catch_waveform_errors=True)
-    return waveform_generator(duration, rate, 0.0, arguments)
-
-
-@lru_cache(maxsize=4)
-def cached_detectors(network: str, minimum_frequency: float, duration: float = 0.0, rate: float = 0.0):
-    """One detector network per worker process and segment; each injection sets its own data.
-
-    Keyed on the segment too: bilby caches each detector's frequency mask with its data's length."""
-    from ..inputs.detectors import network_detectors
-
-    return network_detectors(network, minimum_frequency)
+    data = settings.data
+    generator = waveform_generator(data.duration, data.sampling_rate, 0.0, settings.model.waveform_arguments(data))
+    return Network(generator, network_detectors(settings.network, data.minimum_frequency))
 
 
 def noise_seed(campaign_seed: int, index: int) -> int:
     return int(np.random.SeedSequence([int(campaign_seed), int(index)]).generate_state(1)[0])
 
 
-def _simulate(task):
-    import bilby
-
+def _simulate(task, network: Network):
+    """The injection's data on ``network`` (noise drawn by bilby from the generator in use, see
+    :func:`run_injection`) and its network optimal SNR."""
     settings = task["settings"]
-    generator = cached_generator(settings["duration"], settings["sampling_rate"], settings["approximant"],
-                           settings["minimum_frequency"])
-    detectors = cached_detectors(settings["network"], settings["minimum_frequency"], settings["duration"],
-                                 settings["sampling_rate"])
-    # bilby's generator seeded as bilby.core.utils.random.seed does, without its scan of every loaded module
-    # (a few ms per injection) for stale references
-    bilby.core.utils.random.Generator.rng = np.random.default_rng(noise_seed(settings["seed"], task["index"]))
-    start = task["source"]["geocent_time"] - settings["duration"] + 2.0
-    if settings["noise"] == "zero":
-        detectors.set_strain_data_from_zero_noise(settings["sampling_rate"], settings["duration"], start)
+    data = settings.data
+    generator, detectors = network.generator, network.detectors
+    start = task["source"]["geocent_time"] - data.duration + 2.0
+    if settings.noise == "zero":
+        detectors.set_strain_data_from_zero_noise(data.sampling_rate, data.duration, start)
     else:
-        detectors.set_strain_data_from_power_spectral_densities(settings["sampling_rate"], settings["duration"], start)
+        detectors.set_strain_data_from_power_spectral_densities(data.sampling_rate, data.duration, start)
     generator.start_time = start
     # the polarizations injected directly: bilby's inject_signal would first check the signal's duration per
     # detector (a distance-to-redshift solve each time) only to log a warning; the parts stay in the generator's
@@ -71,7 +69,7 @@ def _simulate(task):
     parameters = dict(task["source"], memory_amplitude=task["amplitude"])
     oscillatory, memory = generator.parts(parameters)
     if oscillatory is not None:
-        polarizations = {k: oscillatory[k] + task["amplitude"] * memory[k] for k in oscillatory}
+        polarizations = combined(oscillatory, memory, task["amplitude"])
         for detector in detectors:
             detector.inject_signal_from_waveform_polarizations(parameters=parameters,
                                                                injection_polarizations=polarizations)
@@ -96,31 +94,40 @@ def expected_over_noise(likelihood, truth: dict, injected: float) -> dict:
     return out
 
 
-def run_injection(task: dict) -> dict:
-    """Everything one injection produces, as a flat record (JSON-safe)."""
-    logging.getLogger("bilby").setLevel(logging.ERROR)
+def run_injections(tasks: list) -> list:
+    """A batch of injections of one campaign in this process: one network built for them all, each injection's
+    record in order."""
+    network = build_network(tasks[0]["settings"])
+    return [run_injection(task, network) for task in tasks]
+
+
+def run_injection(task: dict, network: Network) -> dict:
+    """Everything one injection produces, as a flat record (JSON-safe). Its random numbers (noise, and a full
+    recovery's draws) come from a generator seeded by the campaign's seed and the injection's index."""
     from ..inference.likelihood import MemoryTransient
     from ..inference.methods.fast import FastApproximation
+    from ..inputs.event_data import bilby_draws_from
 
     began = time.perf_counter()
     settings = task["settings"]
     record = {"index": task["index"], "amplitude": task["amplitude"], **{k: task["source"][k] for k in sorted(task["source"])}}
     try:
-        generator, detectors, snr = _simulate(task)
-        record["network_snr"] = snr
-        record["detected"] = bool(snr >= settings["detection_snr"])
-        if not record["detected"]:  # below the catalog's threshold: no recovery
-            record.update(status="ok", error="", seconds=time.perf_counter() - began)
-            return record
-        truth = {k: v for k, v in task["source"].items() if k != "redshift"}
-        likelihood = MemoryTransient(detectors, generator)
-        estimates, memory_snr = FastApproximation.estimates(likelihood, truth)
-        record["memory_snr"] = memory_snr
-        record["ln_bf_plus_fixed"], record["ln_bf_minus_fixed"] = estimates[0].ln_bf, estimates[1].ln_bf
-        record["ln_bf_plus_fast"], record["ln_bf_minus_fast"] = estimates[2].ln_bf, estimates[3].ln_bf
-        record.update(expected_over_noise(likelihood, truth, task["amplitude"]))
-        if settings["method"] != "fast" and record["detected"]:
-            record.update(_full_recovery(task, detectors, generator, truth))
+        with bilby_draws_from(np.random.default_rng(noise_seed(settings.seed, task["index"]))):
+            generator, detectors, snr = _simulate(task, network)
+            record["network_snr"] = snr
+            record["detected"] = bool(snr >= settings.detection_snr)
+            if not record["detected"]:  # below the catalog's threshold: no recovery
+                record.update(status="ok", error="", seconds=time.perf_counter() - began)
+                return record
+            truth = {k: v for k, v in task["source"].items() if k != "redshift"}
+            likelihood = MemoryTransient(detectors, generator)
+            estimates, memory_snr = FastApproximation.estimates(likelihood, truth)
+            record["memory_snr"] = memory_snr
+            record["ln_bf_plus_fixed"], record["ln_bf_minus_fixed"] = estimates[0].ln_bf, estimates[1].ln_bf
+            record["ln_bf_plus_fast"], record["ln_bf_minus_fast"] = estimates[2].ln_bf, estimates[3].ln_bf
+            record.update(expected_over_noise(likelihood, truth, task["amplitude"]))
+            if settings.method != "fast" and record["detected"]:
+                record.update(_full_recovery(task, detectors, generator, truth))
         record["status"] = "ok"
         record["error"] = ""
     except Exception as error:  # one bad injection is recorded and counted, never a crash
@@ -156,26 +163,13 @@ def _full_recovery(task, detectors, generator, truth) -> dict:
     or nested runs for every hypothesis as well (``method = "nested"``)."""
     from ..inference.runner import run_methods
     from ..inference.setup import EventSetup
-    from ..inputs.config import grid_with_hypotheses
     from ..results.estimates import cumulative_distribution
 
     settings = task["settings"]
-    recovery = settings["recovery"]
-    workdir = os.path.join(settings["workdir"], f"injection-{task['index']}")
-    limits = settings["free_amplitude_limits"]
-    hypotheses = ["none", "memory", "flipped", "free"] if settings["method"] == "nested" else ["none"]
-    config = {
-        "evidence": {"free_amplitude_limits": limits, "nested_hypotheses": hypotheses, "reweight_from": ["none"],
-                     "samples_amplitude": 0.0, "minimum_effective_samples": recovery["minimum_effective_samples"],
-                     "max_reweight_samples": 2 ** 62},
-        "likelihood": {"distance_marginalization": False, "time_marginalization": False},
-        "sampler": {"live_points": recovery["live_points"], "accepted_walks": recovery["accepted_walks"], "pool": 1,
-                    "seed": noise_seed(settings["seed"], task["index"]) % (2 ** 31), "checkpoint_seconds": 60.0,
-                    "progress": False},
-    }
-    setup = EventSetup(config=config, detectors=detectors, generator=generator, injection=None,
-                       priors=_recovery_priors(truth, recovery["free_parameters"]),
-                       grid=grid_with_hypotheses(limits[0], limits[1], 101))
+    workdir = os.path.join(task["workdir"], f"injection-{task['index']}")
+    event = recovery_settings(settings, task["index"])
+    setup = EventSetup(settings=event, detectors=detectors, generator=generator, injection=None,
+                       priors=_recovery_priors(truth, settings.recovery.free_parameters), grid=event.evidence.grid())
     result = run_methods(setup, workdir, ["nested", "reweighting"], f"injection-{task['index']}", progress=False).result
     found = {(m.family, m.numerator): m for m in result.methods}
     plus, minus = found[("reweighting", "memory")], found[("reweighting", "flipped")]
@@ -187,7 +181,7 @@ def _full_recovery(task, detectors, generator, truth) -> dict:
     density = np.exp(np.asarray(curve.ln_mean_ratio) - np.max(curve.ln_mean_ratio))
     out["amplitude_quantile_reweighting"] = float(np.interp(task["amplitude"], grid,
                                                             cumulative_distribution(grid, density)))
-    if settings["method"] == "nested":
+    if settings.method == "nested":
         bf_plus, bf_minus = found[("nested", "memory")], found[("nested", "flipped")]
         samples = np.asarray(result.free_amplitude["samples"])
         out.update(ln_bf_plus_nested=bf_plus.ln_bf, ln_bf_plus_nested_err=bf_plus.ln_bf_err,
@@ -195,3 +189,22 @@ def _full_recovery(task, detectors, generator, truth) -> dict:
                    amplitude_quantile_nested=float(np.mean(samples < task["amplitude"])))
     shutil.rmtree(workdir, ignore_errors=True)
     return out
+
+
+def recovery_settings(settings, index: int):
+    """The event settings of one injection's full recovery: the campaign's segment and model, its A prior and
+    recovery sizes, no marginalization, and a sampler seeded by the injection (new values of the defaults)."""
+    from ..inputs.settings import AnalysisSettings, EventSettings
+
+    base = AnalysisSettings(event=EventSettings(label=f"injection-{index}"))
+    limits = tuple(settings.free_amplitude_limits)
+    hypotheses = ("none", "memory", "flipped", "free") if settings.method == "nested" else ("none",)
+    recovery = settings.recovery
+    evidence = dataclasses.replace(base.evidence, free_amplitude_limits=limits, amplitude_grid=(*limits, 101),
+                                   nested_hypotheses=hypotheses, reweight_from=("none",), samples_amplitude=0.0,
+                                   minimum_effective_samples=recovery.minimum_effective_samples,
+                                   max_reweight_samples=2 ** 62)
+    sampler = dataclasses.replace(base.sampler, live_points=recovery.live_points, accepted_walks=recovery.accepted_walks,
+                                  pool=1, seed=noise_seed(settings.seed, index) % (2 ** 31), checkpoint_seconds=60.0,
+                                  progress=False)
+    return dataclasses.replace(base, data=settings.data, model=settings.model, evidence=evidence, sampler=sampler)

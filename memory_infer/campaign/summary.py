@@ -2,7 +2,6 @@
 events to a threshold), PP test, fast-against-full calibration."""
 from __future__ import annotations
 
-import os
 
 import numpy as np
 
@@ -166,15 +165,15 @@ def _count(threshold, mean):
     return float(threshold / mean) if mean > 0 else None
 
 
-def pp_test(records, campaign: dict) -> dict:
+def pp_test(records, campaign) -> dict:
     """KS test of the injected A's posterior quantiles against uniform, only where it can say something: A drawn
     from its prior, Gaussian noise, and a recovery that can fail (reweighting or nested sampling)."""
     from scipy.stats import kstest
 
     empty = {"ks_pvalue": None, "count": 0, "quantiles": []}
-    if campaign["injected_amplitude"] != "prior":
-        return dict(empty, method=f"not run: A was fixed at {campaign['injected_amplitude']}, not drawn from its prior")
-    if campaign["noise"] != "gaussian":
+    if campaign.injected_amplitude != "prior":
+        return dict(empty, method=f"not run: A was fixed at {campaign.injected_amplitude}, not drawn from its prior")
+    if campaign.noise != "gaussian":
         return dict(empty, method="not run: without noise the posterior quantiles are not uniform")
     for key, method in quantile_columns().items():
         quantiles = [r[key] for r in records if r.get(key) is not None]
@@ -203,10 +202,10 @@ def calibration(records) -> dict:
     return {"full_method": None, "count": 0}
 
 
-def forecast(detected, campaign: dict):
+def forecast(detected, campaign):
     """Forecast numbers from the expected ln BF over noise (see :func:`catalog_growth`); (forecast, bands, events)."""
     usable = [r for r in detected if r.get("ln_bf_plus_expected") is not None]
-    threshold, bootstrap, seed = campaign["threshold"], campaign["bootstrap"], campaign["seed"]
+    threshold, bootstrap, seed = campaign.threshold, campaign.bootstrap, campaign.seed
     bands, events = catalog_growth(noise_pool(usable, seed), threshold, bootstrap, seed)
     column = lambda name: [r[name] for r in usable]
     out = {
@@ -234,32 +233,30 @@ def forecast(detected, campaign: dict):
     return out, bands, events
 
 
-def population_reach(config) -> float | None:
+def population_reach(campaign) -> float | None:
     """The redshift range the campaign's population was drawn to (None for an injection table)."""
     from ..inputs.population import load_population, redshift_reach
 
-    campaign = config["campaign"]
-    if not campaign["injections"].endswith(".toml"):
+    if not campaign.injections.endswith(".toml"):
         return None
-    return redshift_reach(load_population(os.path.join(config["_directory"], campaign["injections"])),
-                          campaign["network"])
+    return redshift_reach(load_population(campaign.injections_path), campaign.network)
 
 
-def summarize(records, config) -> CampaignSummary:
-    campaign = config["campaign"]
+def summarize(records, campaign) -> CampaignSummary:
+    """The campaign's summary from its records and settings (:class:`memory_infer.inputs.settings.CampaignSettings`)."""
     ok = [r for r in records if r.get("status") == "ok"]
     detected = [r for r in ok if r.get("detected")]
     key = headline_key(detected)
     values = [r[key] for r in detected if r.get(key) is not None]
     outlook, bands, events = forecast(detected, campaign)
     warnings = []
-    reach = population_reach(config)
+    reach = population_reach(campaign)
     if reach:
         warning = truncation_warning([r["redshift"] for r in detected], reach)
         warnings += [warning] if warning else []
     return CampaignSummary(
-        label=campaign["label"], n_injections=len(records), n_failed=len(records) - len(ok),
-        n_detected=len(detected), detection_snr=campaign["detection_snr"],
+        label=campaign.label, n_injections=len(records), n_failed=len(records) - len(ok),
+        n_detected=len(detected), detection_snr=campaign.detection_snr,
         ln_bf=dict(distribution(values), method=key,
                    note="ln BF+ (A = +1 vs 0) over detected injections, each on its own simulated data"),
         memory_snr=distribution([r["memory_snr"] for r in detected]),

@@ -3,12 +3,13 @@ from __future__ import annotations
 
 import os
 
-from ..campaign.config import fingerprint, load_campaign_config, plan
+from ..campaign.config import fingerprint, plan
 from ..campaign.executors import DaskExecutor, InlineExecutor, ProcessExecutor, execute
 from ..campaign.store import RecordStore
 from ..campaign.summary import summarize
 from ..common.errors import MemoryInferError
 from ..common.writing import atomic_path, provenance, write_text
+from ..inputs.campaign_config import load_campaign_settings
 from ..reports.campaign import campaign_page, count_text
 from ..reports.html import number
 from ..results.campaign import CampaignSummary
@@ -22,26 +23,36 @@ def add_arguments(parser):
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
-def make_executor(args, config):
-    if args.scheduler or config["cluster"]["kind"] != "local":
+def quiet_worker() -> None:
+    """Each worker's log levels: bilby's errors only (its import sets INFO; a campaign's thousands of injections
+    would repeat its warnings)."""
+    import logging
+
+    import bilby  # noqa: F401  (imported first: its import sets its logger's level)
+
+    logging.getLogger("bilby").setLevel(logging.ERROR)
+
+
+def make_executor(args, cluster):
+    """(executor, window of injections in flight) for ``cluster`` (:class:`memory_infer.inputs.settings.
+    ClusterSettings`) and the command's ``--scheduler``/``--workers``."""
+    if args.scheduler or cluster.kind != "local":
         logs = os.path.join(os.path.abspath(args.outdir), "work", "job-logs")
-        return DaskExecutor.from_config(config["cluster"], args.scheduler, logs), 256
+        return DaskExecutor.from_settings(cluster, args.scheduler, logs, setup=quiet_worker), 256
     if args.workers < 1:
         raise MemoryInferError("--workers must be at least 1")
     if args.workers == 1:
+        quiet_worker()
         return InlineExecutor(), 1
-    return ProcessExecutor(args.workers), 8 * args.workers
+    return ProcessExecutor(args.workers, setup=quiet_worker), 16 * args.workers
 
 
 def run(args) -> int:
-    config = load_campaign_config(args.config)
-    tasks = plan(config)
+    settings = load_campaign_settings(args.config)
     os.makedirs(args.outdir, exist_ok=True)
-    workdir = os.path.join(os.path.abspath(args.outdir), "work")
-    for task in tasks:
-        task["settings"]["workdir"] = workdir
+    tasks = plan(settings, os.path.join(os.path.abspath(args.outdir), "work"))
     store = RecordStore(os.path.join(args.outdir, "records.sqlite"), fingerprint(tasks))
-    executor, window = make_executor(args, config)
+    executor, window = make_executor(args, settings.cluster)
     try:
         execute(tasks, store, executor, progress=not args.quiet, window=window)
     except BaseException:  # interrupted (Ctrl-C) or failed: end the workers now; stored records are kept
@@ -50,9 +61,8 @@ def run(args) -> int:
     executor.close()
     records = store.records()
     store.close()
-    summary = summarize(records, config)
-    clean = {k: v for k, v in config.items() if not k.startswith("_")}
-    summary.provenance = provenance(clean, config["campaign"]["seed"])
+    summary = summarize(records, settings)
+    summary.provenance = provenance(settings_mapping(settings), settings.seed)
     summary = summary.reloaded()
     import pandas as pd
 
@@ -72,3 +82,14 @@ def run(args) -> int:
         print(f"warning: {warning}")
     print(f"wrote {args.outdir}/campaign.json, injections.csv and report.html")
     return 0
+
+
+def settings_mapping(settings) -> dict:
+    """A campaign's settings as configuration sections (for the provenance its summary records)."""
+    import dataclasses
+
+    out = dataclasses.asdict(settings)
+    sections = {"data": out.pop("data"), "model": out.pop("model"), "recovery": out.pop("recovery"),
+                "cluster": out.pop("cluster")}
+    out.pop("directory", None)
+    return {"campaign": out, **sections}

@@ -6,12 +6,12 @@ from __future__ import annotations
 import os
 
 from ..campaign.catalog_run import STORE, execute_events, fingerprint, plan_events
-from ..campaign.config import CAMPAIGN_SCHEMA
 from ..campaign.store import RecordStore
 from ..catalog.combine import combine
 from ..common.errors import MemoryInferError
 from ..common.writing import atomic_path, provenance, write_text
 from ..inputs.catalog_config import load_catalog
+from ..inputs.campaign_config import CAMPAIGN_SCHEMA, cluster_settings
 from ..inputs.config import apply_schema
 from ..reports.catalog import catalog_page
 from ..reports.event import event_page
@@ -77,9 +77,8 @@ def catalog_result(records: list, name: str, outdir: str) -> CatalogResult:
 
 def run(args) -> int:
     name, events, cluster = load_catalog(args.catalog)
-    config = apply_schema({"cluster": cluster}, {"cluster": CAMPAIGN_SCHEMA["cluster"]}, "the catalog's [cluster]")
-    if config["cluster"]["kind"] not in ("local", "address", "slurm", "htcondor"):
-        raise MemoryInferError("key 'kind' in [cluster] must be local, address, slurm or htcondor")
+    cluster = cluster_settings(apply_schema({"cluster": cluster}, {"cluster": CAMPAIGN_SCHEMA["cluster"]},
+                                            "the catalog's [cluster]")["cluster"])
     outdir = os.path.abspath(args.outdir)
     os.makedirs(outdir, exist_ok=True)
     tasks = plan_events(events, outdir)
@@ -87,7 +86,7 @@ def run(args) -> int:
     already = len(store.done())
     if already:
         print(f"resuming: {already} of {len(tasks)} events already finished")
-    executor, window = make_executor(args, config)
+    executor, window = make_executor(args, cluster)
     try:
         execute_events(tasks, store, executor, on_record=lambda record: event_files(record, outdir),
                        progress=not args.quiet, window=window)

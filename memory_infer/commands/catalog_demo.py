@@ -97,7 +97,7 @@ def release_samples(folder: str, label: str, files: dict, trigger: float, inject
     from ..inference.setup import prepare
     import tomllib
 
-    from ..inputs.config import evidence_config
+    from ..inputs.config import evidence_settings
 
     chirp = bilby.gw.conversion.component_masses_to_chirp_mass(injection["mass_1"], injection["mass_2"])
     ratio = injection["mass_2"] / injection["mass_1"]
@@ -108,7 +108,7 @@ def release_samples(folder: str, label: str, files: dict, trigger: float, inject
                    f"luminosity_distance = {{ kind = \"power_law\", alpha = 2, minimum = {0.4 * distance:.1f}, "
                    f"maximum = {1.8 * distance:.1f} }}\n{fixed}")
     raw = tomllib.loads(_segment_config(label, folder, files, trigger, priors_text, live_points))
-    setup = prepare(evidence_config(raw, f"the demo run of {label}", folder))
+    setup = prepare(evidence_settings(raw, f"the demo run of {label}", folder))
     likelihood, priors = setup.likelihood("none")
     with tempfile.TemporaryDirectory() as work:
         result = bilby.run_sampler(likelihood=likelihood, priors=priors, sampler="dynesty", nlive=int(live_points),

@@ -6,7 +6,7 @@ import os
 from ..common.writing import provenance, write_text
 from ..inference.runner import run_event
 from ..inference.setup import prepare
-from ..inputs.config import load_evidence_config
+from ..inputs.config import load_evidence_settings
 from ..reports.event import event_page
 from ..reports.html import number
 from ..results.event import EventResult
@@ -19,8 +19,13 @@ def add_arguments(parser):
     parser.add_argument("--verbose", action="store_true", help="show bilby's and dynesty's log messages")
 
 
-def clean_config(config: dict) -> dict:
-    return {k: v for k, v in config.items() if not k.startswith("_")}
+def seeded_bilby(seed: int):
+    """bilby's own generator seeded with ``seed`` (the noise, its prior draws and its equal-weight resampling all
+    draw from it); returned, to be passed on explicitly."""
+    from bilby.core.utils import random
+
+    random.seed(int(seed))
+    return random.rng
 
 
 def run(args) -> int:
@@ -28,11 +33,11 @@ def run(args) -> int:
         import logging
 
         logging.getLogger("bilby").setLevel(logging.INFO)
-    config = load_evidence_config(args.config)
-    setup = prepare(config)  # every input checked before anything is written
+    settings = load_evidence_settings(args.config)
+    setup = prepare(settings, seeded_bilby(settings.data.seed))  # every input checked before anything is written
     os.makedirs(args.outdir, exist_ok=True)
     result = run_event(setup, args.outdir, progress=not getattr(args, "quiet", False))
-    result.provenance = provenance(clean_config(config), config["sampler"]["seed"])
+    result.provenance = provenance(setup.settings.as_mapping(), settings.sampler.seed)
     result = result.reloaded()  # the report sees exactly what the file holds
     page = event_page(result)
     result.save(os.path.join(args.outdir, EventResult.FILE))

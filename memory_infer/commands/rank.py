@@ -3,8 +3,6 @@ from __future__ import annotations
 
 import os
 
-import numpy as np
-
 
 def add_arguments(parser):
     parser.add_argument("table", help="CSV of events: a 'label' column and bilby parameter names (spins default 0)")
@@ -14,15 +12,30 @@ def add_arguments(parser):
     parser.add_argument("--output", default=None, help="write the ranking to this CSV as well")
 
 
-def memory_snr(source: dict, network: str, duration: float, minimum_frequency: float) -> float:
-    """Optimal network SNR of the memory alone, zero noise (noise-weighted inner product)."""
-    from ..campaign.injection import cached_detectors, cached_generator
+def ranking_network(network: str, duration: float, minimum_frequency: float):
+    """The generator and detectors ranking uses: IMRPhenomTHM from ``minimum_frequency`` (also its reference
+    frequency), 2048 Hz, zero noise; built once for every event."""
+    import dataclasses
+
+    from ..campaign.injection import build_network
+    from ..inputs.settings import CampaignSettings
+
+    base = CampaignSettings()
+    data = dataclasses.replace(base.data, duration=float(duration), sampling_rate=2048.0,
+                               minimum_frequency=float(minimum_frequency))
+    model = dataclasses.replace(base.model, reference_frequency=float(minimum_frequency))
+    return build_network(dataclasses.replace(base, network=network, data=data, model=model))
+
+
+def memory_snr(source: dict, network) -> float:
+    """Optimal network SNR of the memory alone, zero noise (noise-weighted inner product), on ``network``
+    (:func:`ranking_network`)."""
     from ..inference.likelihood import MemoryTransient, memory_snr as snr_of
 
-    generator = cached_generator(duration, 2048.0, "IMRPhenomTHM", minimum_frequency)
-    detectors = cached_detectors(network, minimum_frequency, duration, 2048.0)
+    generator, detectors = network.generator, network.detectors
+    duration, rate = generator.duration, generator.sampling_frequency
     start = source["geocent_time"] - duration + 2.0
-    detectors.set_strain_data_from_zero_noise(2048.0, duration, start)
+    detectors.set_strain_data_from_zero_noise(rate, duration, start)
     generator.start_time = start
     products = MemoryTransient(detectors, generator).inner_products(source)
     if products is None:
@@ -40,8 +53,8 @@ def run(args) -> int:
     network(args.network)
     sources = read_table(args.table, 1_000_000_002.0, "event table")
     labels = pd.read_csv(args.table).get("label", pd.Series(range(len(sources)))).astype(str).tolist()
-    rows = [{"label": label, "memory_snr": memory_snr({k: v for k, v in s.items() if k != "label"}, args.network,
-                                                      args.duration, args.minimum_frequency)}
+    built = ranking_network(args.network, args.duration, args.minimum_frequency)
+    rows = [{"label": label, "memory_snr": memory_snr({k: v for k, v in s.items() if k != "label"}, built)}
             for label, s in zip(labels, sources)]
     frame = pd.DataFrame(rows).sort_values("memory_snr", ascending=False)
     print(f"events by memory-only SNR in '{args.network}' (zero noise, optimal, IMRPhenomTHM from "

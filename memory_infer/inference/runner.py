@@ -53,11 +53,11 @@ def file_found(state: RunState, found: Found) -> None:
 
 def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventResult:
     """Every configured method on one event, and the result as evidence.json holds it."""
-    config = setup.config
+    settings = setup.settings
     failures_before = setup.generator.failures
-    label = config["event"]["label"]
+    label = settings.event.label
     result_warnings = list(setup.notes)
-    state = run_methods(setup, outdir, config["evidence"]["methods"], label, progress)
+    state = run_methods(setup, outdir, settings.evidence.methods, label, progress)
     result = state.result
     result.warnings[:0] = result_warnings
     point, where = state.reference_point()
@@ -74,15 +74,15 @@ def run_event(setup: EventSetup, outdir: str, progress: bool = True) -> EventRes
         result.figures["reference_point"] = point
         result.figures["whitened"] = whitened_series(setup.detectors, setup.generator, point)
         result.figures["spectrum"] = memory_spectrum(setup.detectors, setup.generator, point,
-                                                     config["data"]["minimum_frequency"])
-    result.figures["free_amplitude_limits"] = list(config["evidence"]["free_amplitude_limits"])
+                                                     settings.data.minimum_frequency)
+    result.figures["free_amplitude_limits"] = list(settings.evidence.free_amplitude_limits)
     result.choose_headline([state.signs[rank] for rank in sorted(state.signs)])
-    result.early_inspiral_memory = {"included": bool(config["model"]["early_inspiral_memory"]),
+    result.early_inspiral_memory = {"included": bool(settings.model.early_inspiral_memory),
                                     "method": "leading-order memory accumulated before the model's first sample",
                                     "effect": EARLY_INSPIRAL_EFFECT}
     result.settings = setup.settings_fingerprint()
     result.injection = None if setup.injection is None else {k: float(v) for k, v in setup.injection.items()}
-    result.control = EventResult.control_reason(bool(config["event"].get("control", False)), result.injection)
+    result.control = EventResult.control_reason(bool(settings.event.control), result.injection)
     failures = setup.generator.failures - failures_before
     result.waveform_failures = {"count": failures, "treatment": FAILURE_TREATMENT}
     if failures:

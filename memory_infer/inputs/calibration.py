@@ -40,17 +40,17 @@ class NominalDefaultSpline(CubicSpline):
         self.params.update({key[len(self.prefix):]: params[key] for key in params if key.startswith(self.prefix)})
 
 
-def calibration_priors(settings: dict, detector: str, minimum_frequency: float, maximum_frequency: float,
+def calibration_priors(settings, detector: str, minimum_frequency: float, maximum_frequency: float,
                        directory: str = ".", envelope_file: str | None = None):
     """bilby priors of one interferometer's spline nodes (fixed at 0 where a sigma is 0); an envelope's also
     carry bilby's fixed node frequencies, which the model holds instead. ``envelope_file`` defaults to the
     interferometer's entry in ``envelope_files``."""
     import bilby
 
-    nodes = int(settings["spline_nodes"])
+    nodes = int(settings.spline_nodes)
     label = detector
-    if settings["kind"] == "constant":
-        amplitude, phase = float(settings["amplitude_sigma"]), float(settings["phase_sigma"])
+    if settings.kind == "constant":
+        amplitude, phase = float(settings.amplitude_sigma), float(settings.phase_sigma)
         priors = bilby.gw.prior.CalibrationPriorDict()
         for kind, sigma in (("amplitude", amplitude), ("phase", phase)):
             for k in range(nodes):  # as bilby's constant_uncertainty_spline, but a zero sigma fixes the node
@@ -58,7 +58,7 @@ def calibration_priors(settings: dict, detector: str, minimum_frequency: float, 
                 priors[name] = (bilby.core.prior.Gaussian(0.0, sigma, name=name) if sigma > 0
                                 else bilby.core.prior.DeltaFunction(0.0, name=name))
         return priors
-    file_name = envelope_file or settings["envelope_files"].get(detector)
+    file_name = envelope_file or settings.envelope_files.get(detector)
     if file_name is None:
         raise MemoryInferError(f"[calibration] has kind 'envelope' but no file for {detector} in envelope_files")
     path = os.path.join(directory, file_name)
@@ -76,7 +76,7 @@ def calibration_priors(settings: dict, detector: str, minimum_frequency: float, 
         raise MemoryInferError(f"calibration envelope file '{file_name}' covers {table[0, 0]:g}-"
                                f"{table[-1, 0]:g} Hz, not the spline's {minimum_frequency:g}-{maximum_frequency:g} Hz")
     return bilby.gw.prior.CalibrationPriorDict.from_envelope_file(
-        path, minimum_frequency, maximum_frequency, nodes, label, correction_type=settings["correction_type"])
+        path, minimum_frequency, maximum_frequency, nodes, label, correction_type=settings.correction_type)
 
 
 def _nominal(priors, detector: str) -> dict:
@@ -88,19 +88,35 @@ def _nominal(priors, detector: str) -> dict:
     return out
 
 
-def attach_calibration(settings: dict, detectors, priors, directory: str = ".") -> list:
+def attach_calibration(settings, detectors, priors, directory: str = ".") -> list:
     """Give every detector a spline calibration model and add its node priors to ``priors`` (in place); returns
-    one sentence per detector saying what was attached (empty for ``kind = "none"``)."""
-    if settings["kind"] == "none":
+    one sentence per detector saying what was attached (empty for ``kind = "none"``). ``settings`` is
+    :class:`memory_infer.inputs.settings.CalibrationSettings`; a release's own envelope tables (``envelopes``)
+    are written to a temporary folder for bilby's reader."""
+    if settings.kind == "none":
         return []
+    if not settings.envelopes:
+        return _attach(settings, detectors, priors, directory)
+    import dataclasses
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as folder:
+        files = {}
+        for name, table in settings.envelopes.items():
+            np.savetxt(os.path.join(folder, f"{name}.txt"), table)
+            files[name] = os.path.join(folder, f"{name}.txt")
+        return _attach(dataclasses.replace(settings, envelope_files=files), detectors, priors, folder)
+
+
+def _attach(settings, detectors, priors, directory: str) -> list:
     from .detectors import detector_of, per_interferometer
 
     names = list(dict.fromkeys(detector_of(detector.name) for detector in detectors))
-    files = per_interferometer(settings["envelope_files"], names, "envelope_files in [calibration]")
+    files = per_interferometer(settings.envelope_files, names, "envelope_files in [calibration]")
     notes = []
     for detector in detectors:
-        low = float(settings["minimum_frequency"] or detector.minimum_frequency)
-        high = float(settings["maximum_frequency"] or detector.maximum_frequency)
+        low = float(settings.minimum_frequency or detector.minimum_frequency)
+        high = float(settings.maximum_frequency or detector.maximum_frequency)
         if not 0 < low < high:
             raise MemoryInferError("[calibration] minimum_frequency must be positive and below maximum_frequency")
         node_priors = calibration_priors(settings, detector.name, low, high, directory, files.get(detector.name))
@@ -110,11 +126,11 @@ def attach_calibration(settings: dict, detectors, priors, directory: str = ".") 
             if not prior.is_fixed:
                 priors[name] = prior
         detector.calibration_model = NominalDefaultSpline(PREFIX.format(detector.name), low, high,
-                                                          int(settings["spline_nodes"]),
+                                                          int(settings.spline_nodes),
                                                           _nominal(node_priors, detector.name))
         free = sum(1 for name, p in node_priors.items() if "_frequency_" not in name and not p.is_fixed)
-        notes.append(f"{detector.name}: cubic-spline calibration, {settings['spline_nodes']} nodes from {low:g} to "
-                     f"{high:g} Hz ({settings['kind']}{', ' + str(free) + ' free parameters' if free else ', fixed'})")
+        notes.append(f"{detector.name}: cubic-spline calibration, {settings.spline_nodes} nodes from {low:g} to "
+                     f"{high:g} Hz ({settings.kind}{', ' + str(free) + ' free parameters' if free else ', fixed'})")
     return notes
 
 

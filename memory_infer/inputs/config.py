@@ -1,4 +1,5 @@
-"""Run configurations: TOML read with the standard library, checked key by key against a schema.
+"""Run configurations: TOML read with the standard library, checked key by key against a schema, then typed as
+settings (:mod:`.settings`, whose dataclasses hold every default once).
 
 Every problem is one sentence naming the section and key; unknown keys are errors (a typo must
 not silently fall back to a default).
@@ -10,49 +11,48 @@ import os
 import tomllib
 
 from ..common.errors import MemoryInferError, close_match
+from .settings import (AnalysisSettings, CalibrationSettings, DataSettings, EventSettings, EvidenceSettings,
+                       LikelihoodSettings, ModelSettings, SamplerSettings, defaults_of,
+                       grid_with_hypotheses)  # noqa: F401  (grid_with_hypotheses: also its callers' name here)
 
 NUMBER = (int, float)
 ANY = object
 
 # section -> key -> (type or tuple of types, default); ``REQUIRED`` marks keys without default
 REQUIRED = object()
+
+
+def _section(kind, types: dict, required=()) -> dict:
+    """A schema section: each key's type, and its default from the settings dataclass ``kind`` (defined once)."""
+    defaults = defaults_of(kind)
+    return {key: (types[key], REQUIRED if key in required else defaults[key]) for key in types}
+
+
 EVIDENCE_SCHEMA = {
-    "event": {"label": (str, REQUIRED), "control": (bool, False)},
-    "data": {
-        "kind": (str, "simulated"), "detectors": (list, ["H1", "L1"]), "noise_curve": (str, "ligo-design"),
-        "noise_curves": (dict, {}), "noise": (str, "gaussian"), "seed": (int, 1), "duration": (NUMBER, 4.0),
-        "sampling_rate": (NUMBER, 2048.0), "start_time": (NUMBER, 1_000_000_000.0),
-        "minimum_frequency": (NUMBER, 20.0), "maximum_frequency": (NUMBER, None), "files": (dict, {}),
-        "window_roll_off": (NUMBER, 0.2),
-    },
+    "event": _section(EventSettings, {"label": str, "control": bool}, required=("label",)),
+    "data": _section(DataSettings, {
+        "kind": str, "detectors": list, "noise_curve": str, "noise_curves": dict, "noise": str, "seed": int,
+        "duration": NUMBER, "sampling_rate": NUMBER, "start_time": NUMBER, "minimum_frequency": NUMBER,
+        "maximum_frequency": NUMBER, "files": dict, "window_roll_off": NUMBER}),
     "injection": {"*": (NUMBER, None)},
-    "model": {
-        "approximant": (str, None), "reference_frequency": (NUMBER, None),
-        "minimum_frequency": (NUMBER, None), "early_inspiral_memory": (bool, True),
-        "memory_taper": (NUMBER, 1.0), "modes": (list, None),
-    },
+    "model": _section(ModelSettings, {
+        "approximant": str, "reference_frequency": NUMBER, "minimum_frequency": NUMBER,
+        "early_inspiral_memory": bool, "memory_taper": NUMBER, "modes": list}),
     "priors": {"*": (ANY, None)},
-    "likelihood": {"distance_marginalization": (bool, False), "time_marginalization": (bool, False),
-                   "phase_marginalization": (bool, False)},
-    "sampler": {"live_points": (int, 200), "accepted_walks": (int, 30), "pool": (int, 1), "seed": (int, 1),
-                "checkpoint_seconds": (NUMBER, 60.0), "progress": (bool, True)},
-    "evidence": {
-        "methods": (list, ["nested", "reweighting", "fast"]),
-        "nested_hypotheses": (list, ["memory", "none", "flipped", "free"]),
-        "reweight_from": (list, ["none", "memory"]), "samples_file": (str, None),
-        "samples_amplitude": (NUMBER, 0.0), "amplitude_grid": (list, [-4.0, 4.0, 81]),
-        "free_amplitude_limits": (list, [-5.0, 5.0]), "minimum_effective_samples": (NUMBER, 50.0),
-        "max_reweight_samples": (int, 2000), "samples_log_likelihood": (str, "log_likelihood"),
-        "samples_reference_frequency": (NUMBER, None), "samples_waveform_model": (str, None),
-        "mismatch_threshold": (NUMBER, 0.1), "samples_analysis": (str, None),
-    },
-    "calibration": {
-        "kind": (str, "none"), "amplitude_sigma": (NUMBER, 0.0), "phase_sigma": (NUMBER, 0.0),
-        "envelope_files": (dict, {}), "correction_type": (str, "data"), "spline_nodes": (int, 10),
-        "minimum_frequency": (NUMBER, None), "maximum_frequency": (NUMBER, None),
-    },
+    "likelihood": _section(LikelihoodSettings, {"distance_marginalization": bool, "time_marginalization": bool,
+                                                "phase_marginalization": bool}),
+    "sampler": _section(SamplerSettings, {"live_points": int, "accepted_walks": int, "pool": int, "seed": int,
+                                          "checkpoint_seconds": NUMBER, "progress": bool}),
+    "evidence": _section(EvidenceSettings, {
+        "methods": list, "nested_hypotheses": list, "reweight_from": list, "samples_file": str,
+        "samples_amplitude": NUMBER, "amplitude_grid": list, "free_amplitude_limits": list,
+        "minimum_effective_samples": NUMBER, "max_reweight_samples": int, "samples_log_likelihood": str,
+        "samples_reference_frequency": NUMBER, "samples_waveform_model": str, "mismatch_threshold": NUMBER,
+        "samples_analysis": str}),
+    "calibration": _section(CalibrationSettings, {
+        "kind": str, "amplitude_sigma": NUMBER, "phase_sigma": NUMBER, "envelope_files": dict,
+        "correction_type": str, "spline_nodes": int, "minimum_frequency": NUMBER, "maximum_frequency": NUMBER}),
 }
-DEFAULT_REFERENCE_FREQUENCY = 20.0  # Hz, when neither the configuration nor the samples file gives one
 PHASE_REFUSAL = ("analytic phase marginalization is not valid with memory and higher modes (the memory "
                  "does not change by an overall phase); sample the phase instead")
 
@@ -116,15 +116,29 @@ def apply_schema(raw: dict, schema: dict, source: str) -> dict:
 
 def load_evidence_config(path: str) -> dict:
     """The per-event configuration with defaults filled in and checked."""
-    return evidence_config(load_toml(path), os.path.basename(path), os.path.dirname(os.path.abspath(path)))
+    return evidence_config(load_toml(path), os.path.basename(path))
 
 
-def evidence_config(raw: dict, source: str, directory: str) -> dict:
-    """An event's configuration from its TOML mapping (``source`` names it in messages; relative paths are taken
-    from ``directory``); ``_given`` keeps the keys the user wrote, so settings left out can come from a release."""
+def load_evidence_settings(path: str) -> AnalysisSettings:
+    """The per-event settings from a TOML file: checked, then typed (relative paths are taken from its folder)."""
+    raw = load_toml(path)
+    return evidence_settings(raw, os.path.basename(path), os.path.dirname(os.path.abspath(path)))
+
+
+def evidence_settings(raw: dict, source: str, directory: str) -> AnalysisSettings:
+    """An event's settings from its TOML mapping (``source`` names it in messages; relative paths are taken from
+    ``directory``); the keys the user wrote are kept, so that settings left out can come from a release."""
+    return AnalysisSettings.from_checked(evidence_config(raw, source), directory, given_keys(raw))
+
+
+def given_keys(raw: dict) -> dict:
+    return {section: sorted(keys) for section, keys in raw.items() if isinstance(keys, dict)}
+
+
+def evidence_config(raw: dict, source: str) -> dict:
+    """An event's configuration from its TOML mapping, checked, with defaults filled in (``source`` names it in
+    messages)."""
     config = apply_schema(raw, EVIDENCE_SCHEMA, source)
-    config["_directory"] = directory
-    config["_given"] = {section: sorted(keys) for section, keys in raw.items() if isinstance(keys, dict)}
     data, evidence = config["data"], config["evidence"]
     if data["kind"] not in ("simulated", "files"):
         raise MemoryInferError("key 'kind' in [data] must be 'simulated' or 'files'")
@@ -192,11 +206,3 @@ def amplitude_grid(config: dict):
     """The evidence grid of A, always holding -1, 0 and 1 exactly."""
     low, high, points = config["evidence"]["amplitude_grid"]
     return grid_with_hypotheses(low, high, points)
-
-
-def grid_with_hypotheses(low, high, points):
-    """A uniform grid of A from ``low`` to ``high`` that also holds -1, 0 and 1 exactly."""
-    import numpy as np
-
-    grid = np.linspace(float(low), float(high), int(points))
-    return np.unique(np.round(np.concatenate([grid, [-1.0, 0.0, 1.0]]), 12))

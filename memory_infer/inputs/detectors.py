@@ -8,6 +8,7 @@ interferometer's name for that one alone. Keys that name no detector of the anal
 from __future__ import annotations
 
 import os
+import types
 from functools import lru_cache
 
 import numpy as np
@@ -66,7 +67,7 @@ def optimal_snr(strain_fd, psd, frequencies, minimum_frequency: float, maximum_f
 
 
 @lru_cache(maxsize=1)
-def known_detectors() -> dict:
+def known_detectors():
     """Every detector bilby defines (its ``detectors/*.interferometer`` files), each with the names of its
     interferometers as bilby builds them (``ET`` -> ``ET1``, ``ET2``, ``ET3``; ``H1`` -> ``H1``)."""
     import bilby
@@ -78,7 +79,7 @@ def known_detectors() -> dict:
             name = file[: -len(".interferometer")]
             built = bilby.gw.detector.get_empty_interferometer(name)
             out[name] = tuple(i.name for i in built) if isinstance(built, list) else (built.name,)
-    return out
+    return types.MappingProxyType(out)  # read only: every caller shares it
 
 
 def interferometers_of(detector: str) -> tuple:

@@ -1,40 +1,25 @@
-"""One event's data and priors from a configuration: simulated or read from files, checked on entry."""
+"""One event's data and priors from its settings: simulated or read from files, checked on entry."""
 from __future__ import annotations
 
+import contextlib
 import logging
 import os
 
 import numpy as np
 
 from ..common.errors import MemoryInferError
-from .config import DEFAULT_REFERENCE_FREQUENCY
 from .checks import SOURCE_PARAMETERS, ZERO_DEFAULTS, check_physical
 from .detectors import configured_detectors, detector_of, empty_detectors, interferometers_of, per_interferometer
 
 logger = logging.getLogger("memory_infer")
 
 
-def waveform_arguments(config: dict) -> dict:
-    model, data = config["model"], config["data"]
-    arguments = {
-        "waveform_approximant": model["approximant"],
-        "reference_frequency": float(model["reference_frequency"] or DEFAULT_REFERENCE_FREQUENCY),
-        "minimum_frequency": float(model["minimum_frequency"] or data["minimum_frequency"]),
-        "early_inspiral_memory": bool(model["early_inspiral_memory"]),
-        "memory_taper_duration": float(model["memory_taper"]),
-        "catch_waveform_errors": True,
-    }
-    if model["modes"]:
-        arguments["mode_list"] = [tuple(int(x) for x in mode) for mode in model["modes"]]
-    return arguments
-
-
-def injection_parameters(config: dict) -> dict:
-    """Injection values with zero spins by default, memory_amplitude 1 by default, checked."""
-    data = config["data"]
+def injection_parameters(data, injection: dict) -> dict:
+    """Injection values (``[injection]``) with zero spins by default, memory_amplitude 1 by default, checked;
+    ``data`` (:class:`memory_infer.inputs.settings.DataSettings`) places the merger when the table does not."""
     values = dict(ZERO_DEFAULTS, memory_amplitude=1.0)
-    values["geocent_time"] = data["start_time"] + (data["duration"] - 2.0 if data["duration"] > 3 else data["duration"] / 2)
-    values.update({k: float(v) for k, v in config["injection"].items()})
+    values["geocent_time"] = data.start_time + (data.duration - 2.0 if data.duration > 3 else data.duration / 2)
+    values.update({k: float(v) for k, v in injection.items()})
     for key in SOURCE_PARAMETERS:
         if key not in values:
             raise MemoryInferError(f"the [injection] section needs '{key}'")
@@ -81,12 +66,12 @@ def _prior(name: str, spec, injection: dict | None):
                            "power_law, comoving_volume, log_uniform or fixed_at_injection")
 
 
-def build_priors(config: dict, injection: dict | None):
-    """bilby priors: configured ones, the rest fixed at the injection (simulated data only)."""
+def build_priors(specs: dict, injection: dict | None):
+    """bilby priors: the ``[priors]`` table's ones, the rest fixed at the injection (simulated data only)."""
     import bilby
 
     priors = bilby.core.prior.PriorDict()
-    specs = dict(config["priors"])
+    specs = dict(specs)
     if "memory_amplitude" in specs:
         raise MemoryInferError("the memory amplitude's prior is set by the hypotheses, not in [priors]")
     for name, spec in specs.items():
@@ -112,31 +97,42 @@ def build_priors(config: dict, injection: dict | None):
 
 # ---------------------------------------------------------------- detector data
 
-def simulated_detectors(config: dict, injection: dict, generator):
-    """Gaussian (seeded) or zero noise from the named curves, with the injection added."""
-    import bilby
-
-    data = config["data"]
-    detectors = configured_detectors(data["detectors"], data["noise_curves"], data["noise_curve"],
-                                     data["minimum_frequency"], data["maximum_frequency"])
-    bilby.core.utils.random.seed(int(data["seed"]))
-    if data["noise"] == "zero":
-        detectors.set_strain_data_from_zero_noise(data["sampling_rate"], data["duration"], data["start_time"])
-    else:
-        detectors.set_strain_data_from_power_spectral_densities(data["sampling_rate"], data["duration"],
-                                                                data["start_time"])
+def simulated_detectors(data, injection: dict, generator, rng):
+    """Gaussian noise drawn from ``rng`` (a ``numpy.random.Generator``), or zero noise, from the named curves, with
+    the injection added; ``data`` is :class:`memory_infer.inputs.settings.DataSettings`."""
+    detectors = configured_detectors(list(data.detectors), data.noise_curves, data.noise_curve,
+                                     data.minimum_frequency, data.maximum_frequency)
+    with bilby_draws_from(rng):
+        if data.noise == "zero":
+            detectors.set_strain_data_from_zero_noise(data.sampling_rate, data.duration, data.start_time)
+        else:
+            detectors.set_strain_data_from_power_spectral_densities(data.sampling_rate, data.duration, data.start_time)
     detectors.inject_signal(waveform_generator=generator, parameters=injection, raise_error=False)
     return detectors
 
 
-def file_detectors(config: dict, sample_psds: dict | None = None, samples_name: str | None = None):
-    """Strain and PSD per detector from files named in ``[data.files.NAME]``; ``psd_from_samples = true`` takes
-    the detector's PSD from the samples file (a catalog release's ``psds`` group, ``sample_psds``)."""
-    data = config["data"]
-    return detectors_from_files(data["files"], float(data["sampling_rate"]), float(data["duration"]),
-                                float(data["start_time"]), float(data["minimum_frequency"]),
-                                data["maximum_frequency"], float(data["window_roll_off"]),
-                                config.get("_directory", "."), sample_psds or {}, samples_name)
+@contextlib.contextmanager
+def bilby_draws_from(rng):
+    """bilby draws its random numbers (noise, prior draws, equal-weight resampling) from one module-level
+    generator and takes none as an argument; this hands it ``rng`` inside the block and restores the previous one
+    after, so that randomness stays with the generator the caller passed."""
+    from bilby.core.utils import random
+
+    previous = random.Generator.rng
+    random.Generator.rng = rng
+    try:
+        yield rng
+    finally:
+        random.Generator.rng = previous
+
+
+def file_detectors(data, sample_psds: dict | None = None, samples_name: str | None = None):
+    """Strain and PSD per detector from files named in ``[data.files.NAME]`` (``data``:
+    :class:`memory_infer.inputs.settings.DataSettings`); ``psd_from_samples = true`` takes the detector's PSD
+    from the samples file (a catalog release's ``psds`` group, ``sample_psds``)."""
+    return detectors_from_files(data.files, float(data.sampling_rate), float(data.duration), float(data.start_time),
+                                float(data.minimum_frequency), data.maximum_frequency, float(data.window_roll_off),
+                                data.directory, sample_psds or {}, samples_name)
 
 
 def detectors_from_files(files: dict, sampling_rate: float, duration: float, start_time: float,

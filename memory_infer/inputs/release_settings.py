@@ -4,6 +4,7 @@ release's own configuration (``config_file/config``, as pesummary stores the run
 from __future__ import annotations
 
 import ast
+import dataclasses
 import os
 import re
 
@@ -111,24 +112,23 @@ def _band_value(value, detectors, pick):
     return float(value)
 
 
-def apply_release_settings(config: dict, found: dict) -> dict:
-    """Fill every segment and model setting the user left out from ``found`` (:func:`read_release_settings`);
-    returns setting -> origin for every one of them (``configuration``, the release's place, or ``default``)."""
-    given = config.get("_given", {})
-    data, model = config["data"], config["model"]
-    detectors = list(data["files"]) or list(data["detectors"])
-    origins = {}
+def apply_release_settings(settings, found: dict):
+    """New settings (:class:`memory_infer.inputs.settings.AnalysisSettings`) with every segment and model setting
+    the user left out taken from ``found`` (:func:`read_release_settings`), and setting -> origin for every one of
+    them (``configuration``, the release's place, or ``default``)."""
+    given = settings.given
+    data, model, calibration = settings.data, settings.model, settings.calibration
+    detectors = list(data.files) or list(data.detectors)
+    origins, changes = {}, {"data": {}, "model": {}, "calibration": {}}
 
     def take(section, key, setting, convert=float):
         if key in given.get(section, []):
             origins[setting] = ORIGIN_USER
-            return False
-        if setting in found:
-            config[section][key] = convert(found[setting][0])
+        elif setting in found:
+            changes[section][key] = convert(found[setting][0])
             origins[setting] = found[setting][1]
-            return True
-        origins[setting] = "default"
-        return False
+        else:
+            origins[setting] = "default"
 
     take("data", "duration", "duration")
     take("data", "sampling_rate", "sampling_rate")
@@ -139,7 +139,8 @@ def apply_release_settings(config: dict, found: dict) -> dict:
         origins["start_time"] = ORIGIN_USER
     elif "trigger_time" in found:
         post, post_from = found.get("post_trigger_duration", (DEFAULT_POST_TRIGGER, "default"))
-        data["start_time"] = float(found["trigger_time"][0]) + float(post) - float(data["duration"])
+        duration = changes["data"].get("duration", data.duration)
+        changes["data"]["start_time"] = float(found["trigger_time"][0]) + float(post) - float(duration)
         origins["start_time"] = (f"trigger time ({found['trigger_time'][1]}) + post-trigger duration "
                                  f"({post_from}) - duration")
     else:
@@ -154,20 +155,22 @@ def apply_release_settings(config: dict, found: dict) -> dict:
         if name not in runs:
             raise MemoryInferError(f"the release's model '{name}' ({where}) is not one this tool runs "
                                    f"({', '.join(runs)}); set [model] approximant to choose one")
-        model["approximant"] = name
+        changes["model"]["approximant"] = name
         origins["waveform_model"] = where
     else:
         origins["waveform_model"] = "default"
-    calibration = config["calibration"]
     if given.get("calibration"):
         origins["calibration"] = ORIGIN_USER
     elif "calibration_envelopes" in found and all(d in found["calibration_envelopes"][0] for d in detectors):
-        calibration["kind"] = "envelope"
-        calibration["_envelopes"] = {d: found["calibration_envelopes"][0][d] for d in detectors}
+        changes["calibration"] = {"kind": "envelope",
+                                  "envelopes": {d: found["calibration_envelopes"][0][d] for d in detectors}}
         origins["calibration"] = found["calibration_envelopes"][1]
     else:
         origins["calibration"] = "none (the release holds no envelope for every detector)"
-    return origins
+    resolved = dataclasses.replace(settings, data=dataclasses.replace(data, **changes["data"]),
+                                   model=dataclasses.replace(model, **changes["model"]),
+                                   calibration=dataclasses.replace(calibration, **changes["calibration"]))
+    return resolved, origins
 
 
 def samples_stand_in_priors(frame, name: str):

@@ -1,13 +1,13 @@
 import pytest
 
-from memory_infer.campaign.config import fingerprint, load_campaign_config, plan
+from memory_infer.campaign.config import fingerprint, load_campaign_settings, plan
 from memory_infer.common.errors import MemoryInferError
 
 from helpers import campaign_config
 
 
 def test_plan_is_seeded_and_identical_on_every_call(tmp_path):
-    config = load_campaign_config(campaign_config(tmp_path, count=30, amplitude='"prior"'))
+    config = load_campaign_settings(campaign_config(tmp_path, count=30, amplitude='"prior"'))
     first, second = plan(config), plan(config)
     assert fingerprint(first) == fingerprint(second) and len(first) == 30
     amplitudes = [t["amplitude"] for t in first]
@@ -20,4 +20,4 @@ def test_plan_is_seeded_and_identical_on_every_call(tmp_path):
 ])
 def test_bad_campaign_settings_are_one_sentence(tmp_path, extra, message):
     with pytest.raises(MemoryInferError, match=message):
-        load_campaign_config(campaign_config(tmp_path, extra=extra))
+        load_campaign_settings(campaign_config(tmp_path, extra=extra))

@@ -10,7 +10,7 @@ import time
 import numpy as np
 import pytest
 
-from memory_infer.campaign.config import fingerprint, load_campaign_config, plan
+from memory_infer.campaign.config import fingerprint, load_campaign_settings, plan
 from memory_infer.campaign.executors import InlineExecutor, ProcessExecutor, execute
 from memory_infer.campaign.store import RecordStore
 from memory_infer.common.errors import MemoryInferError

@@ -31,17 +31,17 @@ def brute_force_two_point(record, settings, realizations, seed):
     record's injection added, averaged: the brute-force reference for the campaign's exact expectation."""
     import bilby
 
-    from memory_infer.campaign.injection import cached_detectors, cached_generator
+    from memory_infer.campaign.injection import build_network
     from memory_infer.inference.likelihood import MemoryTransient
     from memory_infer.inference.methods.fast import fast_estimates
     from memory_infer.inputs.checks import SOURCE_PARAMETERS
 
-    generator = cached_generator(settings["duration"], settings["sampling_rate"], "IMRPhenomTHM", 20.0)
-    detectors = cached_detectors(settings["network"], 20.0, settings["duration"], settings["sampling_rate"])
+    network = build_network(settings)
+    generator, detectors = network.generator, network.detectors
     source = {k: record[k] for k in SOURCE_PARAMETERS}
-    start = source["geocent_time"] - settings["duration"] + 2.0
+    start = source["geocent_time"] - settings.data.duration + 2.0
     generator.start_time = start
-    detectors.set_strain_data_from_zero_noise(settings["sampling_rate"], settings["duration"], start)
+    detectors.set_strain_data_from_zero_noise(settings.data.sampling_rate, settings.data.duration, start)
     detectors.inject_signal(waveform_generator=generator, parameters=dict(source, memory_amplitude=record["amplitude"]),
                             raise_error=False)
     signal = [d.frequency_domain_strain.copy() for d in detectors]
@@ -49,11 +49,11 @@ def brute_force_two_point(record, settings, realizations, seed):
     values = []
     for _ in range(realizations):
         for detector, injected in zip(detectors, signal):
-            noise, _ = detector.power_spectral_density.get_noise_realisation(settings["sampling_rate"],
-                                                                               settings["duration"])
+            noise, _ = detector.power_spectral_density.get_noise_realisation(settings.data.sampling_rate,
+                                                                               settings.data.duration)
             detector.set_strain_data_from_frequency_domain_strain(injected + noise,
-                                                                  sampling_frequency=settings["sampling_rate"],
-                                                                  duration=settings["duration"], start_time=start)
+                                                                  sampling_frequency=settings.data.sampling_rate,
+                                                                  duration=settings.data.duration, start_time=start)
         estimates, _ = fast_estimates(MemoryTransient(detectors, generator), source)
         values.append(estimates[2].ln_bf)
     return np.asarray(values)
@@ -71,7 +71,9 @@ def test_expected_ln_bf_matches_brute_force_over_noise(tmp_path):
     assert main(["campaign", config, "--outdir", str(tmp_path / "c"), "--quiet", "--workers", "1"]) == 0
     records = [r for r in stored(str(tmp_path / "c")).values() if r["detected"]]
     assert len(records) == 5
-    settings = {"duration": 4.0, "sampling_rate": 1024.0, "network": "ce"}
+    from memory_infer.campaign.config import load_campaign_settings
+
+    settings = load_campaign_settings(config)  # ce, 4 s at 1024 Hz from 20 Hz, IMRPhenomTHM
     expected, brute, variance = 0.0, 0.0, 0.0
     for record in records:
         values = brute_force_two_point(record, settings, 2000, 17 + record["index"])

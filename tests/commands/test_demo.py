@@ -5,7 +5,7 @@ import pytest
 
 from memory_infer.commands.demo import EVENT_TEMPLATE, EVENTS
 from memory_infer.inference.setup import prepare
-from memory_infer.inputs.config import load_evidence_config
+from memory_infer.inputs.config import load_evidence_settings
 from memory_infer.inputs.detectors import noise_curve_path
 
 
@@ -18,7 +18,7 @@ def test_every_demo_event_is_a_valid_configuration(tmp_path):
             hypotheses=json.dumps(hypotheses))
         path = tmp_path / f"{label}.toml"
         path.write_text(text)
-        setup = prepare(load_evidence_config(str(path)))
+        setup = prepare(load_evidence_settings(str(path)))
         assert setup.injection["memory_amplitude"] == amplitude
         assert {d.name[:2] for d in setup.detectors} == {d[:2] for d in detectors}  # ET is three interferometers
         for detector in setup.detectors:  # each interferometer has its detector's noise curve (ET: all three)

@@ -28,16 +28,16 @@ def test_einstein_telescope_memory_snr_is_bilbys_with_et_d_on_all_three():
 
     import bilby
 
-    from memory_infer.campaign.injection import cached_generator
-    from memory_infer.commands.rank import memory_snr
+    from memory_infer.commands.rank import memory_snr, ranking_network
 
     from helpers import bilby_memory_snr
 
     source = dict(mass_1=45.0, mass_2=15.0, luminosity_distance=900.0, theta_jn=1.4, phase=0.8, ra=1.3, dec=-0.2,
                   psi=0.5, geocent_time=1000000002.0, a_1=0.0, a_2=0.0, tilt_1=0.0, tilt_2=0.0, phi_12=0.0, phi_jl=0.0)
-    ours = memory_snr(source, "et", 8.0, 20.0)
+    network = ranking_network("et", 8.0, 20.0)
+    ours = memory_snr(source, network)
     et_d = os.path.join(os.path.dirname(bilby.__file__), "gw", "detector", "noise_curves", "ET_D_asd.txt")
-    reference, count = bilby_memory_snr(cached_generator(8.0, 2048.0, "IMRPhenomTHM", 20.0), source, ["ET"], et_d,
+    reference, count = bilby_memory_snr(network.generator, source, ["ET"], et_d,
                                         20.0, 2048.0, 8.0, source["geocent_time"] - 6.0)
     assert count == 3
     assert ours == pytest.approx(reference, rel=1e-9)

@@ -2,14 +2,14 @@ import numpy as np
 
 from memory_infer.inference.figures import memory_spectrum, whitened_series
 from memory_infer.inference.setup import prepare
-from memory_infer.inputs.config import load_evidence_config
+from memory_infer.inputs.config import load_evidence_settings
 
 from helpers import event_config
 
 
 def test_figure_data_in_zero_noise_shows_the_injected_model(tmp_path):
     # zero noise with A = 1 injected: the whitened data are the whitened model with memory
-    setup = prepare(load_evidence_config(event_config(tmp_path, detectors='["H1", "L1"]', noise_curve="ligo-design",
+    setup = prepare(load_evidence_settings(event_config(tmp_path, detectors='["H1", "L1"]', noise_curve="ligo-design",
                                                       distance=400.0)))
     point = {k: v for k, v in setup.injection.items() if k != "memory_amplitude"}
     whitened = whitened_series(setup.detectors, setup.generator, point)

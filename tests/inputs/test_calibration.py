@@ -12,12 +12,12 @@ CONSTANT = "\n[calibration]\nkind = \"constant\"\namplitude_sigma = 0.05\nphase_
 
 def _setup(tmp_path, extra="", likelihood="", name="event.toml", priors=None):
     from memory_infer.inference.setup import prepare
-    from memory_infer.inputs.config import load_evidence_config
+    from memory_infer.inputs.config import load_evidence_settings
 
     keywords = {"priors": priors} if priors else {}
     path = event_config(tmp_path, name=name, detectors='["H1", "L1"]', noise_curve="ligo-design", noise="gaussian",
                         distance=800.0, likelihood=likelihood, evidence_extra=extra, **keywords)
-    return prepare(load_evidence_config(path))
+    return prepare(load_evidence_settings(path))
 
 
 def _with_calibration_draw(setup, seed=2):
@@ -229,7 +229,7 @@ def test_envelope_under_a_detector_name_reaches_each_interferometer(tmp_path):
     an envelope for a detector not analysed is refused."""
     from memory_infer.common.errors import MemoryInferError
     from memory_infer.inference.setup import prepare
-    from memory_infer.inputs.config import load_evidence_config
+    from memory_infer.inputs.config import load_evidence_config, load_evidence_settings
 
     frequencies = np.logspace(np.log10(10), np.log10(2000), 40)
     table = np.column_stack([frequencies, np.ones(40), np.zeros(40), np.full(40, 0.95), np.full(40, -0.03),
@@ -237,7 +237,7 @@ def test_envelope_under_a_detector_name_reaches_each_interferometer(tmp_path):
     np.savetxt(tmp_path / "ET_envelope.txt", table)
     extra = '\n[calibration]\nkind = "envelope"\nspline_nodes = 5\nenvelope_files = { ET = "ET_envelope.txt" }\n'
     path = event_config(tmp_path, detectors='["ET"]', noise_curve="et-d", evidence_extra=extra)
-    setup = prepare(load_evidence_config(path))
+    setup = prepare(load_evidence_settings(path))
     assert [d.calibration_model.prefix for d in setup.detectors] == ["recalib_ET1_", "recalib_ET2_", "recalib_ET3_"]
     assert all(f"recalib_ET{k}_amplitude_0" in setup.priors for k in (1, 2, 3))
     wrong = event_config(tmp_path, name="wrong.toml", detectors='["ET"]', noise_curve="et-d",

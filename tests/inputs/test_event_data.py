@@ -2,19 +2,20 @@ import numpy as np
 import pytest
 
 from memory_infer.common.errors import MemoryInferError
-from memory_infer.inputs.config import load_evidence_config
-from memory_infer.inputs.event_data import build_priors, detectors_from_files, injection_parameters, waveform_arguments
+from memory_infer.inputs.config import load_evidence_config, load_evidence_settings
+from memory_infer.inputs.event_data import build_priors, detectors_from_files, injection_parameters
 
 from helpers import event_config
 
 
 def test_priors_fix_what_is_not_sampled_at_the_injection(tmp_path):
-    config = load_evidence_config(event_config(tmp_path))
-    injection = injection_parameters(config)
-    priors = build_priors(config, injection)
+    settings = load_evidence_settings(event_config(tmp_path))
+    injection = injection_parameters(settings.data, settings.injection)
+    priors = build_priors(settings.priors, injection)
     assert not priors["phase"].is_fixed
     assert priors["mass_1"].peak == injection["mass_1"] and priors["a_1"].peak == 0.0
-    assert waveform_arguments(config)["minimum_frequency"] == 20.0
+    # the model's start is the band's lower edge when [model] leaves it out
+    assert settings.model.waveform_arguments(settings.data)["minimum_frequency"] == 20.0
 
 
 def test_detectors_from_files_check_the_segment(tmp_path):
@@ -50,7 +51,7 @@ def test_einstein_telescope_event_uses_et_d_on_each_interferometer(tmp_path):
 
     from helpers import bilby_memory_snr
 
-    setup = prepare(load_evidence_config(et_config(tmp_path)))
+    setup = prepare(load_evidence_settings(et_config(tmp_path)))
     et_d = os.path.join(os.path.dirname(bilby.__file__), "gw", "detector", "noise_curves", "ET_D_asd.txt")
     assert [d.name for d in setup.detectors] == ["ET1", "ET2", "ET3"]
     assert all(d.power_spectral_density.asd_file == et_d and d.minimum_frequency == 20.0 for d in setup.detectors)

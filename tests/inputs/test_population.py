@@ -7,11 +7,11 @@ import pytest
 from memory_infer.common.errors import MemoryInferError
 
 from helpers import INJECTIONS, campaign_config, run_store, stored
-from memory_infer.campaign.config import load_campaign_config, plan
+from memory_infer.campaign.config import load_campaign_settings, plan
 
 
 def test_population_draws_are_seeded_and_physical(tmp_path):
-    config = load_campaign_config(campaign_config(tmp_path, count=500))
+    config = load_campaign_settings(campaign_config(tmp_path, count=500))
     first, second = plan(config), plan(config)
     assert first == second
     sources = [t["source"] for t in first]
@@ -66,7 +66,7 @@ def test_isotropic_spins(tmp_path):
 
 def test_isotropic_spins_need_a_precessing_model(tmp_path):
     population_file(tmp_path, spin_orientation="isotropic")
-    config = load_campaign_config(campaign_config(tmp_path, count=5, injections=str(tmp_path / "population.toml")))
+    config = load_campaign_settings(campaign_config(tmp_path, count=5, injections=str(tmp_path / "population.toml")))
     with pytest.raises(MemoryInferError, match="need a precessing waveform model such as IMRPhenomTPHM"):
         plan(config)
 
@@ -91,5 +91,5 @@ def test_campaign_warns_when_the_range_truncates_detections(tmp_path):
     population_file(tmp_path, redshift_max=0.3)
     path = campaign_config(tmp_path, count=20, injections=str(tmp_path / "population.toml"))
     run_store(path, str(tmp_path / "out"), InlineExecutor(), 4)
-    summary = summarize(list(stored(str(tmp_path / "out")).values()), load_campaign_config(path))
+    summary = summarize(list(stored(str(tmp_path / "out")).values()), load_campaign_settings(path))
     assert summary.warnings and "redshift_max = 0.3" in summary.warnings[0]

@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 
 from memory_infer.common.errors import MemoryInferError
-from memory_infer.inputs.config import evidence_config
+from memory_infer.inputs.config import evidence_settings
 from memory_infer.inputs.release_settings import apply_release_settings, read_release_settings
 
 CONFIG = """[config]
@@ -45,7 +45,7 @@ def _config(raw):
     base = {"event": {"label": "x"}, "data": {"kind": "files", "files": {"H1": {"strain": "a"}, "L1": {"strain": "b"}}}}
     for section, values in raw.items():
         base.setdefault(section, {}).update(values)
-    return evidence_config(base, "test", ".")
+    return evidence_settings(base, "test", ".")
 
 
 def test_every_setting_left_out_comes_from_the_release_with_its_origin(release):
@@ -54,14 +54,15 @@ def test_every_setting_left_out_comes_from_the_release_with_its_origin(release):
     assert found["minimum_frequency"][0] == {"H1": 20.0, "L1": 25.0}
     assert found["detectors"][0] == ["H1", "L1"] and found["waveform_model"][0] == "IMRPhenomTPHM"
     assert sorted(found["calibration_envelopes"][0]) == ["H1", "L1"]
-    config = _config({})
-    origins = apply_release_settings(config, found)
-    data = config["data"]
-    assert (data["duration"], data["sampling_rate"], data["start_time"]) == (8.0, 2048.0, 1000000010.0)
+    given = _config({})
+    settings, origins = apply_release_settings(given, found)
+    data = settings.data
+    assert (data.duration, data.sampling_rate, data.start_time) == (8.0, 2048.0, 1000000010.0)
     # one band for the network: the highest lower edge and the lowest upper edge of the detectors
-    assert (data["minimum_frequency"], data["maximum_frequency"]) == (25.0, 800.0)
-    assert config["model"]["reference_frequency"] == 50.0 and config["model"]["approximant"] == "IMRPhenomTPHM"
-    assert config["calibration"]["kind"] == "envelope" and sorted(config["calibration"]["_envelopes"]) == ["H1", "L1"]
+    assert (data.minimum_frequency, data.maximum_frequency) == (25.0, 800.0)
+    assert settings.model.reference_frequency == 50.0 and settings.model.approximant == "IMRPhenomTPHM"
+    assert settings.calibration.kind == "envelope" and sorted(settings.calibration.envelopes) == ["H1", "L1"]
+    assert given.data.duration == 4.0 and given.model.reference_frequency is None  # new values, not changed ones
     assert origins["duration"] == "release.h5: C01:IMRPhenomTPHM/config_file/config/duration"
     assert origins["reference_frequency"] == "release.h5: C01:IMRPhenomTPHM/meta_data/meta_data/f_ref"
     assert origins["start_time"].startswith("trigger time (release.h5: C01:IMRPhenomTPHM/config_file/config/"
@@ -69,12 +70,13 @@ def test_every_setting_left_out_comes_from_the_release_with_its_origin(release):
 
 
 def test_the_users_settings_are_kept(release):
-    config = _config({"data": {"duration": 4.0, "start_time": 1000000013.0}, "model": {"approximant": "IMRPhenomTHM"}})
-    origins = apply_release_settings(config, read_release_settings(release))
-    assert config["data"]["duration"] == 4.0 and config["data"]["start_time"] == 1000000013.0
-    assert config["model"]["approximant"] == "IMRPhenomTHM"
+    settings, origins = apply_release_settings(_config({"data": {"duration": 4.0, "start_time": 1000000013.0},
+                                                        "model": {"approximant": "IMRPhenomTHM"}}),
+                                               read_release_settings(release))
+    assert settings.data.duration == 4.0 and settings.data.start_time == 1000000013.0
+    assert settings.model.approximant == "IMRPhenomTHM"
     assert origins["duration"] == origins["start_time"] == origins["waveform_model"] == "configuration"
-    assert config["data"]["sampling_rate"] == 2048.0  # still from the release
+    assert settings.data.sampling_rate == 2048.0  # still from the release
 
 
 def test_a_model_this_tool_does_not_run_is_one_sentence(release, tmp_path):

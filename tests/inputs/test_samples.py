@@ -133,7 +133,7 @@ def test_corpus_files_reweight_end_to_end(tmp_path, capsys, run):
 @pytest.fixture(scope="module")
 def likelihood(tmp_path_factory):
     from memory_infer.inference.setup import prepare
-    from memory_infer.inputs.config import load_evidence_config
+    from memory_infer.inputs.config import load_evidence_settings
 
     directory = tmp_path_factory.mktemp("property")
     path = event_config(directory, detectors='["H1"]', noise_curve="ligo-design", noise="gaussian")
@@ -141,7 +141,7 @@ def likelihood(tmp_path_factory):
         text = handle.read().replace('approximant = "IMRPhenomTHM"', 'approximant = "IMRPhenomTPHM"')
     with open(path, "w") as handle:
         handle.write(text)
-    setup = prepare(load_evidence_config(path))
+    setup = prepare(load_evidence_settings(path))
     return setup.likelihood("none")[0], setup
 
 

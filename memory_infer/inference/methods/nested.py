@@ -117,10 +117,10 @@ class NestedSampling(EvidenceMethod):
     describes = (DESCRIPTION,)
 
     def run(self, state: RunState) -> Found:
-        config = state.setup.config
-        sampler = config["sampler"]
+        settings = state.setup.settings
+        sampler = settings.sampler
         outdir = os.path.join(state.outdir, "runs")
-        for index, name in enumerate(config["evidence"]["nested_hypotheses"]):
+        for index, name in enumerate(settings.evidence.nested_hypotheses):
             if name not in HYPOTHESES:
                 raise MemoryInferError(f"unknown hypothesis '{name}' in [evidence] nested_hypotheses")
             hypothesis = HYPOTHESES[name]
@@ -128,9 +128,9 @@ class NestedSampling(EvidenceMethod):
             logger.info("%s: nested sampling, hypothesis '%s'", state.label, hypothesis)
             state.nested[hypothesis] = run_nested(
                 likelihood, priors, label=f"{state.label}_{hypothesis}", outdir=outdir,
-                live_points=sampler["live_points"], accepted_walks=sampler["accepted_walks"], pool=sampler["pool"],
-                seed=int(sampler["seed"]) + index, checkpoint_seconds=sampler["checkpoint_seconds"],
-                progress=bool(sampler["progress"]) and state.progress)
+                live_points=sampler.live_points, accepted_walks=sampler.accepted_walks, pool=sampler.pool,
+                seed=int(sampler.seed) + index, checkpoint_seconds=sampler.checkpoint_seconds,
+                progress=bool(sampler.progress) and state.progress)
         runs, found = state.nested, Found()
         for numerator in (MEMORY, FLIPPED):
             if numerator in runs and NONE in runs:

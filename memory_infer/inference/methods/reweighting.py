@@ -315,20 +315,20 @@ class Reweighting(EvidenceMethod):
         from ...inputs.calibration import calibration_names, draw_calibration  # bilby: loaded when run
 
         setup = state.setup
-        evidence, seed = setup.config["evidence"], int(setup.config["sampler"]["seed"])
+        evidence, seed = setup.settings.evidence, int(setup.settings.sampler.seed)
         sample_sets = {}
-        for name in evidence["reweight_from"]:
+        for name in evidence.reweight_from:
             hypothesis = HYPOTHESES.get(name)
             if hypothesis in state.nested:
                 sample_sets[hypothesis.name] = (state.nested[hypothesis].posterior, hypothesis.amplitude, None)
         if setup.external_samples is not None:
-            amplitude = float(evidence["samples_amplitude"])
+            amplitude = float(evidence.samples_amplitude)
             sample_sets[f"file ({amplitude_label(amplitude)})"] = (
                 setup.external_samples, amplitude, setup.external_settings.get("log_likelihood_column"))
         if not sample_sets:
             state.warn("reweighting asked for, but there are no posterior samples (run 'nested' for the "
                        "'none' or 'memory' hypothesis, or give samples_file)")
-        limit, minimum = int(evidence["max_reweight_samples"]), float(evidence["minimum_effective_samples"])
+        limit, minimum = int(evidence.max_reweight_samples), float(evidence.minimum_effective_samples)
         grid, found = setup.grid, Found()
         for name, (frame, base, column) in sample_sets.items():
             if len(frame) > limit:
@@ -387,7 +387,7 @@ class Reweighting(EvidenceMethod):
                                      f"the best no-memory fit among the reweighted samples [{name}]")
             if (base == 0.0 or corrected_curve is not None) and found.amplitude_curve is None:
                 found.amplitude_curve = corrected_curve or amplitude_curve(table, grid, 0.0, labels)
-                sign = sign_from_curve(found.amplitude_curve, evidence["free_amplitude_limits"])
+                sign = sign_from_curve(found.amplitude_curve, evidence.free_amplitude_limits)
                 if min(found.amplitude_curve.at(1.0)[2], found.amplitude_curve.at(-1.0)[2]) < minimum:
                     sign.note += "; too few effective samples at A = +-1: treat with care"
                 found.signs[DESCRIPTION.family] = sign
@@ -398,7 +398,7 @@ class Reweighting(EvidenceMethod):
         """Record and, past the threshold, warn how far this run's likelihood departs from the samples' own."""
         setup = state.setup
         check = likelihood_mismatch(recomputed, source, noise_log_likelihood,
-                                    float(setup.config["evidence"]["mismatch_threshold"]))
+                                    float(setup.settings.evidence.mismatch_threshold))
         state.result.sample_checks[name] = dict(setup.external_settings, mismatch=check)
         if check["exceeded"]:
             differs = [f"{key.replace('_', ' ')} {value['samples']} (this run {value['this_run']})"

@@ -152,17 +152,15 @@ def _outside_run(config_path, tmp_path, reference_frequency, mode_list=None):
     from memory_infer.inference.hypotheses import hypothesis_priors
     from memory_infer.inference.likelihood import MemoryTransient
     from memory_infer.inference.setup import prepare
-    from memory_infer.inputs.config import load_evidence_config
-    from memory_infer.inputs.event_data import waveform_arguments
+    from memory_infer.inputs.config import load_evidence_settings
     from memory_infer.waveform.generator import waveform_generator
 
-    config = load_evidence_config(config_path)
-    setup = prepare(config)
-    arguments = dict(waveform_arguments(config), reference_frequency=reference_frequency)
+    setup = prepare(load_evidence_settings(config_path))
+    data = setup.settings.data
+    arguments = dict(setup.settings.model.waveform_arguments(data), reference_frequency=reference_frequency)
     if mode_list:
         arguments["mode_list"] = mode_list
-    generator = waveform_generator(config["data"]["duration"], config["data"]["sampling_rate"],
-                                   config["data"]["start_time"], arguments)
+    generator = waveform_generator(data.duration, data.sampling_rate, data.start_time, arguments)
     priors = hypothesis_priors(setup.priors, "none")
     likelihood = MemoryTransient(setup.detectors, generator, priors=priors)
     label = f"outside_{reference_frequency:g}_{len(mode_list or [])}"
@@ -190,7 +188,7 @@ def test_proposal_correction_and_mismatch_on_outside_samples(tmp_path):
     # (our simulated data follow the run's own reference frequency, so "matching" means their run at 20 Hz)
     from memory_infer.inference.runner import run_event
     from memory_infer.inference.setup import prepare
-    from memory_infer.inputs.config import load_evidence_config
+    from memory_infer.inputs.config import load_evidence_settings
 
     priors = ('phase = { kind = "periodic", minimum = 0.0, maximum = 6.283185307179586 }\n'
               'psi = { kind = "periodic", minimum = 0.0, maximum = 3.141592653589793 }')
@@ -203,7 +201,7 @@ def test_proposal_correction_and_mismatch_on_outside_samples(tmp_path):
         handle.write(text)
     quadrupole, outside = _outside_run(base, tmp_path, 20.0, [(2, 2), (2, -2)])
     assert "log_likelihood" in outside.posterior.columns
-    result = run_event(prepare(load_evidence_config(_use_samples(base, quadrupole))), str(tmp_path / "ours"),
+    result = run_event(prepare(load_evidence_settings(_use_samples(base, quadrupole))), str(tmp_path / "ours"),
                        progress=False).to_json()
     nested = next(m for m in result["methods"] if m["family"] == "nested" and m["numerator"] == "memory")
     corrected = next(m for m in result["methods"] if m["method"].startswith("importance reweighting with the proposal")
@@ -216,14 +214,14 @@ def test_proposal_correction_and_mismatch_on_outside_samples(tmp_path):
     assert abs(corrected["ln_bf"] - nested["ln_bf"]) < 3 * np.hypot(corrected["ln_bf_err"], nested["ln_bf_err"])
 
     shifted, _ = _outside_run(base, tmp_path, 15.0)
-    loud = run_event(prepare(load_evidence_config(_use_samples(base, shifted, methods='["reweighting"]'))),
+    loud = run_event(prepare(load_evidence_settings(_use_samples(base, shifted, methods='["reweighting"]'))),
                      str(tmp_path / "shifted"), progress=False).to_json()
     check = loud["sample_checks"]["file (none)"]
     assert check["reference_frequency"] == {"samples": 15.0, "this_run": 20.0, "from": "file metadata",
                                             "differs": True}
     assert check["mismatch"]["exceeded"] and any("departs from their own" in w for w in loud["warnings"])
     matched, _ = _outside_run(base, tmp_path, 20.0)  # the same likelihood as ours
-    quiet = run_event(prepare(load_evidence_config(_use_samples(base, matched, methods='["reweighting"]'))),
+    quiet = run_event(prepare(load_evidence_settings(_use_samples(base, matched, methods='["reweighting"]'))),
                       str(tmp_path / "matched"), progress=False).to_json()
     check = quiet["sample_checks"]["file (none)"]
     print(f"15 Hz samples: {loud['sample_checks']['file (none)']['mismatch']}; matched: {check['mismatch']}")
@@ -269,13 +267,13 @@ def test_time_marginalized_reweighting_equals_unmarginalized(tmp_path):
     # agreement within 3 combined Monte-Carlo errors
     from memory_infer.inference.runner import run_event
     from memory_infer.inference.setup import prepare
-    from memory_infer.inputs.config import load_evidence_config
+    from memory_infer.inputs.config import load_evidence_settings
 
     priors = ('phase = { kind = "periodic", minimum = 0.0, maximum = 6.283185307179586 }\n'
               'geocent_time = { kind = "uniform", minimum = 1000000001.98, maximum = 1000000002.02 }')
     plain = event_config(tmp_path, name="plain.toml", noise="gaussian", seed=4, distance=4000.0, priors=priors,
                          live_points=60, methods='["nested", "reweighting"]', hypotheses='["none"]')
-    first = run_event(prepare(load_evidence_config(plain)), str(tmp_path / "plain"), progress=False).to_json()
+    first = run_event(prepare(load_evidence_settings(plain)), str(tmp_path / "plain"), progress=False).to_json()
     samples = str(tmp_path / "plain" / "runs" / "test-event_none_result.json")
     text = open(plain).read().replace('reweight_from = ["none"]', f'reweight_from = []\nsamples_file = "{samples}"\n'
                                       'samples_log_likelihood = ""')
@@ -283,7 +281,7 @@ def test_time_marginalized_reweighting_equals_unmarginalized(tmp_path):
     text = text.replace("[likelihood]\n", "[likelihood]\ntime_marginalization = true\n")
     marginal = tmp_path / "marginal.toml"
     marginal.write_text(text)
-    second = run_event(prepare(load_evidence_config(str(marginal))), str(tmp_path / "marginal"),
+    second = run_event(prepare(load_evidence_settings(str(marginal))), str(tmp_path / "marginal"),
                        progress=False).to_json()
     for numerator in ("memory", "flipped"):
         a = next(m for m in first["methods"] if m["family"] == "reweighting" and m["numerator"] == numerator)

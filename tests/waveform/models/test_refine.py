@@ -144,8 +144,11 @@ def _reference_snr_at_2048():
 
 @pytest.mark.slow
 def test_source_model_rank_and_campaign_record_agree_with_the_reference():
-    from memory_infer.commands.rank import memory_snr
-    from memory_infer.campaign.injection import run_injection
+    import dataclasses
+
+    from memory_infer.campaign.injection import build_network, run_injection
+    from memory_infer.commands.rank import memory_snr, ranking_network
+    from memory_infer.inputs.settings import CampaignSettings
     from memory_infer.waveform.source import signal_parts
 
     expected = _reference_snr_at_2048()
@@ -159,13 +162,16 @@ def test_source_model_rank_and_campaign_record_agree_with_the_reference():
                         for d in detectors))
     assert abs(model / expected - 1) < 5e-3  # convergence reference (module docstring)
     # rank
-    ranked = memory_snr(dict(source), "hlv-design", DURATION, 20.0)
+    ranked = memory_snr(dict(source), ranking_network("hlv-design", DURATION, 20.0))
     assert abs(ranked / expected - 1) < 5e-3  # convergence reference (module docstring)
     # a campaign record (zero noise, every injection recovered)
-    settings = {"network": "hlv-design", "noise": "zero", "seed": 1, "duration": DURATION, "sampling_rate": 2048.0,
-                "minimum_frequency": 20.0, "approximant": "IMRPhenomTHM", "method": "fast", "detection_snr": 0.0,
-                "free_amplitude_limits": [-5.0, 5.0], "recovery": {}}
-    record = run_injection({"index": 0, "source": source, "amplitude": 1.0, "settings": settings})
+    base = CampaignSettings()
+    settings = dataclasses.replace(base, network="hlv-design", noise="zero", seed=1, method="fast", detection_snr=0.0,
+                                   data=dataclasses.replace(base.data, duration=DURATION, sampling_rate=2048.0,
+                                                            minimum_frequency=20.0),
+                                   model=dataclasses.replace(base.model, reference_frequency=20.0))
+    record = run_injection({"index": 0, "source": source, "amplitude": 1.0, "settings": settings},
+                           build_network(settings))
     assert record["status"] == "ok", record["error"]
     assert abs(record["memory_snr"] / expected - 1) < 5e-3  # convergence reference (module docstring)
 
