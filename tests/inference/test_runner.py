@@ -42,7 +42,7 @@ def test_nested_sampling_resumes_from_its_checkpoint(tmp_path):
     command = [sys.executable, "-m", "memory_infer.cli", "evidence", config, "--outdir", str(outdir), "--quiet"]
     process = subprocess.Popen(command, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     resume_file = outdir / "runs" / "test-event_none_resume.pickle"
-    deadline = time.time() + 120
+    deadline = time.time() + 600  # generous for a loaded machine: the loop ends at the first checkpoint
     while not resume_file.exists() and time.time() < deadline and process.poll() is None:
         time.sleep(0.5)
     time.sleep(1.0)
