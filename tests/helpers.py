@@ -21,7 +21,7 @@ noise_curve = "{noise_curve}"
 noise = "{noise}"
 seed = {seed}
 duration = 4.0
-sampling_rate = 1024.0
+sampling_rate = {sampling_rate}
 start_time = 1000000000.0
 minimum_frequency = 20.0
 
@@ -50,7 +50,7 @@ approximant = "IMRPhenomTHM"
 live_points = {live_points}
 accepted_walks = 10
 seed = 3
-checkpoint_seconds = 10.0
+checkpoint_seconds = {checkpoint_seconds}
 progress = false
 
 [evidence]
@@ -66,11 +66,15 @@ def event_config(directory, name="event.toml", label="test-event", detectors='["
                  noise="zero", seed=1, distance=3000.0, amplitude=1.0,
                  priors='phase = { kind = "periodic", minimum = 0.0, maximum = 6.283185307179586 }',
                  likelihood="", live_points=40, methods='["nested", "reweighting", "fast"]',
-                 hypotheses='["memory", "none"]', evidence_extra=""):
+                 hypotheses='["memory", "none"]', evidence_extra="", sampling_rate=1024.0, checkpoint_seconds=600.0):
+    """A small simulated event's configuration. ``checkpoint_seconds``: tests are short and a checkpoint (a dill
+    pickle of the sampler) costs about a second, so by default a run writes none before it ends; tests of
+    checkpointing pass a short interval."""
     text = BASE_EVENT.format(label=label, detectors=detectors, noise_curve=noise_curve, noise=noise, seed=seed,
                              distance=distance, amplitude=amplitude, priors=priors, likelihood=likelihood,
                              live_points=live_points, methods=methods, hypotheses=hypotheses,
-                             evidence_extra=evidence_extra)
+                             evidence_extra=evidence_extra, sampling_rate=sampling_rate,
+                             checkpoint_seconds=checkpoint_seconds)
     path = os.path.join(str(directory), name)
     with open(path, "w") as handle:
         handle.write(text)
@@ -84,7 +88,7 @@ INJECTIONS = os.path.join(os.path.dirname(HERE), "injections")
 
 
 def campaign_config(tmp_path, name="campaign.toml", count=40, network="ce", noise="gaussian", amplitude="1.0",
-                    method="fast", injections="bbh_population.toml", detection_snr=8.0, extra=""):
+                    method="fast", injections="bbh_population.toml", detection_snr=8.0, extra="", sampling_rate=1024.0):
     text = f"""
 [campaign]
 label = "test-campaign"
@@ -99,7 +103,7 @@ detection_snr = {detection_snr}
 bootstrap = 200
 [data]
 duration = 4.0
-sampling_rate = 1024.0
+sampling_rate = {sampling_rate}
 minimum_frequency = 20.0
 {extra}
 """

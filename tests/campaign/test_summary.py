@@ -29,11 +29,16 @@ def test_pp_test_runs_only_where_it_can_fail():
 @pytest.mark.slow
 def test_reweighting_amplitude_posterior_passes_a_pp_test(tmp_path):
     # PP test (common practice, no source): with A drawn from its prior [-4, 4] and Gaussian noise, the
-    # reweighted posterior quantiles of the injected A are uniform; 12 Cosmic Explorer injections, phase free
+    # reweighted posterior quantiles of the injected A are uniform; 12 Cosmic Explorer injections, phase free.
+    # Kept cheap: data sampled at 512 Hz and 20 live points (injection and recovery share the model, so the
+    # quantiles stay uniform); a KS p-value below 0.001 fails, so a calibrated recovery fails 0.1% of the time.
+    # Power is low: these sources are quiet in memory (posteriors near the prior) and 12 quantiles fail only
+    # at a KS distance above about 0.55 (scipy's kstwo), e.g. every quantile at one end of the prior
     from memory_infer.cli import main
 
     config = campaign_config(tmp_path, count=12, network="ce", amplitude='"prior"', detection_snr=0.0,
-                             method="reweighting", extra='[recovery]\nfree_parameters = ["phase"]\nlive_points = 30')
+                             method="reweighting", extra='[recovery]\nfree_parameters = ["phase"]\nlive_points = 20',
+                             sampling_rate=512.0)
     text = open(config).read().replace("bootstrap = 200", "bootstrap = 200\nfree_amplitude_limits = [-4.0, 4.0]")
     open(config, "w").write(text)
     assert main(["campaign", config, "--outdir", str(tmp_path / "pp"), "--workers", "2", "--quiet"]) == 0

@@ -97,9 +97,10 @@ def test_end_to_end_catalog_from_evidence_runs(tmp_path):
 
     folders = []
     for index, (distance, amplitude) in enumerate([(1500.0, 1.0), (2500.0, 1.0), (2000.0, 0.0)]):
+        # small runs (20 live points, 512 Hz): this test checks the catalog's bookkeeping, not the evidences
         config = event_config(tmp_path, name=f"e{index}.toml", label=f"event-{index}", distance=distance,
-                              amplitude=amplitude, hypotheses='["none"]', live_points=40, noise="gaussian",
-                              seed=20 + index, evidence_extra="minimum_effective_samples = 20")
+                              amplitude=amplitude, hypotheses='["none"]', live_points=20, noise="gaussian",
+                              seed=20 + index, evidence_extra="minimum_effective_samples = 10", sampling_rate=512.0)
         outdir = tmp_path / f"event-{index}"
         assert main(["evidence", config, "--outdir", str(outdir), "--quiet"]) == 0
         folders.append(str(outdir))

@@ -297,9 +297,7 @@ def test_ctrl_c_in_the_sampler_is_one_line_and_keeps_a_checkpoint(tmp_path):
     import sys
     import time
 
-    config = event_config(tmp_path, live_points=300, hypotheses='["memory", "none"]')
-    text = open(config).read().replace("checkpoint_seconds = 10.0", "checkpoint_seconds = 2.0")
-    open(config, "w").write(text)
+    config = event_config(tmp_path, live_points=300, hypotheses='["memory", "none"]', checkpoint_seconds=2.0)
     environment = dict(os.environ, PYTHONPATH=os.pathsep.join([os.getcwd(), os.environ.get("PYTHONPATH", "")]))
     process = subprocess.Popen([sys.executable, "-m", "memory_infer.cli", "evidence", config, "--outdir",
                                 str(tmp_path / "out"), "--quiet"], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
