@@ -271,6 +271,9 @@ CACHES = {
     "common.performance.tune_allocator": "a bool (once per process)",
     "inference.methods.fast._legendre": "quadrature nodes and weights (arrays, read only)",
     "inputs.detectors.known_detectors": "detector names (a table of strings, read only)",
+    "waveform.flux.harmonic_set": "a harmonic set (read only)",
+    "waveform.flux.flux_tables": "stacking keys and coupling tables (arrays, read only)",
+    "waveform.models.lal_modes.approximant_number": "an int",
 }
 BILBY_BUILDERS = ("bilby", "waveform_generator", "network_detectors", "configured_detectors", "empty_detectors",
                   "InterferometerList", "MemoryWaveformGenerator", "MemoryTransient")

@@ -35,7 +35,8 @@ def test_kill_and_resume_gives_every_injection_once(tmp_path):
     assert finished.returncode == 0, finished.stderr
     resumed = stored(outdir)
     assert sorted(resumed) == list(range(300))
-    assert resumed == reference
+    # the workers run one BLAS thread each, this process may run several: the last bits may round differently
+    equal_to_rounding(resumed, reference)
     summary = json.loads((outdir / "campaign.json").read_text())
     assert summary["n_injections"] == 300
 
