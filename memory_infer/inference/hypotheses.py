@@ -10,6 +10,7 @@ import copy
 from dataclasses import dataclass
 
 from ..common.errors import MemoryInferError
+from ..inputs.settings import FREE_AMPLITUDE_LIMITS
 
 
 @dataclass(frozen=True)
@@ -57,7 +58,7 @@ def amplitude_label(amplitude: float) -> str:
     return found.name if found is not None else f"A={float(amplitude):g}"
 
 
-def hypothesis_priors(priors, chosen, free_limits=(-5.0, 5.0)):
+def hypothesis_priors(priors, chosen, free_limits=FREE_AMPLITUDE_LIMITS):
     """A copy of ``priors`` with bilby's ``memory_amplitude`` set for the hypothesis ``chosen`` (or its name)."""
     import bilby
 

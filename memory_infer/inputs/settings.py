@@ -8,10 +8,8 @@ from __future__ import annotations
 import dataclasses
 from dataclasses import dataclass, field
 
-from ..waveform.models import DEFAULT_APPROXIMANT
+from ..waveform.models import DEFAULT_APPROXIMANT, DEFAULT_MINIMUM_FREQUENCY, DEFAULT_REFERENCE_FREQUENCY
 
-DEFAULT_MINIMUM_FREQUENCY = 20.0  # Hz, the analysis band's lower edge
-DEFAULT_REFERENCE_FREQUENCY = 20.0  # Hz, when neither the configuration nor the samples file gives one
 FREE_AMPLITUDE_LIMITS = (-5.0, 5.0)  # the uniform prior of A when it is free
 AMPLITUDE_GRID = (-4.0, 4.0, 81)  # the A curve's grid: lowest, highest, points (-1, 0, 1 are always added)
 

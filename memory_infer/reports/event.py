@@ -6,6 +6,7 @@ import html
 import numpy as np
 
 from ..inference import methods as registered_methods  # noqa: F401 - importing it describes each method's family
+from ..inputs.settings import FREE_AMPLITUDE_LIMITS
 from ..results.estimates import normalized_density
 from ..results.event import EventResult
 from ..results.methods import description_of, family_of
@@ -56,7 +57,7 @@ def memory_spectrum_figure(spectrum: dict) -> str:
 
 def draw_amplitude(result: EventResult):
     """The posterior of the memory amplitude A: the free-A nested run and the reweighted curve."""
-    limits = result.figures.get("free_amplitude_limits") or result.settings.get("free_amplitude_limits", [-5, 5])
+    limits = result.figures.get("free_amplitude_limits") or result.settings.get("free_amplitude_limits", list(FREE_AMPLITUDE_LIMITS))
     fig, axis = new_figure(figsize=(7, 3.5))
     drawn = False
     shown = [0.0, 1.0]  # the x range: A = 0, A = 1 and where the posterior has mass

@@ -19,7 +19,7 @@ import numpy as np
 
 from ..common.errors import WaveformError
 from .memory import memory_at_direction
-from .models import DEFAULT_APPROXIMANT, ModeSeries, generate_modes
+from .models import DEFAULT_APPROXIMANT, DEFAULT_MINIMUM_FREQUENCY, DEFAULT_REFERENCE_FREQUENCY, ModeSeries, generate_modes
 from .models.fd_modes import is_frequency_domain
 from .sphere import HarmonicSet
 
@@ -216,8 +216,8 @@ def lalsimulation_spins(parameters: dict, reference_frequency: float):
 
 _INTRINSIC = ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "tilt_1", "tilt_2", "phi_12",
               "phi_jl", "theta_jn", "phase")
-_SETTINGS = {"waveform_approximant": DEFAULT_APPROXIMANT, "reference_frequency": 20.0,
-             "minimum_frequency": 20.0, "memory_taper_duration": DEFAULT_TAPER_DURATION,
+_SETTINGS = {"waveform_approximant": DEFAULT_APPROXIMANT, "reference_frequency": DEFAULT_REFERENCE_FREQUENCY,
+             "minimum_frequency": DEFAULT_MINIMUM_FREQUENCY, "memory_taper_duration": DEFAULT_TAPER_DURATION,
              "early_inspiral_memory": True, "mode_list": None, "include_memory": True}
 
 

@@ -19,6 +19,7 @@ import logging
 import numpy as np
 
 from ...common.errors import MemoryInferError, WaveformError
+from ...inputs.settings import AMPLITUDE_GRID, FREE_AMPLITUDE_LIMITS
 from ...results.estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, grid_index, prior_on_grid, sign_weight
 from ...results.estimates import ERROR_UNDEFINED_TEXT as ERROR_UNDEFINED
 from ...results.methods import MethodDescription
@@ -272,14 +273,14 @@ def reweight(likelihood, samples, base_amplitude: float = 0.0, grid=None, minimu
     """
     from ...inputs.config import grid_with_hypotheses
 
-    grid = grid_with_hypotheses(-4.0, 4.0, 81) if grid is None else np.asarray(grid, dtype=float)
+    grid = grid_with_hypotheses(*AMPLITUDE_GRID) if grid is None else np.asarray(grid, dtype=float)
     labels = sample_labels(samples)
     table = log_likelihood_grid(likelihood, samples, grid, progress=progress, labels=labels)
     return (estimates_from_table(table, grid, base_amplitude, minimum_effective_samples, labels),
             amplitude_curve(table, grid, base_amplitude, labels))
 
 
-def sign_from_curve(curve: AmplitudeCurve, free_limits=(-5.0, 5.0)) -> SignSummary:
+def sign_from_curve(curve: AmplitudeCurve, free_limits=FREE_AMPLITUDE_LIMITS) -> SignSummary:
     """ln BF+, ln BF-, the sign Bayes factor, ``weight_plus`` = BF+ / (BF+ + BF-), and the posterior mass of
     A > 0 for a uniform prior on ``free_limits`` (limited to the grid's span, and said so)."""
     plus, plus_err, _ = curve.at(1.0)

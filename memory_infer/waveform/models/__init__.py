@@ -15,6 +15,8 @@ from .refine import finer_levels
 SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", analytic.NAME)  # time-domain modes
 FREQUENCY_DOMAIN = fd_modes.FD_MODELS  # frequency-domain modes: through the source model only (frequency_source)
 DEFAULT_APPROXIMANT = "IMRPhenomTHM"
+DEFAULT_MINIMUM_FREQUENCY = 20.0  # Hz, the analysis band's lower edge
+DEFAULT_REFERENCE_FREQUENCY = 20.0  # Hz, when neither the configuration nor the samples file gives one
 
 
 def generate_modes(approximant: str, mass_1: float, mass_2: float, luminosity_distance: float,
