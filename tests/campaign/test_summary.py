@@ -12,13 +12,16 @@ from helpers import INJECTIONS, campaign_config, run_store, stored
 def test_pp_test_runs_only_where_it_can_fail():
     # the PP test needs A drawn from its prior, Gaussian noise, and a recovery that can fail; the fast estimate's
     # quantile is an exact Gaussian at the truth, so it is never used
+    from dataclasses import replace
+
     from memory_infer.campaign.summary import pp_test
+    from memory_infer.inputs.settings import CampaignSettings
 
     rng = np.random.default_rng(3)
     uniform = [{"amplitude_quantile_reweighting": float(q)} for q in rng.uniform(size=60)]
-    prior = {"injected_amplitude": "prior", "noise": "gaussian"}
-    assert pp_test(uniform, dict(prior, injected_amplitude=1.0))["method"].startswith("not run: A was fixed at 1.0")
-    assert pp_test(uniform, dict(prior, noise="zero"))["ks_pvalue"] is None
+    prior = CampaignSettings(injected_amplitude="prior", noise="gaussian")
+    assert pp_test(uniform, replace(prior, injected_amplitude=1.0))["method"].startswith("not run: A was fixed at 1.0")
+    assert pp_test(uniform, replace(prior, noise="zero"))["ks_pvalue"] is None
     assert pp_test([{"amplitude_quantile_fast": 0.5}] * 60, prior)["count"] == 0
     passed = pp_test(uniform, prior)
     assert passed["count"] == 60 and passed["ks_pvalue"] > 0.01
