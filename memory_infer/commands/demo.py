@@ -134,6 +134,7 @@ def run_events(outdir: str, live_points: int, events=None, started: float | None
     """Write and run every demo event's configuration, on ``workers`` local processes (events are independent:
     each has its own seeds, so the numbers do not depend on where it runs); returns the events' output folders."""
     from ..campaign.executors import ProcessExecutor
+    from .campaign import quiet_worker  # bilby's errors only in the workers: the demo prints its own progress
 
     events = EVENTS if events is None else events
     started = time.time() if started is None else started
@@ -154,7 +155,7 @@ def run_events(outdir: str, live_points: int, events=None, started: float | None
             run_event(job)
         return [event_dir for _, event_dir in jobs]
     print(f"demo [{time.time() - started:5.0f} s]: {len(jobs)} events on {workers} processes", flush=True)
-    executor = ProcessExecutor(workers)  # largest first (EVENTS order): the last event to start is a short one
+    executor = ProcessExecutor(workers, setup=quiet_worker)  # largest first (EVENTS order): the last event to start is a short one
     try:
         futures = {executor.submit(run_event, job): job for job in jobs}
         for future in executor.as_completed(list(futures)):

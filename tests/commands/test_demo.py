@@ -1,4 +1,6 @@
 import json
+import subprocess
+import sys
 
 import numpy as np
 import pytest
@@ -94,7 +96,16 @@ def test_a_small_demo_run_agrees_between_catalog_and_index(tmp_path):
     from memory_infer.results.event import EventResult
 
     chosen = [e for e in EVENTS if e[0] in ("plover-04", "tern-05")]
-    folders = run_events(str(tmp_path), live_points=15, events=chosen, workers=2)  # on two worker processes
+    # on two worker processes, started as the command starts them (in a process of their own: under pytest the
+    # workers' log output is not what a user sees)
+    program = ("import sys\nfrom memory_infer.commands.demo import EVENTS, run_events\n"
+               "if __name__ == '__main__':\n"
+               "    run_events(sys.argv[1], live_points=15, events=[e for e in EVENTS if e[0] in sys.argv[2:]], workers=2)\n")
+    shown = subprocess.run([sys.executable, "-c", program, str(tmp_path), "plover-04", "tern-05"], capture_output=True,
+                           text=True, timeout=900)
+    assert shown.returncode == 0, shown.stderr[-2000:]
+    assert "bilby INFO" not in shown.stdout + shown.stderr  # the workers keep bilby's chatter to errors
+    folders = [str(tmp_path / "events" / e[0]) for e in chosen]
     combine_events(str(tmp_path), folders)
     index_page(str(tmp_path), [e[0] for e in chosen])
     catalog = _catalog_agrees_with_index(tmp_path)
