@@ -19,6 +19,7 @@ def catalog_rate(events: int = 4, samples: int = 5000, workers: int = 2):
     """(events per hour, its standard error, detail, per-event wall times) on ``workers`` local processes."""
     from memory_infer.campaign.catalog_run import STORE, execute_events, fingerprint, plan_events
     from memory_infer.campaign.executors import ProcessExecutor
+    from memory_infer.commands.campaign import quiet_worker  # the command's worker log levels
     from memory_infer.campaign.store import RecordStore
     from memory_infer.commands.catalog_demo import DEMO_EVENTS, invented_event
     from memory_infer.inputs.catalog_config import load_catalog
@@ -40,7 +41,7 @@ def catalog_rate(events: int = 4, samples: int = 5000, workers: int = 2):
         tasks = plan_events(entries, os.path.join(folder, "out"))
         os.makedirs(os.path.join(folder, "out"), exist_ok=True)
         store = RecordStore(os.path.join(folder, "out", STORE), fingerprint(tasks))
-        executor = ProcessExecutor(workers)
+        executor = ProcessExecutor(workers, setup=quiet_worker)
         start = time.perf_counter()
         execute_events(tasks, store, executor, progress=False, window=2 * workers)
         elapsed = time.perf_counter() - start

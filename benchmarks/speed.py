@@ -346,6 +346,7 @@ def campaign_rate(count: int = 400, make_executor=None):
 
     from memory_infer.campaign.config import fingerprint, load_campaign_settings, plan
     from memory_infer.campaign.executors import ProcessExecutor, execute
+    from memory_infer.commands.campaign import quiet_worker  # the command's worker log levels
     from memory_infer.campaign.store import RecordStore
 
     here = os.path.dirname(os.path.abspath(__file__))
@@ -366,7 +367,7 @@ sampling_rate = 2048.0
         store = _TimedStore(RecordStore(os.path.join(folder, "records.sqlite"), fingerprint(tasks)))
         cpu_before = _cpu_seconds()
         start = time.perf_counter()
-        executor = make_executor(folder) if make_executor else ProcessExecutor(2)
+        executor = make_executor(folder) if make_executor else ProcessExecutor(2, setup=quiet_worker)
         execute(tasks, store, executor, progress=False, window=16)
         elapsed = time.perf_counter() - start
         executor.close()  # waits for the workers, so their CPU time is counted
@@ -395,13 +396,14 @@ def slurm_overhead(count: int = 400):
     if shutil.which("sinfo") is None or subprocess.run(["sinfo", "-h"], capture_output=True).returncode != 0:
         return None, "not measured: no Slurm here (python3 scripts/local_slurm.py up starts one)"
     from memory_infer.campaign.executors import DaskExecutor
+    from memory_infer.commands.campaign import quiet_worker
 
     from memory_infer.inputs.settings import ClusterSettings
 
     section = ClusterSettings(kind="slurm", jobs=2, cores=1, memory="2GB", walltime="00:30:00")
     local = campaign_rate(count)[1]
-    on_slurm = campaign_rate(count, lambda folder: DaskExecutor.from_settings(section, None,
-                                                                             os.path.join(folder, "logs")))[1]
+    on_slurm = campaign_rate(count, lambda folder: DaskExecutor.from_settings(
+        section, None, os.path.join(folder, "logs"), setup=quiet_worker))[1]
     return local / on_slurm, (f"{on_slurm:.1f} vs {local:.1f} injections/s, {count} injections, 2 workers, "
                               "job start-up included")
 
