@@ -164,6 +164,7 @@ def _full_recovery(task, detectors, generator, truth) -> dict:
     from ..inference.runner import run_methods
     from ..inference.setup import EventSetup
     from ..results.estimates import cumulative_distribution
+    from ..results.methods import campaign_columns
 
     settings = task["settings"]
     workdir = os.path.join(task["workdir"], f"injection-{task['index']}")
@@ -172,21 +173,22 @@ def _full_recovery(task, detectors, generator, truth) -> dict:
                        priors=_recovery_priors(truth, settings.recovery.free_parameters), grid=event.evidence.grid())
     result = run_methods(setup, workdir, ["nested", "reweighting"], f"injection-{task['index']}", progress=False).result
     found = {(m.family, m.numerator): m for m in result.methods}
-    plus, minus = found[("reweighting", "memory")], found[("reweighting", "flipped")]
-    out = dict(ln_bf_plus_reweighting=plus.ln_bf, ln_bf_plus_reweighting_err=plus.ln_bf_err,
-               ln_bf_minus_reweighting=minus.ln_bf, ln_bf_minus_reweighting_err=minus.ln_bf_err,
-               effective_sample_size=plus.effective_sample_size, reweighting_reliable=plus.reliable)
+    out = {}
+    for family, column in campaign_columns().items():  # every method that left both signs, by its own column
+        plus, minus = found.get((family, "memory")), found.get((family, "flipped"))
+        if plus is not None and minus is not None:
+            out.update({f"ln_bf_plus_{column}": plus.ln_bf, f"ln_bf_plus_{column}_err": plus.ln_bf_err,
+                        f"ln_bf_minus_{column}": minus.ln_bf, f"ln_bf_minus_{column}_err": minus.ln_bf_err})
+    plus = found[("reweighting", "memory")]
+    out.update(effective_sample_size=plus.effective_sample_size, reweighting_reliable=plus.reliable)
     curve = result.amplitude_curve
     grid = np.asarray(curve.amplitudes)
     density = np.exp(np.asarray(curve.ln_mean_ratio) - np.max(curve.ln_mean_ratio))
     out["amplitude_quantile_reweighting"] = float(np.interp(task["amplitude"], grid,
                                                             cumulative_distribution(grid, density)))
     if settings.method == "nested":
-        bf_plus, bf_minus = found[("nested", "memory")], found[("nested", "flipped")]
         samples = np.asarray(result.free_amplitude["samples"])
-        out.update(ln_bf_plus_nested=bf_plus.ln_bf, ln_bf_plus_nested_err=bf_plus.ln_bf_err,
-                   ln_bf_minus_nested=bf_minus.ln_bf, ln_bf_minus_nested_err=bf_minus.ln_bf_err,
-                   amplitude_quantile_nested=float(np.mean(samples < task["amplitude"])))
+        out.update(amplitude_quantile_nested=float(np.mean(samples < task["amplitude"])))
     shutil.rmtree(workdir, ignore_errors=True)
     return out
 
