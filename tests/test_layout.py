@@ -219,11 +219,17 @@ def configuration_reads(module: str, source: str) -> list:
     return found
 
 
-def test_no_code_below_inputs_reads_the_configuration_mapping():
+def problems_in(check, stages=None) -> list:
+    """``check(module, source)`` over every package module (or only those of ``stages``), findings joined."""
     found = []
     for module, path in modules():
-        if module.split(".")[0] in BELOW_INPUTS:
-            found += configuration_reads(module, open(path).read())
+        if stages is None or module.split(".")[0] in stages:
+            found += check(module, open(path).read())
+    return found
+
+
+def test_no_code_below_inputs_reads_the_configuration_mapping():
+    found = problems_in(configuration_reads, BELOW_INPUTS)
     assert not found, "\n".join(found)
 
 
@@ -290,9 +296,7 @@ def cache_problems(module: str, source: str) -> list:
 
 
 def test_no_module_level_cache_of_mutable_bilby_objects():
-    found = []
-    for module, path in modules():
-        found += cache_problems(module, open(path).read())
+    found = problems_in(cache_problems)
     assert not found, "\n".join(found)
 
 
@@ -331,10 +335,7 @@ def randomness_problems(module: str, source: str) -> list:
 
 
 def test_randomness_and_bilby_logging_are_set_only_at_the_command_layer():
-    found = []
-    for module, path in modules():
-        if module.split(".")[0] in BELOW_COMMANDS:
-            found += randomness_problems(module, open(path).read())
+    found = problems_in(randomness_problems, BELOW_COMMANDS)
     assert not found, "\n".join(found)
 
 
