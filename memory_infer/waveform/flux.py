@@ -12,6 +12,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from .compiled import complex_form_rates, contract_real, differences_into, mirror_holds, real_form_rates
 from .sphere import HarmonicSet, _direction_tables
 
 
@@ -22,11 +23,11 @@ def mirrored_rows(keys, modes) -> bool:
     plus = [k for k in keys if k[1] > 0]
     if not plus:
         return True
-    probes = np.linspace(0, len(modes[plus[0]]) - 1, 9).astype(int)
-    values = np.array([modes[k][probes] for k in plus])
-    mirror = np.array([modes[(l, -m)][probes] for l, m in plus])
-    signs = np.array([(-1.0) ** l for l, _ in plus])[:, None]
-    return bool(np.abs(values - signs * np.conj(mirror)).max() <= 1e-9 * np.abs(values).max())
+    probes = np.linspace(0, len(modes[plus[0]]) - 1, 9).astype(np.int64)
+    signs = np.array([(-1.0) ** l for l, _ in plus])
+    return bool(mirror_holds(tuple(np.ascontiguousarray(modes[k], dtype=complex) for k in plus),
+                             tuple(np.ascontiguousarray(modes[(l, -m)], dtype=complex) for l, m in plus),
+                             signs, probes, 1e-9))
 
 
 @lru_cache(maxsize=8)
@@ -70,16 +71,12 @@ def flux_tables(keys: tuple, mirrored: bool):
 
 
 def contract(tables: np.ndarray, harmonics: np.ndarray) -> np.ndarray:
-    """``[Re Q; Im Q]`` of ``Q = sum_k Y_k Q_k`` from ``tables[k] = [Re Q_k; Im Q_k]`` (einsum: the numbers do
-    not depend on BLAS threads)."""
+    """``[Re Q; Im Q]`` of ``Q = sum_k Y_k Q_k`` from ``tables[k] = [Re Q_k; Im Q_k]`` (einsum or a compiled loop:
+    the numbers do not depend on BLAS threads)."""
     if np.iscomplexobj(tables):  # the complex form (no mirror symmetry)
         return np.einsum("k,kij->ij", harmonics, tables)
-    n = tables.shape[2]
-    real = np.einsum("k,kij->ij", harmonics.real, tables)
-    imaginary = np.einsum("k,kij->ij", harmonics.imag, tables)
-    out = np.empty_like(real)
-    out[:n] = real[:n] - imaginary[n:]
-    out[n:] = real[n:] + imaginary[:n]
+    out = np.empty(tables.shape[1:])
+    contract_real(np.ascontiguousarray(harmonics, dtype=complex), tables, out)
     return out
 
 
@@ -100,21 +97,10 @@ def differences(values: np.ndarray) -> np.ndarray:
     """``12 step`` times :func:`time_derivative` (the factor is folded into the coupling tables)."""
     if values.shape[-1] < 5:
         return np.gradient(values, axis=-1) * 12
+    values = np.ascontiguousarray(values)
     out = np.empty_like(values)
-    v = values
-    middle = out[..., 2:-2]
-    np.subtract(v[..., :-4], v[..., 4:], out=middle)
-    eight = v[..., 3:-1] - v[..., 1:-3]
-    eight *= 8
-    middle += eight
-    ends = END_STENCILS
-    out[..., :2] = v[..., :5] @ ends[0]
-    out[..., -2:] = v[..., -5:] @ ends[1]
+    differences_into(values.reshape(-1, values.shape[-1]), out.reshape(-1, values.shape[-1]))
     return out
-
-
-END_STENCILS = (np.array([[-25, 48, -36, 16, -3], [-3, -10, 18, -6, 1]], dtype=float).T,
-                 np.array([[-1, 6, -18, 10, 3], [3, -16, 36, -48, 25]], dtype=float).T)  # one-sided, 4th order
 
 
 def rates(weights, differences) -> np.ndarray:
@@ -123,17 +109,9 @@ def rates(weights, differences) -> np.ndarray:
     One small matrix product: BLAS splits it over samples, never over the sum, so the numbers do not
     depend on the thread count; the sum over the rows runs row by row.
     """
-    if np.iscomplexobj(differences):  # the complex form: sum_i dh_i (W conj(dh))_i
-        product = weights @ np.conj(differences)
-        product *= differences
-        return product.sum(axis=0)
-    count = differences.shape[0]
-    product = weights @ differences
-    real = product[:count]
-    real *= differences
-    imaginary = product[count:]
-    imaginary *= differences
     out = np.empty(differences.shape[1], dtype=complex)
-    out.real = real.sum(axis=0)
-    out.imag = imaginary.sum(axis=0)
+    if np.iscomplexobj(differences):  # the complex form: sum_i dh_i (W conj(dh))_i
+        complex_form_rates(differences, weights @ np.conj(differences), out)
+    else:
+        real_form_rates(differences, weights @ differences, out)
     return out

@@ -31,6 +31,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from .compiled import first_fast_ordinal, linear_fill, real_form_cumulative, running_trapezoid, strided_differences, window_differences
 from .flux import contract, differences, flux_tables, harmonic_set, mirrored_rows, rates, stack_rows
 from .sphere import coupling_table, spin_weighted_harmonic
 
@@ -64,6 +65,10 @@ def time_derivative(values: np.ndarray, step: float) -> np.ndarray:
 
 def cumulative_integral(rate: np.ndarray, step: float) -> np.ndarray:
     """Cumulative trapezoid along the last axis, starting at zero."""
+    if rate.ndim == 1 and rate.dtype == complex and rate.size:
+        out = np.empty_like(rate)
+        running_trapezoid(rate, 0.5 * step, 0j, out, 0)
+        return out
     out = np.zeros_like(rate)
     np.cumsum((rate[..., 1:] + rate[..., :-1]) * (0.5 * step), axis=-1, out=out[..., 1:])
     return out
@@ -131,17 +136,12 @@ INSPIRAL_STRIDE = 16  # early-inspiral flux on every 16th sample: it changes ove
 INSPIRAL_FREQUENCY = 0.004  # M f_22 below which the inspiral counts as early (45 Hz at 18 M_sun)
 
 
-def _slow_inspiral_end(real, imaginary, step) -> int:
+def _slow_inspiral_end(h22, step) -> int:
     """Last sample, a multiple of ``INSPIRAL_STRIDE``, before which the (2, 2) frequency is below
-    ``INSPIRAL_FREQUENCY`` / M (from the (2, 2) mode's real and imaginary parts)."""
-    if real.size < 4 * INSPIRAL_STRIDE:
+    ``INSPIRAL_FREQUENCY`` / M (from the (2, 2) mode's complex samples)."""
+    if h22.size < 4 * INSPIRAL_STRIDE:
         return 0
-    probes = np.arange(0, real.size - 1, INSPIRAL_STRIDE)
-    here = real[probes] + 1j * imaginary[probes]
-    after = real[probes + 1] + 1j * imaginary[probes + 1]
-    frequency = np.abs(np.angle(after * np.conj(here))) / (2 * np.pi * step)
-    fast = np.nonzero(frequency >= INSPIRAL_FREQUENCY)[0]
-    last = (int(fast[0]) if fast.size else probes.size) - 2
+    last = first_fast_ordinal(h22, INSPIRAL_STRIDE, h22.size, 2 * np.pi * step, INSPIRAL_FREQUENCY) - 2
     return max(0, last) * INSPIRAL_STRIDE
 
 
@@ -170,41 +170,77 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     weights = contract(tables, values)
     times = np.asarray(times, float)
     step = _uniform_step(times)
-    early = 0  # the slow early inspiral ends here (a multiple of INSPIRAL_STRIDE), on the part the coarse level uses
-    if smooth_inspiral and mirrored and (2, 2) in own:
-        end = min(times.size, int(np.searchsorted(times, finer[0].use_from)) + 3) if finer else times.size
-        h22 = np.asarray(modes[(2, 2)])[:end]
-        early = _slow_inspiral_end(h22.real, h22.imag, step)
-    first = max(early - 2, 0)  # the dense part overlaps the slow one by two samples for its derivative stencil
-    stacked = stack_rows(modes, own, mirrored, slice(first, None))  # the slow part is read off strided below
+    if mirrored:
+        slow_weights = contract(same_m_tables, values) if smooth_inspiral else None
+        memory = _real_form_memory(modes, times, step, own, weights, slow_weights, finer)
+    else:
+        def cumulative(level_times, level_stack, coarse=False):
+            level_step = (level_times[-1] - level_times[0]) / (level_times.size - 1)  # uniform: checked above
+            # differences are 12 step dh/dt (the 1/144 is in the tables), hence the trapezoid's 1 / step
+            return cumulative_integral(rates(weights, differences(level_stack)), 1.0 / level_step)
 
-    def cumulative(level_times, level_stack, coarse=False):
-        step = (level_times[-1] - level_times[0]) / (level_times.size - 1)  # uniform: checked once, above
-        scale = 1.0 / step  # differences are 12 step dh/dt (the 1/144 is in the tables); trapezoid step
-        if not coarse or early == 0:
-            return cumulative_integral(rates(weights, differences(level_stack)), scale)
-        stride = INSPIRAL_STRIDE
-
-        def at(offset):  # the stacked modes at samples stride + offset, 2 stride + offset, ... up to early + offset
-            return stack_rows(modes, own, True, slice(stride + offset, early + 1 + offset, stride))
-
-        columns = at(-2) - at(2) + 8 * (at(1) - at(-1))
-        start = differences(stack_rows(modes, own, True, slice(0, 5)))[:, :1]
-        slow = rates(contract(same_m_tables, values), np.concatenate([start, columns], axis=1))
-        slow = cumulative_integral(slow, stride * scale)
-        out = np.empty(level_times.size, dtype=complex)
-        fractions = np.arange(stride) / stride  # linear between the slow samples
-        out[:early] = (slow[:-1, None] + (slow[1:] - slow[:-1])[:, None] * fractions).ravel()
-        rest = rates(weights, differences(level_stack)[:, 2:])
-        out[early:] = slow[-1] + cumulative_integral(rest, scale)
-        return out
-
-    memory = _levels_memory(times, stacked, own, finer, cumulative, first)
+        memory = _levels_memory(times, stack_rows(modes, own, False), own, finer, cumulative)
     if early_inspiral:
         offsets = early_inspiral_offset(modes, times, symmetric_mass_ratio)
         towards = harmonic_set(tuple(offsets))(theta, phi)  # -2Y_l0 of the offsets' modes
         memory = memory + mode_scale * sum(value * y for value, y in zip(offsets.values(), towards))
     return memory
+
+
+def _real_form_memory(modes, times, step, own, weights, slow_weights, finer):
+    """The cumulative memory at ``times`` for modes with ``h_{l,-m} = (-1)^l conj(h_lm)``: the real quadratic form
+    of :mod:`memory_infer.waveform.flux` on the m >= 0 modes ``own``, read off their arrays by compiled loops
+    (:mod:`memory_infer.waveform.compiled`). ``slow_weights`` (the m_i = m_j pairs) switches on the strided early
+    inspiral of :func:`memory_at_direction`; the ``finer`` levels take over as in :func:`_levels_memory`."""
+    rows = tuple(np.ascontiguousarray(modes[k], dtype=complex) for k in own)
+    n = times.size
+    end = min(n, int(np.searchsorted(times, finer[0].use_from)) + 3) if finer else n
+    early = 0  # the slow early inspiral ends here (a multiple of INSPIRAL_STRIDE)
+    if slow_weights is not None and (2, 2) in own:
+        h22 = rows[own.index((2, 2))][:end]
+        early = _slow_inspiral_end(h22, step)
+    coarse = np.empty(n, dtype=complex)
+    reached = 0j
+    if early:  # the m_i = m_j pairs on every INSPIRAL_STRIDE-th sample, linear in between
+        stride = INSPIRAL_STRIDE
+        d = np.empty((2 * len(rows), 1 + early // stride))
+        strided_differences(rows, stride, early, d)
+        slow = np.empty(d.shape[1], dtype=complex)
+        real_form_cumulative(d, slow_weights @ d, 0.5 * stride / step, 0j, slow, 0)
+        linear_fill(slow, stride, coarse)
+        reached = slow[-1]
+    first = max(early - 2, 0)  # the dense part overlaps the slow one by two samples for its derivative stencil
+    _real_level(rows, first, end, weights, step, reached, coarse, early, skip=early - first)
+    coarse[end:] = coarse[end - 1]  # until the first finer level takes over
+    levels = []
+    for k, level in enumerate(finer):
+        if any(key not in level.modes for key in own):
+            raise ValueError("every sampling must hold the same modes")
+        level_times = np.asarray(level.times, float)
+        start = max(int(np.searchsorted(level_times, level.use_from)) - 4, 0)
+        stop = level_times.size
+        if k + 1 < len(finer):  # the next level takes over there
+            stop = min(stop, int(np.searchsorted(level_times, finer[k + 1].use_from)) + 3)
+        if stop - start < 5:
+            stop = min(level_times.size, start + 5)
+        level_rows = tuple(np.ascontiguousarray(level.modes[key], dtype=complex) for key in own)
+        memory = np.empty(stop - start, dtype=complex)
+        level_step = (level_times[stop - 1] - level_times[start]) / (stop - start - 1)
+        _real_level(level_rows, start, stop, weights, level_step, 0j, memory, 0)
+        levels.append((level.use_from, level_times[start:stop], memory))
+    return _joined(times, coarse, levels)
+
+
+def _real_level(rows, lo, hi, weights, step, first, out, at, skip=0):
+    """Cumulative memory of the samples ``lo + skip .. hi - 1`` of one level into ``out[at:]``, from ``first``
+    (derivatives over the window ``lo .. hi - 1``, one-sided at its ends)."""
+    if hi - lo < 5:  # too short for the stencil: numpy's gradient, as :func:`differences`
+        d = differences(stack_rows(dict(enumerate(rows)), tuple(range(len(rows))), True, slice(lo, hi)))
+    else:
+        d = np.empty((2 * len(rows), hi - lo))
+        window_differences(rows, lo, hi, d)
+    d = d[:, skip:]
+    real_form_cumulative(d, weights @ d, 0.5 / step, first, out, at)
 
 
 def _levels_memory(times, stacked, keys, finer, cumulative, first: int = 0):
@@ -246,6 +282,8 @@ def _windows(keys, finer, real=False):
 def _interpolate(new_times, times, values):
     """Linear interpolation along the last axis of complex values (the cumulative memory is smooth)."""
     values = np.asarray(values)
+    if values.ndim == 1:
+        return np.interp(new_times, times, values.real) + 1j * np.interp(new_times, times, values.imag)
     flat = values.reshape(-1, values.shape[-1])
     out = np.empty((flat.shape[0], np.size(new_times)), dtype=complex)
     for k, row in enumerate(flat):
@@ -265,8 +303,8 @@ def _joined(times, coarse, levels):
         join = np.array([use_from])
         shifted = level_memory + (_interpolate(join, previous_times, previous)
                                   - _interpolate(join, level_times, level_memory))
-        after = times >= use_from
-        result[..., after] = _interpolate(times[after], level_times, shifted)
+        after = int(np.searchsorted(times, use_from))  # times are increasing: from here on times >= use_from
+        result[..., after:] = _interpolate(times[after:], level_times, shifted)
         previous_times, previous = level_times, shifted
     return result
 

@@ -31,6 +31,7 @@ from functools import lru_cache
 import numpy as np
 
 from ...common.errors import WaveformError
+from ..compiled import continued_phases, first_fast_probe, first_loud_fast_step, lagrange_modes, loud_end
 from .series import ModeSeries
 
 logger = logging.getLogger("memory_infer")
@@ -64,23 +65,14 @@ def dominant_phase_step(series: ModeSeries) -> np.ndarray:
     return np.where(amplitude > QUIET_AMPLITUDE * amplitude.max(), step, 0.0)
 
 
-def _steps_above(h: np.ndarray, limit: float) -> np.ndarray:
-    """Whether each phase step ``|arg(h[k+1] conj(h[k]))|`` of ``h`` exceeds ``limit`` (< pi), without arctangents:
-    ``|arg z| > limit`` exactly when ``Re z < cos(limit) |z|``."""
-    z = h[1:] * np.conj(h[:-1])
-    return z.real < np.cos(limit) * np.abs(z)
-
-
 def _late_part(series: ModeSeries) -> int:
     """First sample of the late part of an aligned-spin series: from there on the (2, 2) mode's phase step
     exceeds half ``PHASE_STEP_LIMIT`` (probed on every 16th sample; the inspiral's frequency only rises)."""
     if not series.aligned_spins or (2, 2) not in series.modes:
         return 0
     h = series.modes[(2, 2)]
-    probes = np.arange(0, h.size - 1, 16)
-    z = h[probes + 1] * np.conj(h[probes])
-    fast = np.nonzero(z.real < np.cos(PHASE_STEP_LIMIT / 2) * np.abs(z))[0]
-    return max(int(probes[fast[0]]) - 32, 0) if fast.size else max(h.size - 64, 0)
+    fast = first_fast_probe(h, 16, np.cos(PHASE_STEP_LIMIT / 2))
+    return max(fast - 32, 0) if fast >= 0 else max(h.size - 64, 0)
 
 
 def first_unresolved(series: ModeSeries):
@@ -88,14 +80,12 @@ def first_unresolved(series: ModeSeries):
     start = _late_part(series)
     if series.aligned_spins and (2, 2) in series.modes:  # (2, -2) mirrors (2, 2): the same steps
         h = series.modes[(2, 2)][start:]
-        amplitude = np.abs(h)
-        loud = np.minimum(amplitude[1:], amplitude[:-1])
-        bad = np.nonzero(_steps_above(h, PHASE_STEP_LIMIT) & (loud > QUIET_AMPLITUDE * loud.max()))[0]
-        if bad.size == 0:
+        bad, loudest = first_loud_fast_step(h, np.cos(PHASE_STEP_LIMIT), QUIET_AMPLITUDE)
+        if bad < 0:
             return None
-        index = max(int(bad[0]) - 1, 0)
+        index = max(int(bad) - 1, 0)
         step = abs(np.angle(h[index + 1] * np.conj(h[index])))
-        if not loud[index] > QUIET_AMPLITUDE * loud.max():
+        if not min(abs(h[index]), abs(h[index + 1])) > QUIET_AMPLITUDE * loudest:
             step = 0.0
         return float(series.times[start + index]), float(step / (2 * np.pi * series.delta_t))
     late = series if start == 0 else dataclasses.replace(series, times=series.times[start:],
@@ -107,22 +97,6 @@ def first_unresolved(series: ModeSeries):
     index = max(int(bad[0]) - 1, 0)
     frequency = step[index] / (2 * np.pi * series.delta_t)
     return float(late.times[index]), float(frequency)
-
-
-def _continued_phases(modes: np.ndarray, orders: np.ndarray) -> np.ndarray:
-    """Unwrapped phases of modes (rows) sampled coarsely through the merger.
-
-    The (2, 2) mode's phase step may exceed pi per sample in the ringdown; it is continued by assuming
-    its step changes by less than pi from one sample to the next. Every other mode's step is the one
-    closest to ``m / 2`` times the (2, 2) mode's (row ``orders`` gives m; row 0 is the (2, 2) mode).
-    """
-    wrapped = np.angle(modes[:, 1:] * np.conj(modes[:, :-1]))
-    change = np.diff(wrapped[0])
-    change -= (2 * np.pi) * np.round(change / (2 * np.pi))  # into [-pi, pi]
-    dominant = wrapped[0, 0] + np.concatenate([[0.0], np.cumsum(change)])
-    guide = orders[:, None] / 2 * dominant[None, :]
-    steps = wrapped + 2 * np.pi * np.round((guide - wrapped) / (2 * np.pi))
-    return np.angle(modes[:, :1]) + np.concatenate([np.zeros((modes.shape[0], 1)), np.cumsum(steps, axis=1)], axis=1)
 
 
 @lru_cache(maxsize=16)
@@ -145,24 +119,16 @@ def interpolated_level(series: ModeSeries, join_time: float, factor: int) -> Mod
     mode's amplitude and continued phase (sixth-order Lagrange through the data's samples; no new model
     call), from a few samples before ``join_time`` until every mode is below ``QUIET_AMPLITUDE`` of the
     (2, 2) peak."""
-    from numpy.lib.stride_tricks import sliding_window_view
-
     times, delta_t = series.times, series.delta_t
     keys = [(2, 2)] + sorted(k for k in series.modes if k[1] >= 0 and k != (2, 2))
     first = max(min(int(np.searchsorted(times, join_time)) - 8, times.size - 16), 0)  # at least 16 samples
     stacked = np.array([series.modes[k][first:] for k in keys])
-    amplitude = np.abs(stacked)
-    loud = np.nonzero(amplitude.max(axis=0) > QUIET_AMPLITUDE * amplitude[0].max())[0]
-    end = min(stacked.shape[1], int(loud[-1]) + 8 if loud.size else stacked.shape[1])
-    stacked, amplitude = stacked[:, :end], amplitude[:, :end]
-    phase = _continued_phases(stacked, np.array([m for _, m in keys]))
-    windows = sliding_window_view(np.concatenate([amplitude, phase]), 6, axis=1)  # (2K, n - 5, 6)
-    values = (windows @ _lagrange_weights(factor).T).reshape(2 * len(keys), -1)
-    count = len(keys)
-    amplitudes, phases = values[:count], values[count:]
-    values = np.empty(amplitudes.shape, dtype=complex)
-    np.multiply(amplitudes, np.cos(phases), out=values.real)
-    np.multiply(amplitudes, np.sin(phases), out=values.imag)
+    loud = loud_end(stacked, QUIET_AMPLITUDE)  # one past the last loud sample
+    end = min(stacked.shape[1], loud - 1 + 8 if loud else stacked.shape[1])
+    stacked = stacked[:, :end]
+    # each mode's amplitude and continued phase, interpolated (sixth-order Lagrange), back to complex values
+    phase = continued_phases(stacked, np.array([float(m) for _, m in keys]))
+    values = lagrange_modes(np.abs(stacked), phase, _lagrange_weights(factor))
     fine_times = times[first + 2] + np.arange(values.shape[1]) * (delta_t / factor)
     modes = {}
     for k, (l, m) in enumerate(keys):

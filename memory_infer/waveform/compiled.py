@@ -1,0 +1,274 @@
+"""Compiled loops of the memory's per-sample path (numba; compiled on first use, then cached on disk).
+
+Each loop does the arithmetic of the numpy expression it replaces in the same order (the stencil's
+``(v[t-2] - v[t+2]) + 8 (v[t+1] - v[t-1])``, the sum over rows row by row, the trapezoid's running sum), so
+the numbers agree with those expressions to rounding; what it saves is numpy's temporaries and per-call
+overhead on arrays of a few thousand samples, which dominated the memory's cost for heavy binaries.
+"""
+from __future__ import annotations
+
+import numba
+import numpy as np
+
+# compiled code is cached next to this file, or where NUMBA_CACHE_DIR points when the package is read-only
+_compile = numba.njit(cache=True, nogil=True, error_model="numpy")
+
+
+@_compile
+def differences_into(values, out):
+    """``12 step`` x the fourth-order derivative of each row (one-sided stencils at the two ends); n >= 5."""
+    rows, n = values.shape
+    for r in range(rows):
+        v = values[r]
+        o = out[r]
+        for t in range(2, n - 2):
+            o[t] = (v[t - 2] - v[t + 2]) + 8.0 * (v[t + 1] - v[t - 1])
+        o[0] = -25.0 * v[0] + 48.0 * v[1] - 36.0 * v[2] + 16.0 * v[3] - 3.0 * v[4]
+        o[1] = -3.0 * v[0] - 10.0 * v[1] + 18.0 * v[2] - 6.0 * v[3] + v[4]
+        o[n - 2] = -v[n - 5] + 6.0 * v[n - 4] - 18.0 * v[n - 3] + 10.0 * v[n - 2] + 3.0 * v[n - 1]
+        o[n - 1] = 3.0 * v[n - 5] - 16.0 * v[n - 4] + 36.0 * v[n - 3] - 48.0 * v[n - 2] + 25.0 * v[n - 1]
+
+
+@_compile
+def real_form_rates(d, product, out):
+    """``out[t] = sum_a d[a, t] product[a, t] + i sum_a d[a, t] product[R + a, t]`` (R rows of ``d``; the
+    product is ``[Re Q; Im Q] @ d``), summed row by row."""
+    rows, n = d.shape
+    for t in range(n):
+        re = d[0, t] * product[0, t]
+        im = d[0, t] * product[rows, t]
+        for a in range(1, rows):
+            re += d[a, t] * product[a, t]
+            im += d[a, t] * product[rows + a, t]
+        out[t] = complex(re, im)
+
+
+@_compile
+def complex_form_rates(d, product, out):
+    """``out[t] = sum_i d[i, t] product[i, t]`` with ``product = W @ conj(d)``, summed row by row."""
+    rows, n = d.shape
+    for t in range(n):
+        total = d[0, t] * product[0, t]
+        for a in range(1, rows):
+            total += d[a, t] * product[a, t]
+        out[t] = total
+
+
+@_compile
+def running_trapezoid(rate, half_step, first, out, start):
+    """``out[start] = first``, then ``out[start + t] = out[start + t - 1] + (rate[t] + rate[t - 1]) half_step``."""
+    total = first
+    out[start] = total
+    for t in range(1, rate.size):
+        total += (rate[t] + rate[t - 1]) * half_step
+        out[start + t] = total
+
+
+@_compile
+def first_fast_probe(h, stride, cos_limit):
+    """First probe ``k`` (a multiple of ``stride``, ``k + 1 < h.size``) whose phase step ``arg(h[k+1] conj h[k])``
+    exceeds the limit (``Re z < cos(limit) |z|``); -1 if none."""
+    for k in range(0, h.size - 1, stride):
+        z = h[k + 1] * np.conj(h[k])
+        if z.real < cos_limit * abs(z):
+            return k
+    return -1
+
+
+@_compile
+def first_loud_fast_step(h, cos_limit, quiet_fraction):
+    """(first ``k`` where the phase step from ``h[k]`` to ``h[k+1]`` exceeds the limit while
+    ``min(|h[k]|, |h[k+1]|)`` is above ``quiet_fraction`` of its largest value, or -1; that largest value)."""
+    n = h.size
+    loudest = 0.0
+    previous = abs(h[0])
+    for k in range(1, n):
+        here = abs(h[k])
+        low = min(here, previous)
+        if low > loudest:
+            loudest = low
+        previous = here
+    threshold = quiet_fraction * loudest
+    for k in range(n - 1):
+        z = h[k + 1] * np.conj(h[k])
+        if z.real < cos_limit * abs(z) and min(abs(h[k]), abs(h[k + 1])) > threshold:
+            return k, loudest
+    return -1, loudest
+
+
+@_compile
+def loud_end(stacked, quiet_fraction):
+    """One past the last sample where any row's modulus exceeds ``quiet_fraction`` of row 0's peak; 0 if none."""
+    rows, n = stacked.shape
+    peak = 0.0
+    for t in range(n):
+        peak = max(peak, abs(stacked[0, t]))
+    threshold = quiet_fraction * peak
+    for t in range(n - 1, -1, -1):
+        for r in range(rows):
+            if abs(stacked[r, t]) > threshold:
+                return t + 1
+    return 0
+
+
+@_compile
+def continued_phases(modes, orders):
+    """Unwrapped phases of the rows of ``modes`` through a coarsely sampled merger: row 0's (the (2, 2) mode's)
+    step may change by less than pi per sample; every other row's step is the one closest to
+    ``orders[row] / 2`` times row 0's (numbers as the numpy steps they replace)."""
+    rows, n = modes.shape
+    wrapped = np.empty((rows, n - 1))
+    for r in range(rows):
+        for t in range(n - 1):
+            z = modes[r, t + 1] * np.conj(modes[r, t])
+            wrapped[r, t] = np.arctan2(z.imag, z.real)
+    dominant = np.empty(n - 1)
+    dominant[0] = wrapped[0, 0]
+    total = 0.0
+    two_pi = 2 * np.pi
+    for t in range(1, n - 1):
+        change = wrapped[0, t] - wrapped[0, t - 1]
+        change -= two_pi * np.round(change / two_pi)
+        total += change
+        dominant[t] = wrapped[0, 0] + total
+    phases = np.empty((rows, n))
+    for r in range(rows):
+        start = np.arctan2(modes[r, 0].imag, modes[r, 0].real)
+        phases[r, 0] = start
+        total = 0.0
+        half_order = orders[r] / 2
+        for t in range(n - 1):
+            guide = half_order * dominant[t]
+            total += wrapped[r, t] + two_pi * np.round((guide - wrapped[r, t]) / two_pi)
+            phases[r, t + 1] = start + total
+    return phases
+
+
+@_compile
+def lagrange_modes(amplitudes, phases, weights):
+    """Rows ``amplitude e^{i phase}`` at ``factor`` points per interval: each interval's sixth-order Lagrange
+    polynomial through samples ``w .. w + 5`` evaluated between samples ``w + 2`` and ``w + 3`` (``weights`` is
+    ``(factor, 6)``)."""
+    rows, n = amplitudes.shape
+    factor, points = weights.shape
+    out = np.empty((rows, (n - points + 1) * factor), dtype=np.complex128)
+    for r in range(rows):
+        for w in range(n - points + 1):
+            for j in range(factor):
+                a = 0.0
+                p = 0.0
+                for q in range(points):
+                    a += amplitudes[r, w + q] * weights[j, q]
+                    p += phases[r, w + q] * weights[j, q]
+                out[r, w * factor + j] = complex(a * np.cos(p), a * np.sin(p))
+    return out
+
+
+@_compile
+def window_differences(modes, lo, hi, out):
+    """:func:`differences_into` of the real rows ``[Re h; Im h]`` of the modes (a tuple of complex arrays) over
+    the samples ``lo .. hi - 1`` (one-sided stencils at the window's ends; ``hi - lo >= 5``): ``out`` is
+    ``(2 K, hi - lo)``."""
+    count = len(modes)
+    n = hi - lo
+    for i in range(count):
+        v = modes[i][lo:hi]
+        for t in range(2, n - 2):
+            c = (v[t - 2] - v[t + 2]) + 8.0 * (v[t + 1] - v[t - 1])
+            out[i, t] = c.real
+            out[count + i, t] = c.imag
+        for t, c in ((0, -25.0 * v[0] + 48.0 * v[1] - 36.0 * v[2] + 16.0 * v[3] - 3.0 * v[4]),
+                     (1, -3.0 * v[0] - 10.0 * v[1] + 18.0 * v[2] - 6.0 * v[3] + v[4]),
+                     (n - 2, -v[n - 5] + 6.0 * v[n - 4] - 18.0 * v[n - 3] + 10.0 * v[n - 2] + 3.0 * v[n - 1]),
+                     (n - 1, 3.0 * v[n - 5] - 16.0 * v[n - 4] + 36.0 * v[n - 3] - 48.0 * v[n - 2] + 25.0 * v[n - 1])):
+            out[i, t] = c.real
+            out[count + i, t] = c.imag
+
+
+@_compile
+def strided_differences(modes, stride, last, out):
+    """The real rows' differences at sample 0 (one-sided) and at ``stride, 2 stride, ...`` up to ``last``
+    (central), columns of ``out`` ``(2 K, 1 + last // stride)``."""
+    count = len(modes)
+    for i in range(count):
+        v = modes[i]
+        c = -25.0 * v[0] + 48.0 * v[1] - 36.0 * v[2] + 16.0 * v[3] - 3.0 * v[4]
+        out[i, 0] = c.real
+        out[count + i, 0] = c.imag
+        column = 1
+        for s in range(stride, last + 1, stride):
+            c = (v[s - 2] - v[s + 2]) + 8.0 * (v[s + 1] - v[s - 1])
+            out[i, column] = c.real
+            out[count + i, column] = c.imag
+            column += 1
+
+
+@_compile
+def real_form_cumulative(d, product, half_step, first, out, start):
+    """:func:`real_form_rates` then :func:`running_trapezoid` from ``first`` into ``out[start:]``."""
+    rows, n = d.shape
+    total = first
+    previous = 0j
+    for t in range(n):
+        re = d[0, t] * product[0, t]
+        im = d[0, t] * product[rows, t]
+        for a in range(1, rows):
+            re += d[a, t] * product[a, t]
+            im += d[a, t] * product[rows + a, t]
+        rate = complex(re, im)
+        if t:
+            total += (rate + previous) * half_step
+        out[start + t] = total
+        previous = rate
+
+
+@_compile
+def linear_fill(values, stride, out):
+    """``out[k stride + j] = values[k] + (values[k + 1] - values[k]) j / stride`` for j < stride."""
+    for k in range(values.size - 1):
+        change = values[k + 1] - values[k]
+        for j in range(stride):
+            out[k * stride + j] = values[k] + change * (j / stride)
+
+
+@_compile
+def mirror_holds(plus, mirror, signs, probes, tolerance):
+    """Whether ``plus[i][p] = signs[i] conj(mirror[i][p])`` at the ``probes`` for every i, to ``tolerance`` x the
+    largest ``|plus[i][p]|``."""
+    largest = 0.0
+    worst = 0.0
+    for i in range(len(plus)):
+        for p in probes:
+            value = plus[i][p]
+            largest = max(largest, abs(value))
+            worst = max(worst, abs(value - signs[i] * np.conj(mirror[i][p])))
+    return worst <= tolerance * largest
+
+
+@_compile
+def contract_real(harmonics, tables, out):
+    """``[Re Q; Im Q]`` of ``Q = sum_k harmonics[k] Q_k`` from ``tables[k] = [Re Q_k; Im Q_k]`` (``(2n, n)``)."""
+    count, rows, n = tables.shape
+    for i in range(n):
+        for j in range(n):
+            real = 0.0
+            imaginary = 0.0
+            for k in range(count):
+                y = harmonics[k]
+                real += y.real * tables[k, i, j] - y.imag * tables[k, n + i, j]
+                imaginary += y.real * tables[k, n + i, j] + y.imag * tables[k, i, j]
+            out[i, j] = real
+            out[n + i, j] = imaginary
+
+
+@_compile
+def first_fast_ordinal(h, stride, end, two_pi_step, frequency):
+    """Ordinal of the first probe ``k = 0, stride, 2 stride, ... < end - 1`` whose phase step gives a frequency
+    ``|arg(h[k+1] conj h[k])| / (2 pi step)`` of at least ``frequency``; the number of probes if none."""
+    ordinal = 0
+    for k in range(0, end - 1, stride):
+        z = h[k + 1] * np.conj(h[k])
+        if abs(np.arctan2(z.imag, z.real)) / two_pi_step >= frequency:
+            return ordinal
+        ordinal += 1
+    return ordinal
