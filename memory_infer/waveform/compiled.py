@@ -204,22 +204,60 @@ def strided_differences(modes, stride, last, out):
 
 
 @_compile
-def real_form_cumulative(d, product, half_step, first, out, start):
-    """:func:`real_form_rates` then :func:`running_trapezoid` from ``first`` into ``out[start:]``."""
-    rows, n = d.shape
+def pair_sums(d, skip, first_rows, second_rows, real_weights, imaginary_weights):
+    """The rate ``y^T Q y`` at the columns ``skip ..`` of the real rows ``d`` as a sum over the symmetric
+    form's pairs ``a <= b`` (``weights[p]`` holds ``Q_ab + Q_ba``, or ``Q_aa``): (real, imaginary) parts. Loops over
+    pairs outside and samples inside, so the inner loop runs along memory."""
+    count = d.shape[1] - skip
+    real = np.zeros(count)
+    imaginary = np.zeros(count)
+    for p in range(first_rows.size):
+        x = d[first_rows[p], skip:]
+        y = d[second_rows[p], skip:]
+        a = real_weights[p]
+        b = imaginary_weights[p]
+        for t in range(count):
+            z = x[t] * y[t]
+            real[t] += a * z
+            imaginary[t] += b * z
+    return real, imaginary
+
+
+@_compile
+def pair_cumulative(d, skip, first_rows, second_rows, real_weights, imaginary_weights, half_step, first, out, at):
+    """The running trapezoid of :func:`pair_sums`' rate from ``first``, into ``out[at:]``."""
+    real, imaginary = pair_sums(d, skip, first_rows, second_rows, real_weights, imaginary_weights)
     total = first
-    previous = 0j
-    for t in range(n):
-        re = d[0, t] * product[0, t]
-        im = d[0, t] * product[rows, t]
-        for a in range(1, rows):
-            re += d[a, t] * product[a, t]
-            im += d[a, t] * product[rows + a, t]
-        rate = complex(re, im)
-        if t:
-            total += (rate + previous) * half_step
-        out[start + t] = total
-        previous = rate
+    out[at] = total
+    for t in range(1, real.size):
+        total += complex(real[t] + real[t - 1], imaginary[t] + imaginary[t - 1]) * half_step
+        out[at + t] = total
+
+
+@_compile
+def real_form_level(modes, lo, hi, skip, first_rows, second_rows, real_weights, imaginary_weights, half_step, first,
+                    out, at):
+    """One level's cumulative memory: :func:`window_differences` over ``lo .. hi - 1`` then :func:`pair_cumulative`
+    from column ``skip``."""
+    d = np.empty((2 * len(modes), hi - lo))
+    window_differences(modes, lo, hi, d)
+    pair_cumulative(d, skip, first_rows, second_rows, real_weights, imaginary_weights, half_step, first, out, at)
+
+
+@_compile
+def pair_weights(harmonics, tables, real_weights, imaginary_weights):
+    """``Q = sum_k harmonics[k] Q_k`` on the pairs: ``tables[k] = [Re Q_k pairs; Im Q_k pairs]`` ``(2, P)``."""
+    count = tables.shape[0]
+    pairs = tables.shape[2]
+    for p in range(pairs):
+        real = 0.0
+        imaginary = 0.0
+        for k in range(count):
+            y = harmonics[k]
+            real += y.real * tables[k, 0, p] - y.imag * tables[k, 1, p]
+            imaginary += y.real * tables[k, 1, p] + y.imag * tables[k, 0, p]
+        real_weights[p] = real
+        imaginary_weights[p] = imaginary
 
 
 @_compile
@@ -233,12 +271,14 @@ def linear_fill(values, stride, out):
 
 @_compile
 def mirror_holds(plus, mirror, signs, probes, tolerance):
-    """Whether ``plus[i][p] = signs[i] conj(mirror[i][p])`` at the ``probes`` for every i, to ``tolerance`` x the
-    largest ``|plus[i][p]|``."""
+    """Whether ``plus[i][p] = signs[i] conj(mirror[i][p])`` at ``probes`` samples spread evenly from the first to
+    the last (``p = j (n - 1) // (probes - 1)``) for every i, to ``tolerance`` x the largest ``|plus[i][p]|``."""
     largest = 0.0
     worst = 0.0
+    n = plus[0].size
     for i in range(len(plus)):
-        for p in probes:
+        for j in range(probes):
+            p = j * (n - 1) // (probes - 1)
             value = plus[i][p]
             largest = max(largest, abs(value))
             worst = max(worst, abs(value - signs[i] * np.conj(mirror[i][p])))
@@ -272,3 +312,47 @@ def first_fast_ordinal(h, stride, end, two_pi_step, frequency):
             return ordinal
         ordinal += 1
     return ordinal
+
+
+@_compile
+def spacing_spread(times):
+    """(largest - smallest) step between consecutive ``times``."""
+    low = np.inf
+    high = -np.inf
+    for k in range(1, times.size):
+        step = times[k] - times[k - 1]
+        low = min(low, step)
+        high = max(high, step)
+    return high - low
+
+
+@_compile
+def _linear(x, x0, x1, f0, f1):
+    """numpy.interp's value at ``x`` between ``(x0, f0)`` and ``(x1, f1)`` (one real part)."""
+    slope = (f1 - f0) / (x1 - x0)
+    value = slope * (x - x0) + f0
+    if np.isnan(value):
+        value = slope * (x - x1) + f1
+        if np.isnan(value) and f0 == f1:
+            value = f0
+    return value
+
+
+@_compile
+def interpolate_complex(x, xp, fp, out):
+    """``numpy.interp`` of the real and the imaginary parts of ``fp`` at ``x`` (``xp`` increasing; the end values
+    hold outside it), into ``out``."""
+    n = xp.size
+    for k in range(x.size):
+        value = x[k]
+        if value >= xp[n - 1]:
+            out[k] = fp[n - 1]
+        elif value < xp[0]:
+            out[k] = fp[0]
+        else:
+            j = np.searchsorted(xp, value, side="right") - 1
+            if xp[j] == value:
+                out[k] = fp[j]
+            else:
+                out[k] = complex(_linear(value, xp[j], xp[j + 1], fp[j].real, fp[j + 1].real),
+                                 _linear(value, xp[j], xp[j + 1], fp[j].imag, fp[j + 1].imag))

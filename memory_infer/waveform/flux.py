@@ -12,7 +12,8 @@ from functools import lru_cache
 
 import numpy as np
 
-from .compiled import complex_form_rates, contract_real, differences_into, mirror_holds, real_form_rates
+from .compiled import (complex_form_rates, contract_real, differences_into, mirror_holds, pair_sums, pair_weights,
+                       real_form_rates)
 from .sphere import HarmonicSet, _direction_tables
 
 
@@ -23,11 +24,10 @@ def mirrored_rows(keys, modes) -> bool:
     plus = [k for k in keys if k[1] > 0]
     if not plus:
         return True
-    probes = np.linspace(0, len(modes[plus[0]]) - 1, 9).astype(np.int64)
     signs = np.array([(-1.0) ** l for l, _ in plus])
     return bool(mirror_holds(tuple(np.ascontiguousarray(modes[k], dtype=complex) for k in plus),
                              tuple(np.ascontiguousarray(modes[(l, -m)], dtype=complex) for l, m in plus),
-                             signs, probes, 1e-9))
+                             signs, 9, 1e-9))
 
 
 @lru_cache(maxsize=8)
@@ -68,6 +68,44 @@ def flux_tables(keys: tuple, mirrored: bool):
     if not mirrored:  # the complex form is the smaller one here: y would be twice as long as dh
         return own, harmonics, (table * scale).astype(complex), (table * same_m * scale).astype(complex)
     return own, harmonics, real_form(table), real_form(table * same_m)
+
+
+@lru_cache(maxsize=64)
+def pair_tables(keys: tuple):
+    """The mirrored real form of :func:`flux_tables` on the pairs ``a <= b`` of its real rows, which is all a
+    symmetric form needs: ``y^T Q y = sum_{a <= b} c_ab y_a y_b`` with ``c_ab = Q_ab + Q_ba`` (``Q_aa`` on the
+    diagonal). Pairs whose coefficient vanishes for every harmonic are dropped. Returns ``(own, harmonics,
+    every pair, the m_i = m_j pairs)``, each pair set ``(first rows, second rows, tables (k, 2, pairs))``."""
+    own, harmonics, tables, same_m_tables = flux_tables(keys, True)
+    rows = tables.shape[2]
+    first, second = np.triu_indices(rows)
+
+    def on_pairs(table):
+        real, imaginary = table[:, :rows], table[:, rows:]
+        out = np.stack([real[:, first, second] + real[:, second, first],
+                        imaginary[:, first, second] + imaginary[:, second, first]], axis=1)
+        out[:, :, first == second] /= 2
+        used = np.any(out != 0, axis=(0, 1))
+        pairs = (first[used].astype(np.int64), second[used].astype(np.int64), np.ascontiguousarray(out[:, :, used]))
+        for array in pairs:
+            array.flags.writeable = False
+        return pairs
+
+    return own, harmonics, on_pairs(tables), on_pairs(same_m_tables)
+
+
+def weights_on_pairs(pairs, harmonics: np.ndarray):
+    """(first rows, second rows, real coefficients, imaginary coefficients) of ``Q = sum_k harmonics[k] Q_k``."""
+    first, second, table = pairs
+    real, imaginary = np.empty(first.size), np.empty(first.size)
+    pair_weights(np.ascontiguousarray(harmonics, dtype=complex), table, real, imaginary)
+    return first, second, real, imaginary
+
+
+def pair_rates(weights, differences: np.ndarray) -> np.ndarray:
+    """``y^T Q y`` at every column of the real rows ``differences`` from :func:`weights_on_pairs`' ``weights``."""
+    real, imaginary = pair_sums(np.ascontiguousarray(differences), 0, *weights)
+    return real + 1j * imaginary
 
 
 def contract(tables: np.ndarray, harmonics: np.ndarray) -> np.ndarray:

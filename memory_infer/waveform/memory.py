@@ -31,8 +31,10 @@ from functools import lru_cache
 
 import numpy as np
 
-from .compiled import first_fast_ordinal, linear_fill, real_form_cumulative, running_trapezoid, strided_differences, window_differences
-from .flux import contract, differences, flux_tables, harmonic_set, mirrored_rows, rates, stack_rows
+from .compiled import (first_fast_ordinal, interpolate_complex, linear_fill, pair_cumulative, real_form_level, running_trapezoid,
+                       spacing_spread, strided_differences)
+from .flux import (contract, differences, flux_tables, harmonic_set, mirrored_rows, pair_tables, rates, stack_rows,
+                   weights_on_pairs)
 from .sphere import coupling_table, spin_weighted_harmonic
 
 
@@ -79,7 +81,7 @@ def _uniform_step(times) -> float:
     if times.ndim != 1 or times.size < 3:
         raise ValueError("times must be a one-dimensional array of at least three samples")
     step = (times[-1] - times[0]) / (times.size - 1)
-    if np.ptp(np.diff(times)) > 2e-6 * abs(step):
+    if spacing_spread(times) > 2e-6 * abs(step):
         raise ValueError("times must be uniformly sampled")
     return step
 
@@ -164,16 +166,18 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     face-on, where the memory itself nearly vanishes). ``smooth_inspiral=False`` keeps every pair on every sample (exact).
     """
     keys = tuple(sorted(modes))
-    mirrored = mirrored_rows(keys, modes)
-    own, harmonics, tables, same_m_tables = flux_tables(keys, mirrored)
-    values = harmonics(theta, phi) * (LALSIMULATION_SIGN / mode_scale)  # the memory is quadratic in the modes
-    weights = contract(tables, values)
     times = np.asarray(times, float)
     step = _uniform_step(times)
-    if mirrored:
-        slow_weights = contract(same_m_tables, values) if smooth_inspiral else None
-        memory = _real_form_memory(modes, times, step, own, weights, slow_weights, finer)
+    if mirrored_rows(keys, modes):
+        own, harmonics, pairs, same_m_pairs = pair_tables(keys)
+        values = harmonics(theta, phi) * (LALSIMULATION_SIGN / mode_scale)  # the memory is quadratic in the modes
+        slow_weights = weights_on_pairs(same_m_pairs, values) if smooth_inspiral else None
+        memory = _real_form_memory(modes, times, step, own, weights_on_pairs(pairs, values), slow_weights, finer)
     else:
+        own, harmonics, tables, _ = flux_tables(keys, False)
+        values = harmonics(theta, phi) * (LALSIMULATION_SIGN / mode_scale)
+        weights = contract(tables, values)
+
         def cumulative(level_times, level_stack, coarse=False):
             level_step = (level_times[-1] - level_times[0]) / (level_times.size - 1)  # uniform: checked above
             # differences are 12 step dh/dt (the 1/144 is in the tables), hence the trapezoid's 1 / step
@@ -206,7 +210,7 @@ def _real_form_memory(modes, times, step, own, weights, slow_weights, finer):
         d = np.empty((2 * len(rows), 1 + early // stride))
         strided_differences(rows, stride, early, d)
         slow = np.empty(d.shape[1], dtype=complex)
-        real_form_cumulative(d, slow_weights @ d, 0.5 * stride / step, 0j, slow, 0)
+        pair_cumulative(d, 0, *slow_weights, 0.5 * stride / step, 0j, slow, 0)
         linear_fill(slow, stride, coarse)
         reached = slow[-1]
     first = max(early - 2, 0)  # the dense part overlaps the slow one by two samples for its derivative stencil
@@ -228,19 +232,18 @@ def _real_form_memory(modes, times, step, own, weights, slow_weights, finer):
         level_step = (level_times[stop - 1] - level_times[start]) / (stop - start - 1)
         _real_level(level_rows, start, stop, weights, level_step, 0j, memory, 0)
         levels.append((level.use_from, level_times[start:stop], memory))
-    return _joined(times, coarse, levels)
+    return _joined(times, coarse, levels, own_array=True)
 
 
 def _real_level(rows, lo, hi, weights, step, first, out, at, skip=0):
     """Cumulative memory of the samples ``lo + skip .. hi - 1`` of one level into ``out[at:]``, from ``first``
-    (derivatives over the window ``lo .. hi - 1``, one-sided at its ends)."""
+    (derivatives over the window ``lo .. hi - 1``, one-sided at its ends; ``weights`` from
+    :func:`memory_infer.waveform.flux.weights_on_pairs`)."""
     if hi - lo < 5:  # too short for the stencil: numpy's gradient, as :func:`differences`
         d = differences(stack_rows(dict(enumerate(rows)), tuple(range(len(rows))), True, slice(lo, hi)))
+        pair_cumulative(d, skip, *weights, 0.5 / step, first, out, at)
     else:
-        d = np.empty((2 * len(rows), hi - lo))
-        window_differences(rows, lo, hi, d)
-    d = d[:, skip:]
-    real_form_cumulative(d, weights @ d, 0.5 / step, first, out, at)
+        real_form_level(rows, lo, hi, skip, *weights, 0.5 / step, first, out, at)
 
 
 def _levels_memory(times, stacked, keys, finer, cumulative, first: int = 0):
@@ -282,8 +285,11 @@ def _windows(keys, finer, real=False):
 def _interpolate(new_times, times, values):
     """Linear interpolation along the last axis of complex values (the cumulative memory is smooth)."""
     values = np.asarray(values)
-    if values.ndim == 1:
-        return np.interp(new_times, times, values.real) + 1j * np.interp(new_times, times, values.imag)
+    if values.ndim == 1:  # numpy.interp of both parts, compiled
+        new_times = np.atleast_1d(np.asarray(new_times, dtype=float))
+        out = np.empty(new_times.size, dtype=complex)
+        interpolate_complex(new_times, np.asarray(times, dtype=float), values.astype(complex, copy=False), out)
+        return out
     flat = values.reshape(-1, values.shape[-1])
     out = np.empty((flat.shape[0], np.size(new_times)), dtype=complex)
     for k, row in enumerate(flat):
@@ -291,13 +297,13 @@ def _interpolate(new_times, times, values):
     return out.reshape(values.shape[:-1] + (np.size(new_times),))
 
 
-def _joined(times, coarse, levels):
+def _joined(times, coarse, levels, own_array: bool = False):
     """The cumulative memory at ``times`` from the coarse level and finer levels ``(use_from, times, memory)``.
 
     Each level's memory is shifted to continue the previous one at its ``use_from`` time and replaces it
     from there on; beyond a level's last sample its final value holds (the plateau).
     """
-    result = np.array(coarse, dtype=complex, copy=True)
+    result = coarse if own_array else np.array(coarse, dtype=complex, copy=True)
     previous_times, previous = times, result
     for use_from, level_times, level_memory in levels:
         join = np.array([use_from])

@@ -1,7 +1,8 @@
 import numpy as np
 import pytest
 
-from memory_infer.waveform.flux import contract, differences, flux_tables, mirrored_rows, rates, stack_rows
+from memory_infer.waveform.flux import (contract, differences, flux_tables, mirrored_rows, pair_rates, pair_tables, rates,
+                                        stack_rows, weights_on_pairs)
 from memory_infer.waveform.memory import time_derivative
 from memory_infer.waveform.models import generate_modes
 from memory_infer.waveform.sphere import direction_matrix
@@ -25,6 +26,10 @@ def test_rates_equal_the_direct_quadratic_form(spins):
     weights = contract(tables, harmonics(1.1, 0.4))
     ours = rates(weights, differences(stack_rows(modes, own, symmetric))) / step ** 2
     assert np.max(np.abs(ours - expected)) < 1e-12 * np.max(np.abs(expected))
+    if symmetric:  # the form the memory's compiled loops sum: the symmetric form's pairs a <= b only
+        own, harmonics, pairs, _ = pair_tables(keys)
+        on_pairs = pair_rates(weights_on_pairs(pairs, harmonics(1.1, 0.4)), differences(stack_rows(modes, own)))
+        assert np.max(np.abs(on_pairs / step ** 2 - expected)) < 1e-12 * np.max(np.abs(expected))
 
 
 def test_differences_are_twelve_steps_times_the_derivative():
