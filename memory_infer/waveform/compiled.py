@@ -356,3 +356,40 @@ def interpolate_complex(x, xp, fp, out):
             else:
                 out[k] = complex(_linear(value, xp[j], xp[j + 1], fp[j].real, fp[j + 1].real),
                                  _linear(value, xp[j], xp[j + 1], fp[j].imag, fp[j + 1].imag))
+
+
+@_compile
+def interpolated_rows(modes, first, orders, weights, quiet_fraction):
+    """The modes (row 0 the (2, 2) mode) from sample ``first`` on, ``factor`` times finer: each mode's amplitude and
+    continued phase (:func:`continued_phases`) through sixth-order Lagrange (:func:`lagrange_modes`), up to 8
+    samples past the last where any mode exceeds ``quiet_fraction`` of the (2, 2) mode's peak."""
+    count = len(modes)
+    n = modes[0].size - first
+    stacked = np.empty((count, n), dtype=np.complex128)
+    for r in range(count):
+        stacked[r] = modes[r][first:]
+    loud = loud_end(stacked, quiet_fraction)
+    end = min(n, loud - 1 + 8) if loud else n
+    stacked = stacked[:, :end]
+    return lagrange_modes(np.abs(stacked), continued_phases(stacked, orders), weights)
+
+
+@_compile
+def goldberg_sums(coefficients, cos_powers, sin_powers, owners, orders, theta, phi, out):
+    """``out[k] = sum_{terms of k} c cos(theta/2)^p sin(theta/2)^q e^{i m_k phi}`` (spin-weighted harmonics as
+    Goldberg sums laid out flat; each power computed once)."""
+    c = np.cos(theta / 2)
+    s = np.sin(theta / 2)
+    largest = 0
+    for k in range(cos_powers.size):
+        largest = max(largest, cos_powers[k], sin_powers[k])
+    cos_table = np.empty(largest + 1)
+    sin_table = np.empty(largest + 1)
+    for p in range(largest + 1):  # libm's pow, as numpy's float ** int
+        cos_table[p] = c ** float(p)
+        sin_table[p] = s ** float(p)
+    out[:] = 0.0
+    for k in range(coefficients.size):
+        out[owners[k]] += coefficients[k] * cos_table[cos_powers[k]] * sin_table[sin_powers[k]]
+    for j in range(out.size):
+        out[j] *= np.exp(1j * orders[j] * phi)

@@ -13,6 +13,8 @@ from math import comb, factorial, pi, sqrt
 
 import numpy as np
 
+from .compiled import goldberg_sums
+
 
 def spin_weighted_harmonic(s: int, l: int, m: int, theta, phi):
     """Spin-weighted spherical harmonic ``sY_lm(theta, phi)``, vectorized over the angles.
@@ -131,13 +133,18 @@ class HarmonicSet:
                     cos_powers.append(2 * r + s - m)
                     sin_powers.append(2 * l - (2 * r + s - m))
                     owners.append(k)
-        self._coefficients = np.array(coefficients)
-        self._cos_powers = np.array(cos_powers)
-        self._sin_powers = np.array(sin_powers)
-        self._owners = np.array(owners)
-        self._m = np.array([m for _, m in self.modes])
+        self._coefficients = np.array(coefficients, dtype=float)
+        self._cos_powers = np.array(cos_powers, dtype=np.int64)
+        self._sin_powers = np.array(sin_powers, dtype=np.int64)
+        self._owners = np.array(owners, dtype=np.int64)
+        self._m = np.array([m for _, m in self.modes], dtype=float)
 
     def __call__(self, theta: float, phi: float) -> np.ndarray:
+        if self._cos_powers.size and min(self._cos_powers.min(), self._sin_powers.min()) >= 0:  # always, for s = -2
+            out = np.empty(len(self.modes), dtype=complex)
+            goldberg_sums(self._coefficients, self._cos_powers, self._sin_powers, self._owners, self._m,
+                          float(theta), float(phi), out)
+            return out
         terms = (self._coefficients * np.cos(theta / 2) ** self._cos_powers
                  * np.sin(theta / 2) ** self._sin_powers)
         return np.bincount(self._owners, weights=terms, minlength=len(self.modes)) * np.exp(1j * self._m * phi)

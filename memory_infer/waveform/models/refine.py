@@ -31,7 +31,7 @@ from functools import lru_cache
 import numpy as np
 
 from ...common.errors import WaveformError
-from ..compiled import continued_phases, first_fast_probe, first_loud_fast_step, lagrange_modes, loud_end
+from ..compiled import first_fast_probe, first_loud_fast_step, interpolated_rows
 from .series import ModeSeries
 
 logger = logging.getLogger("memory_infer")
@@ -122,19 +122,17 @@ def interpolated_level(series: ModeSeries, join_time: float, factor: int) -> Mod
     times, delta_t = series.times, series.delta_t
     keys = [(2, 2)] + sorted(k for k in series.modes if k[1] >= 0 and k != (2, 2))
     first = max(min(int(np.searchsorted(times, join_time)) - 8, times.size - 16), 0)  # at least 16 samples
-    stacked = np.array([series.modes[k][first:] for k in keys])
-    loud = loud_end(stacked, QUIET_AMPLITUDE)  # one past the last loud sample
-    end = min(stacked.shape[1], loud - 1 + 8 if loud else stacked.shape[1])
-    stacked = stacked[:, :end]
     # each mode's amplitude and continued phase, interpolated (sixth-order Lagrange), back to complex values
-    phase = continued_phases(stacked, np.array([float(m) for _, m in keys]))
-    values = lagrange_modes(np.abs(stacked), phase, _lagrange_weights(factor))
+    values = interpolated_rows(tuple(np.ascontiguousarray(series.modes[k], dtype=complex) for k in keys), first,
+                               np.array([float(m) for _, m in keys]), _lagrange_weights(factor), QUIET_AMPLITUDE)
     fine_times = times[first + 2] + np.arange(values.shape[1]) * (delta_t / factor)
+    mirrored = np.conj(values)
+    mirrored *= np.array([(-1.0) ** l for l, _ in keys])[:, None]  # h_{l,-m} = (-1)^l conj(h_lm)
     modes = {}
     for k, (l, m) in enumerate(keys):
         modes[(l, m)] = values[k]
-        if m > 0 and (l, -m) in series.modes:
-            modes[(l, -m)] = (-1) ** l * np.conj(values[k])
+        if m > 0:
+            modes[(l, -m)] = mirrored[k]
     modes = {k: modes[k] for k in series.modes}
     return dataclasses.replace(series, times=fine_times, modes=modes, finer=[], use_from=join_time)
 
