@@ -279,6 +279,8 @@ CACHES = {
     "inputs.detectors.known_detectors": "detector names (a table of strings, read only)",
     "waveform.flux.harmonic_set": "a harmonic set (read only)",
     "waveform.flux.flux_tables": "stacking keys and coupling tables (arrays, read only)",
+    "waveform.flux.pair_tables": "stacking keys and coupling tables on the form's pairs (arrays, read only)",
+    "waveform.source._half_hann": "a taper's window (an array, read only)",
     "waveform.models.lal_modes.approximant_number": "an int",
 }
 BILBY_BUILDERS = ("bilby", "waveform_generator", "network_detectors", "configured_detectors", "empty_detectors",

@@ -18,6 +18,7 @@ from scipy.special import logsumexp
 from ..common.errors import MemoryInferError
 from ..inputs.config import PHASE_REFUSAL
 from ..waveform.source import combined
+from .band import band_edges, band_products, project_two
 
 
 @dataclass
@@ -120,28 +121,46 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
     def detector_arrays(self, detector):
         """(frequency mask, masked PSD, masked frequencies) of one detector, kept while its PSD object, segment,
         band and window stay the same (bilby recomputes the PSD array on every access)."""
+        return self._kept_arrays(detector)[1:4]
+
+    def _kept_arrays(self, detector):
+        """(key, mask, masked PSD, masked frequencies, band edges or None): :meth:`detector_arrays`, and the
+        (first, end) indices of the band when the mask is one unbroken run (:func:`.band.band_edges`)."""
         data = detector.strain_data
         key = (id(detector.power_spectral_density), data.duration, data.sampling_frequency, detector.minimum_frequency,
                detector.maximum_frequency, getattr(data, "window_factor", None))
         cached = self._detector_arrays.get(detector.name)
         if cached is None or cached[0] != key:
             mask = detector.frequency_mask
-            cached = (key, mask, detector.power_spectral_density_array[mask], detector.frequency_array[mask])
+            cached = (key, mask, detector.power_spectral_density_array[mask], detector.frequency_array[mask],
+                      band_edges(mask))
             self._detector_arrays[detector.name] = cached
-        return cached[1:]
+        return cached
 
     def _responses(self, detector, polarization_sets, parameters):
         """``detector.get_detector_response`` for several polarization sets at one point, with the antenna
         pattern, time shift and calibration computed once (the same arithmetic as bilby's, step by step)."""
-        mask, _, frequencies = self.detector_arrays(detector)
+        _, mask, _, frequencies, band = self._kept_arrays(detector)
         antenna_time = parameters["geocent_time"] if detector.reference_time is None else detector.reference_time
         factors = {mode: detector.antenna_response(parameters["ra"], parameters["dec"], antenna_time,
                                                    parameters["psi"], mode) for mode in polarization_sets[0]}
         time_shift = detector.time_delay_from_geocenter(parameters["ra"], parameters["dec"], parameters["geocent_time"])
         dt = (parameters["geocent_time"] - detector.strain_data.start_time) + time_shift
+        recalibrated = type(detector.calibration_model) is not bilby.gw.detector.calibration.Recalibrate  # else 1
+        if band is not None and len(polarization_sets) == 2 and set(factors) == {"plus", "cross"}:
+            # one compiled pass over the band (inference/band.py)
+            calibration = np.empty(0, dtype=complex)
+            if recalibrated:
+                calibration = np.asarray(detector.calibration_model.get_calibration_factor(
+                    frequencies, prefix="recalib_{}_".format(detector.name), **parameters), dtype=complex)
+            (oscillatory, memory), out = polarization_sets, np.zeros((2, mask.size), dtype=complex)
+            project_two(*(np.ascontiguousarray(part[mode], dtype=complex) for part in (oscillatory, memory)
+                          for mode in ("plus", "cross")), float(factors["plus"]), float(factors["cross"]), band[0],
+                        frequencies, -2 * np.pi * dt, calibration, out[0], out[1])
+            return [out[0], out[1]]
         shift = np.zeros(mask.size, dtype=complex)  # bilby's mask, time shift and calibration as one factor
         shift[mask] = np.exp(-1j * 2 * np.pi * dt * frequencies)
-        if type(detector.calibration_model) is not bilby.gw.detector.calibration.Recalibrate:  # else exactly 1
+        if recalibrated:
             shift[mask] *= detector.calibration_model.get_calibration_factor(
                 frequencies, prefix="recalib_{}_".format(detector.name), **parameters)
         out = []
@@ -221,8 +240,18 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
         total = InnerProducts(0j, 0j, 0.0, 0.0, 0.0)
         duration = self.waveform_generator.duration
         for detector, (s_osc, s_mem) in zip(self.interferometers, parts):
-            mask, psd, _ = self.detector_arrays(detector)
+            _, mask, psd, _, band = self._kept_arrays(detector)
             data = detector.strain_data
+            if band is not None and not self.time_marginalization:  # one compiled pass over the band
+                d_osc, d_mem, osc_osc, osc_mem, mem_mem = band_products(
+                    s_osc, s_mem, np.ascontiguousarray(data.frequency_domain_strain, dtype=complex), psd, band[0])
+                scale = 4 / data.duration
+                total.d_osc += scale * d_osc
+                total.d_mem += scale * d_mem
+                total.osc_osc += scale * osc_osc
+                total.osc_mem += scale * osc_mem
+                total.mem_mem += scale * mem_mem
+                continue
             # bilby's noise-weighted inner products of (oscillatory, memory, data) with one another on the band,
             # all from one pass; einsum, not BLAS, so that the sums do not depend on the thread count
             rows = np.array([s_osc[mask], s_mem[mask], data.frequency_domain_strain[data.frequency_mask]])

@@ -1,4 +1,4 @@
-"""Compiled loops of the memory's per-sample path (numba; compiled on first use, then cached on disk).
+"""Compiled loops of the memory's per-sample path (numba, :mod:`memory_infer.common.compiled`).
 
 Each loop does the arithmetic of the numpy expression it replaces in the same order (the stencil's
 ``(v[t-2] - v[t+2]) + 8 (v[t+1] - v[t-1])``, the sum over rows row by row, the trapezoid's running sum), so
@@ -7,11 +7,9 @@ overhead on arrays of a few thousand samples, which dominated the memory's cost 
 """
 from __future__ import annotations
 
-import numba
 import numpy as np
 
-# compiled code is cached next to this file, or where NUMBA_CACHE_DIR points when the package is read-only
-_compile = numba.njit(cache=True, nogil=True, error_model="numpy")
+from ..common.compiled import compiled as _compile
 
 
 @_compile
@@ -393,3 +391,33 @@ def goldberg_sums(coefficients, cos_powers, sin_powers, owners, orders, theta, p
         out[owners[k]] += coefficients[k] * cos_table[cos_powers[k]] * sin_table[sin_powers[k]]
     for j in range(out.size):
         out[j] *= np.exp(1j * orders[j] * phi)
+
+
+RAMP_ANCHOR_EVERY = 64  # frequencies between exact evaluations of a phase ramp
+
+
+@_compile
+def phase_ramp(frequencies, rate, scale, out):
+    """``out[k] = scale exp(i rate frequencies[k])``, stepped by a complex product from one frequency to the next
+    (evenly spaced) and evaluated exactly every ``RAMP_ANCHOR_EVERY``: within a few 1e-15 rad of numpy's
+    ``exp`` for phases up to tens of radians."""
+    count = frequencies.size
+    for start in range(0, count, RAMP_ANCHOR_EVERY):
+        stop = min(count, start + RAMP_ANCHOR_EVERY)
+        angle = rate * frequencies[start]
+        value = complex(np.cos(angle), np.sin(angle))
+        step = rate * (frequencies[start + 1] - frequencies[start]) if stop - start > 1 else 0.0
+        rotation = complex(np.cos(step), np.sin(step))
+        for k in range(start, stop):
+            out[k] = value * scale
+            value = value * rotation
+
+
+@_compile
+def weighted_sum(arrays, weights, out):
+    """``out = sum_k weights[k] arrays[k]`` added in order onto ``out`` (zeros for the plain sum)."""
+    for k in range(len(arrays)):
+        array = arrays[k]
+        weight = weights[k]
+        for t in range(out.size):
+            out[t] += weight * array[t]

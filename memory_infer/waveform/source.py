@@ -18,6 +18,7 @@ from functools import lru_cache
 import numpy as np
 
 from ..common.errors import WaveformError
+from .compiled import phase_ramp, weighted_sum
 from .memory import memory_at_direction
 from .models import DEFAULT_APPROXIMANT, DEFAULT_MINIMUM_FREQUENCY, DEFAULT_REFERENCE_FREQUENCY, ModeSeries, generate_modes
 from .models.fd_modes import is_frequency_domain
@@ -44,8 +45,7 @@ def mode_sum(modes: dict, theta: float, phi: float) -> np.ndarray:
     keys = tuple(modes)
     harmonics = _harmonic_set(keys)(theta, phi)
     total = np.zeros(len(next(iter(modes.values()))), dtype=complex)
-    for weight, key in zip(harmonics, keys):
-        total += weight * modes[key]
+    weighted_sum(tuple(np.ascontiguousarray(modes[key], dtype=complex) for key in keys), harmonics, total)
     return total
 
 
@@ -98,7 +98,16 @@ def start_taper(n_samples: int, n_taper: int) -> np.ndarray:
     window = np.ones(n_samples)
     n_taper = min(n_taper, n_samples)
     if n_taper > 1:
-        window[:n_taper] = 0.5 * (1 - np.cos(np.pi * np.arange(n_taper) / n_taper))
+        window[:n_taper] = _half_hann(n_taper, True)
+    return window
+
+
+@lru_cache(maxsize=16)
+def _half_hann(n_taper: int, rising: bool) -> np.ndarray:
+    """``0.5 (1 -+ cos(pi k / n))`` for k < n: the start taper's rise, or the memory taper's fall (read only)."""
+    cosine = np.cos(np.pi * np.arange(n_taper) / max(n_taper, 1))
+    window = 0.5 * (1 - cosine) if rising else 0.5 * (1 + cosine)
+    window.flags.writeable = False
     return window
 
 
@@ -120,7 +129,10 @@ def circular_layout(signal: TimeSignal, n_buffer: int, delta_t: float, taper_dur
                 f"the segment of {n_buffer * delta_t:g} s is too short for this signal and a "
                 f"{taper_duration:g} s memory taper; use a longer segment or a shorter taper")
         times, oscillatory, memory = times[drop:], oscillatory[drop:], memory[drop:]
-    oscillatory = oscillatory * start_taper(times.size, int(round(start_taper_duration / delta_t)))
+    oscillatory = np.array(oscillatory, dtype=complex)  # a copy: the start is tapered in place
+    n_start = min(int(round(start_taper_duration / delta_t)), times.size)
+    if n_start > 1:
+        oscillatory[:n_start] *= _half_hann(n_start, True)  # start_taper's window (times 1 after it)
     peak_index = int(round(-times[0] / delta_t))
     shift = float(times[0] + peak_index * delta_t)
     buffer_oscillatory = np.zeros(n_buffer, dtype=complex)
@@ -135,9 +147,11 @@ def circular_layout(signal: TimeSignal, n_buffer: int, delta_t: float, taper_dur
     else:
         index = (np.arange(times.size) - peak_index) % n_buffer
         buffer_oscillatory[index], buffer_memory[index] = oscillatory, memory
-    after = (times.size - peak_index) + np.arange(n_taper)
-    fall = 0.5 * (1 + np.cos(np.pi * np.arange(n_taper) / max(n_taper, 1)))
-    buffer_memory[after % n_buffer] = memory[0] + (memory[-1] - memory[0]) * fall
+    fall = memory[0] + (memory[-1] - memory[0]) * _half_hann(n_taper, False)
+    begin = (times.size - peak_index) % n_buffer  # the fall fills indices begin, begin + 1, ... (mod n_buffer)
+    first_part = min(n_taper, n_buffer - begin)
+    buffer_memory[begin:begin + first_part] = fall[:first_part]
+    buffer_memory[:n_taper - first_part] = fall[first_part:]
     return buffer_oscillatory, buffer_memory, shift
 
 
@@ -182,8 +196,12 @@ def to_frequency_domain(buffer: np.ndarray, delta_t: float, shift: float, freque
 
 
 def shift_phase(frequency_array, shift: float, delta_t: float) -> np.ndarray:
-    """``dt exp(-2 pi i f shift)``: the transform's scale and the buffer's offset from the peak."""
-    return np.exp(-2j * np.pi * frequency_array * shift) * delta_t
+    """``dt exp(-2 pi i f shift)``: the transform's scale and the buffer's offset from the peak (a compiled
+    phase ramp, equal to numpy's ``exp`` to rounding)."""
+    frequency_array = np.ascontiguousarray(frequency_array, dtype=float)
+    out = np.empty(frequency_array.size, dtype=complex)
+    phase_ramp(frequency_array, -2 * np.pi * float(shift), float(delta_t), out)
+    return out
 
 
 def segment_geometry(frequency_array):

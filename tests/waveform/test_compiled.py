@@ -1,0 +1,141 @@
+"""Each compiled loop against the numpy expression it replaced (consistency), and the interpolation weights
+against a closed form."""
+import numpy as np
+import pytest
+from numpy.lib.stride_tricks import sliding_window_view
+
+from memory_infer.waveform import compiled
+from memory_infer.waveform.flux import contract, differences, flux_tables, pair_rates, pair_tables, rates, stack_rows
+from memory_infer.waveform.flux import weights_on_pairs
+from memory_infer.waveform.models.refine import _lagrange_weights
+from memory_infer.waveform.sphere import HarmonicSet
+
+
+@pytest.fixture(scope="module")
+def modes():
+    rng = np.random.default_rng(3)
+    t = np.linspace(0, 40, 400)
+    out = {}
+    for l, m in ((2, 1), (2, 2), (3, 3), (4, 4)):
+        h = (1 + 0.1 * rng.normal()) * np.exp(-1j * m * (0.3 * t + 0.002 * t ** 2)) * (1 + 0.01 * t)
+        out[(l, m)], out[(l, -m)] = h, (-1) ** l * np.conj(h)
+    return out
+
+
+def numpy_stencil(v):
+    out = np.empty_like(v)
+    out[..., 2:-2] = (v[..., :-4] - v[..., 4:]) + 8 * (v[..., 3:-1] - v[..., 1:-3])
+    ends = (np.array([[-25, 48, -36, 16, -3], [-3, -10, 18, -6, 1]], dtype=float).T,
+            np.array([[-1, 6, -18, 10, 3], [3, -16, 36, -48, 25]], dtype=float).T)
+    out[..., :2], out[..., -2:] = v[..., :5] @ ends[0], v[..., -5:] @ ends[1]
+    return out
+
+
+def test_stencils_equal_the_numpy_differences(modes):
+    own = ((2, 1), (2, 2), (3, 3), (4, 4))
+    rows = stack_rows(modes, own)
+    assert np.allclose(differences(rows), numpy_stencil(rows), rtol=0, atol=1e-13 * np.abs(rows).max())
+    window = np.empty((8, 100))
+    compiled.window_differences(tuple(modes[k] for k in own), 50, 150, window)
+    assert np.allclose(window, numpy_stencil(rows[:, 50:150]), rtol=0, atol=1e-13 * np.abs(rows).max())
+    strided = np.empty((8, 1 + 320 // 16))
+    compiled.strided_differences(tuple(modes[k] for k in own), 16, 320, strided)
+    assert np.allclose(strided[:, 1:], numpy_stencil(rows)[:, 16:321:16], rtol=0, atol=1e-13 * np.abs(rows).max())
+    assert np.allclose(strided[:, 0], numpy_stencil(rows[:, :5])[:, 0], rtol=0, atol=1e-13 * np.abs(rows).max())
+
+
+def test_pair_sums_equal_the_full_quadratic_form(modes):
+    keys = tuple(sorted(modes))
+    own, harmonics, tables, _ = flux_tables(keys, True)
+    d = differences(stack_rows(modes, own))
+    full = rates(contract(tables, harmonics(0.7, 1.9)), d)
+    own_pairs, harmonics_pairs, pairs, _ = pair_tables(keys)
+    assert own_pairs == own
+    on_pairs = pair_rates(weights_on_pairs(pairs, harmonics_pairs(0.7, 1.9)), d)
+    assert np.max(np.abs(on_pairs - full)) < 1e-13 * np.max(np.abs(full))
+    cumulative = np.empty(d.shape[1], dtype=complex)
+    compiled.pair_cumulative(d, 0, *weights_on_pairs(pairs, harmonics_pairs(0.7, 1.9)), 0.25, 1j, cumulative, 0)
+    expected = 1j + np.concatenate([[0], np.cumsum((full[1:] + full[:-1]) * 0.25)])
+    assert np.max(np.abs(cumulative - expected)) < 1e-12 * np.max(np.abs(expected))
+
+
+def numpy_continued_phases(modes, orders):  # the numpy steps the compiled loop replaced
+    wrapped = np.angle(modes[:, 1:] * np.conj(modes[:, :-1]))
+    change = np.diff(wrapped[0])
+    change -= (2 * np.pi) * np.round(change / (2 * np.pi))
+    dominant = wrapped[0, 0] + np.concatenate([[0.0], np.cumsum(change)])
+    guide = orders[:, None] / 2 * dominant[None, :]
+    steps = wrapped + 2 * np.pi * np.round((guide - wrapped) / (2 * np.pi))
+    return np.angle(modes[:, :1]) + np.concatenate([np.zeros((modes.shape[0], 1)), np.cumsum(steps, axis=1)], axis=1)
+
+
+def test_phases_and_interpolation_equal_the_numpy_steps(modes):
+    keys = ((2, 2), (2, 1), (3, 3), (4, 4))
+    stacked = np.array([modes[k][200:] for k in keys])
+    orders = np.array([float(m) for _, m in keys])
+    phases = compiled.continued_phases(stacked, orders)
+    assert np.max(np.abs(phases - numpy_continued_phases(stacked, orders))) < 1e-12  # rad, rounding
+    weights = _lagrange_weights(4)
+    amplitudes = np.abs(stacked)
+    ours = compiled.lagrange_modes(amplitudes, phases, weights)
+    values = (sliding_window_view(np.concatenate([amplitudes, phases]), 6, axis=1) @ weights.T).reshape(8, -1)
+    expected = values[:4] * np.exp(1j * values[4:])
+    assert np.max(np.abs(ours - expected)) < 1e-13 * np.max(np.abs(expected))
+
+
+def test_lagrange_weights_reproduce_quintics():
+    # closed form: the six-point Lagrange polynomial is exact for polynomials of degree five
+    weights = _lagrange_weights(8)
+    nodes = np.arange(6) - 2.0
+    polynomial = np.polynomial.Polynomial([0.3, -1.1, 0.7, 0.2, -0.05, 0.01])
+    assert np.allclose(weights @ polynomial(nodes), polynomial(np.arange(8) / 8), rtol=0, atol=1e-13)
+
+
+def test_interpolation_and_sums_equal_numpy():
+    rng = np.random.default_rng(1)
+    xp = np.sort(rng.uniform(0, 10, 300))
+    fp = rng.normal(size=300) + 1j * rng.normal(size=300)
+    x = np.concatenate([rng.uniform(-1, 11, 500), xp[:4], xp[-1:]])
+    out = np.empty(x.size, dtype=complex)
+    compiled.interpolate_complex(x, xp, fp, out)
+    assert np.array_equal(out, np.interp(x, xp, fp.real) + 1j * np.interp(x, xp, fp.imag))
+    arrays = tuple(rng.normal(size=(3, 50)) + 1j * rng.normal(size=(3, 50)))
+    weights = rng.normal(size=3) + 1j * rng.normal(size=3)
+    total = np.zeros(50, dtype=complex)
+    compiled.weighted_sum(arrays, weights, total)
+    expected = np.zeros(50, dtype=complex)
+    for weight, array in zip(weights, arrays):
+        expected += weight * array
+    assert np.max(np.abs(total - expected)) < 1e-14 * np.max(np.abs(expected))  # complex products: rounding
+    assert compiled.spacing_spread(xp) == np.ptp(np.diff(xp))
+
+
+def test_harmonics_equal_the_numpy_goldberg_sums():
+    harmonics = HarmonicSet([(l, m) for l in range(2, 9) for m in range(-l, l + 1)])
+    for theta, phi in ((0.0, 0.0), (0.4, 1.0), (np.pi / 2, -2.0), (np.pi, 0.3)):
+        terms = (harmonics._coefficients * np.cos(theta / 2) ** harmonics._cos_powers
+                 * np.sin(theta / 2) ** harmonics._sin_powers)
+        expected = np.bincount(harmonics._owners, weights=terms, minlength=len(harmonics.modes))
+        assert np.array_equal(harmonics(theta, phi), expected * np.exp(1j * harmonics._m * phi))
+
+
+def test_phase_ramp_equals_numpy_exp():
+    frequencies = np.linspace(0, 1024, 4097)
+    out = np.empty(frequencies.size, dtype=complex)
+    for rate in (0.0, -2 * np.pi * 2.4e-4, 3.0e-3):
+        compiled.phase_ramp(frequencies, rate, 0.5, out)
+        assert np.max(np.abs(out - 0.5 * np.exp(1j * rate * frequencies))) < 1e-13
+
+
+def test_scans_find_the_first_fast_step():
+    t = np.arange(2000.0)
+    h = np.exp(-1j * (1e-4 * t ** 2))  # phase step 2e-4 t: above 0.3 rad from t = 1500
+    h[:100] *= 1e-6  # quiet start
+    limit = np.cos(0.3)
+    steps = np.abs(np.angle(h[1:] * np.conj(h[:-1])))
+    assert compiled.first_fast_probe(h, 16, limit) == np.arange(0, 1999, 16)[np.argmax(steps[::16] > 0.3)]
+    first, loudest = compiled.first_loud_fast_step(h, limit, 1e-3)
+    assert first == np.argmax(steps > 0.3) and loudest == pytest.approx(1.0)
+    assert compiled.first_fast_ordinal(h, 16, h.size, 2 * np.pi, 0.3 / (2 * np.pi)) == np.argmax(steps[::16] >= 0.3)
+    assert compiled.mirror_holds((h,), (np.conj(h),), np.array([1.0]), 9, 1e-9)
+    assert not compiled.mirror_holds((h,), (-np.conj(h),), np.array([1.0]), 9, 1e-9)
