@@ -16,3 +16,17 @@ def test_compiled_functions_run_numpy_arithmetic_and_are_cached_on_disk():
     assert np.isinf(ratio_sum(values, 0.0))  # numpy's error model: inf, not ZeroDivisionError
     assert type(ratio_sum._cache).__name__ != "NullCache"  # numba writes the machine code to disk
     assert ratio_sum.targetoptions["nogil"]
+
+
+def test_without_a_writable_cache_the_loop_still_compiles(monkeypatch):
+    # numba raises RuntimeError when none of its cache locators applies (a read-only install, no home directory)
+    import numba.core.caching as caching
+
+    monkeypatch.setattr(caching.CacheImpl, "_locator_classes", [])
+
+    @compiled
+    def twice(value):
+        return 2 * value
+
+    assert twice(3.0) == 6.0
+    assert type(twice._cache).__name__ == "NullCache"

@@ -128,10 +128,14 @@ def two_point_value(terms: dict, injected: float, amplitude: float, noise) -> np
 
 
 def _noise_basis(terms: dict) -> np.ndarray:
-    """Columns spanning the noise projections' covariance: x = basis @ z with z standard normal."""
+    """Columns spanning the noise projections' covariance: x = basis @ z with z standard normal. Each column's
+    sign is fixed (its largest entry positive), so that inputs equal to rounding give draws equal to rounding
+    (``eigh`` may return either sign)."""
     values, vectors = np.linalg.eigh(_gram(terms))
     keep = values > 1e-12 * max(float(values.max()), 1e-300)
-    return vectors[:, keep] * np.sqrt(values[keep])
+    basis = vectors[:, keep] * np.sqrt(values[keep])
+    largest = np.argmax(np.abs(basis), axis=0)
+    return basis * np.where(basis[largest, np.arange(basis.shape[1])] < 0, -1.0, 1.0)
 
 
 def _hermite_average(terms, injected, amplitude, nodes):
@@ -262,9 +266,12 @@ def two_point_noise_average(terms: dict, injected: float, amplitude: float = 1.0
 
 
 def two_point_draws(terms: dict, injected: float, amplitude: float, size: int, rng) -> np.ndarray:
-    """``size`` realizations of the two-point ln BF over independent Gaussian-noise draws."""
+    """``size`` realizations of the two-point ln BF over independent Gaussian-noise draws. Three normal numbers
+    are drawn per realization whatever the covariance's rank, so that the generator's stream, and every later
+    record's draws, do not depend on where an eigenvalue falls against the rank cut."""
     basis = _noise_basis(terms)
-    return two_point_value(terms, injected, amplitude, rng.standard_normal((size, basis.shape[1])) @ basis.T)
+    normals = rng.standard_normal((size, basis.shape[0]))[:, :basis.shape[1]]
+    return two_point_value(terms, injected, amplitude, normals @ basis.T)
 
 
 @register

@@ -181,6 +181,27 @@ def test_exact_noise_average_matches_the_tensor_quadrature():
             assert exact["quadrature_error"] < 1e-6
 
 
+def test_noise_draws_follow_their_inputs_to_rounding():
+    # consistency only: draws from terms equal to rounding are equal to rounding (eigenvector signs fixed), and a
+    # rank-deficient covariance uses as many normal numbers as a full one (the generator's stream stays in step)
+    from memory_infer.inference.methods.fast import two_point_draws
+
+    rng = np.random.default_rng(8)
+    basis = rng.normal(size=(3, 3))
+    terms = _terms_from_gram(basis @ basis.T)
+    for flip in range(4):  # the same covariance in rotated coordinates: eigh's signs vary between these
+        nudged = {k: v * (1 + 3e-16 * (flip + 1)) for k, v in terms.items()}
+        first = two_point_draws(terms, 1.0, 1.0, 64, np.random.default_rng(flip))
+        second = two_point_draws(nudged, 1.0, 1.0, 64, np.random.default_rng(flip))
+        assert np.max(np.abs(first - second)) < 1e-9 * max(1.0, np.max(np.abs(first)))
+    after = []
+    for rank in (1, 2, 3):
+        generator = np.random.default_rng(3)
+        two_point_draws(_terms_from_gram(basis[:, :rank] @ basis[:, :rank].T), 1.0, 1.0, 10, generator)
+        after.append(generator.standard_normal())
+    assert after[0] == after[1] == after[2]
+
+
 @pytest.mark.slow
 @pytest.mark.parametrize("mode_list, distance", [([(2, 2), (2, -2)], 1200.0), (None, 1500.0)])
 def test_exact_noise_average_matches_bilby_noise_realizations(mode_list, distance):
