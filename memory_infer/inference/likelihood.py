@@ -15,6 +15,9 @@ import bilby
 import numpy as np
 from scipy.special import logsumexp
 
+from bilby.gw.detector.interferometer import Interferometer
+from bilby_cython.geometry import get_polarization_tensor_multiple_modes, three_by_three_matrix_contraction
+
 from ..common.errors import MemoryInferError
 from ..inputs.config import PHASE_REFUSAL
 from ..waveform.source import combined
@@ -85,6 +88,19 @@ class DistanceQuadrature:
         return logsumexp(a[..., None] * scale - b[..., None] * scale ** 2 / 2 + ln_weight, axis=-1)
 
 
+def antenna_factors(detector, parameters, antenna_time, modes) -> dict:
+    """``detector.antenna_response`` for each polarization mode; for bilby's own interferometer class the plus and
+    cross tensors come from one call of ``get_polarization_tensor_multiple_modes`` of bilby_cython (bilby's compiled
+    geometry, which its interferometer uses too: the same numbers)."""
+    if modes == ("plus", "cross") and type(detector).antenna_response is Interferometer.antenna_response:
+        tensors = get_polarization_tensor_multiple_modes(parameters["ra"], parameters["dec"], antenna_time,
+                                                         parameters["psi"], list(modes))
+        detector_tensor = detector.geometry.detector_tensor
+        return {mode: three_by_three_matrix_contraction(detector_tensor, tensor) for mode, tensor in zip(modes, tensors)}
+    return {mode: detector.antenna_response(parameters["ra"], parameters["dec"], antenna_time, parameters["psi"], mode)
+            for mode in modes}
+
+
 class MemoryTransient(bilby.gw.GravitationalWaveTransient):
     """``GravitationalWaveTransient`` for the memory model, with ln L(A) for many A at one point.
 
@@ -142,8 +158,7 @@ class MemoryTransient(bilby.gw.GravitationalWaveTransient):
         pattern, time shift and calibration computed once (the same arithmetic as bilby's, step by step)."""
         _, mask, _, frequencies, band = self._kept_arrays(detector)
         antenna_time = parameters["geocent_time"] if detector.reference_time is None else detector.reference_time
-        factors = {mode: detector.antenna_response(parameters["ra"], parameters["dec"], antenna_time,
-                                                   parameters["psi"], mode) for mode in polarization_sets[0]}
+        factors = antenna_factors(detector, parameters, antenna_time, tuple(polarization_sets[0]))
         time_shift = detector.time_delay_from_geocenter(parameters["ra"], parameters["dec"], parameters["geocent_time"])
         dt = (parameters["geocent_time"] - detector.strain_data.start_time) + time_shift
         recalibrated = type(detector.calibration_model) is not bilby.gw.detector.calibration.Recalibrate  # else 1

@@ -421,3 +421,16 @@ def weighted_sum(arrays, weights, out):
         weight = weights[k]
         for t in range(out.size):
             out[t] += weight * array[t]
+
+
+@_compile
+def split_spectrum(spectrum, phase, plus, cross):
+    """The one-sided transforms of the real and imaginary parts of a complex series from its full transform
+    ``Z``: ``X_k = (Z_k + conj Z_{N-k}) / 2`` and ``Y_k = (Z_k - conj Z_{N-k}) / 2i``, times ``phase`` and
+    ``-phase`` (for ``h+ - i hx``: ``plus = X phase`` and ``cross = -Y phase``)."""
+    n = spectrum.size
+    for k in range(phase.size):
+        a = spectrum[k]
+        b = np.conj(spectrum[(n - k) % n])
+        plus[k] = ((a + b) * 0.5) * phase[k]
+        cross[k] = ((a - b) * complex(0.0, -0.5)) * (-phase[k])

@@ -16,9 +16,10 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
+import scipy.fft
 
 from ..common.errors import WaveformError
-from .compiled import phase_ramp, weighted_sum
+from .compiled import phase_ramp, split_spectrum, weighted_sum
 from .memory import memory_at_direction
 from .models import DEFAULT_APPROXIMANT, DEFAULT_MINIMUM_FREQUENCY, DEFAULT_REFERENCE_FREQUENCY, ModeSeries, generate_modes
 from .models.fd_modes import is_frequency_domain
@@ -190,8 +191,11 @@ def to_frequency_domain(buffer: np.ndarray, delta_t: float, shift: float, freque
     ``phase``: :func:`shift_phase` of the same arguments, when the caller transforms several buffers."""
     if phase is None:
         phase = shift_phase(frequency_array, shift, delta_t)
-    plus = np.fft.rfft(buffer.real) * phase
-    cross = np.fft.rfft(buffer.imag) * -phase
+    # one complex transform of h+ - i hx, split into the transforms of its two real parts (equal to two real
+    # transforms to rounding, and faster)
+    spectrum = scipy.fft.fft(np.asarray(buffer, dtype=complex))
+    plus, cross = np.empty(phase.size, dtype=complex), np.empty(phase.size, dtype=complex)
+    split_spectrum(spectrum, np.ascontiguousarray(phase, dtype=complex), plus, cross)
     return {"plus": plus, "cross": cross}
 
 
