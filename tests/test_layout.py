@@ -282,6 +282,7 @@ CACHES = {
     "waveform.flux.pair_tables": "stacking keys and coupling tables on the form's pairs (arrays, read only)",
     "waveform.source._half_hann": "a taper's window (an array, read only)",
     "waveform.models.lal_modes.approximant_number": "an int",
+    "waveform.models.lal_modes._lal": "the lal and lalsimulation modules",
 }
 BILBY_BUILDERS = ("bilby", "waveform_generator", "network_detectors", "configured_detectors", "empty_detectors",
                   "InterferometerList", "MemoryWaveformGenerator", "MemoryTransient")
