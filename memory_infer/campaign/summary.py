@@ -99,7 +99,9 @@ def catalog_growth(pool, threshold: float, bootstrap: int, seed: int, max_events
               "reached_fraction": 0.0, "bootstrap": int(bootstrap), "max_events": int(max_events),
               "method": "catalogs simulated by resampling the detected injections and drawing each event's ln BF "
                         "with its own Gaussian-noise scatter; sizes where the 50%, 95% and 5% quantile curves of "
-                        "the catalog ln BF reach the threshold"}
+                        "the catalog ln BF reach the threshold; Monte-Carlo errors from the same sizes in 10 "
+                        "batches of the simulated catalogs",
+              "median_err": None, "lower_90_err": None, "upper_90_err": None}
     bands = {"events": [], "median": [], "lower_90": [], "upper_90": []}
     if pool.size == 0:
         return bands, events
@@ -133,9 +135,29 @@ def catalog_growth(pool, threshold: float, bootstrap: int, seed: int, max_events
     bands = {"events": grid.tolist(), "median": median.tolist(), "lower_90": lower.tolist(), "upper_90": upper.tolist()}
     for name, curve in (("median", median), ("lower_90", upper), ("upper_90", lower)):
         events[name] = _first_crossing(grid, curve, threshold)
+    events.update(_crossing_errors(sums, grid, threshold, events))
     events["reached_fraction"] = float(np.mean(sums[:, -1] >= threshold))
     events["horizon"] = int(grid[-1])
     return bands, events
+
+
+ERROR_BATCHES = 10  # batches of simulated catalogs behind the Monte-Carlo error of the crossing sizes
+
+
+def _crossing_errors(sums, grid, threshold, events) -> dict:
+    """Monte-Carlo standard errors of the three crossing sizes (``<name>_err``): the same crossings found in
+    ``ERROR_BATCHES`` equal batches of the simulated catalogs, their standard deviation over the square root of
+    the number of batches (batch means); None when a crossing, or a batch's, is not reached."""
+    found = {name: [] for name in ("median", "lower_90", "upper_90")}
+    for batch in np.array_split(sums, ERROR_BATCHES):
+        low, middle, high = np.quantile(batch, [0.05, 0.5, 0.95], axis=0)
+        for name, curve in (("median", middle), ("lower_90", high), ("upper_90", low)):
+            found[name].append(_first_crossing(grid, curve, threshold))
+    out = {}
+    for name, values in found.items():
+        usable = events[name] is not None and len(values) > 1 and all(v is not None for v in values)
+        out[f"{name}_err"] = float(np.std(values, ddof=1) / np.sqrt(len(values))) if usable else None
+    return out
 
 
 def _first_crossing(grid, curve, threshold):

@@ -10,7 +10,7 @@ from ..campaign.summary import summarize
 from ..common.errors import MemoryInferError
 from ..common.writing import atomic_path, provenance, write_text
 from ..inputs.campaign_config import load_campaign_settings
-from ..reports.campaign import campaign_page, count_text
+from ..reports.campaign import campaign_page, range_text
 from ..reports.html import number
 from ..results.campaign import CampaignSummary
 
@@ -76,8 +76,8 @@ def run(args) -> int:
     print(f"{summary.n_injections} injections, {summary.n_failed} failed, {summary.n_detected} detected; "
           f"expected ln BF+ per detected event over noise {number(expected, None, 5)} "
           f"(known-sign bound {number(known, None, 5)})")
-    print(f"events to ln BF = {threshold['threshold']:g} with noise scatter: median {count_text(threshold['median'])} "
-          f"(90%: {count_text(threshold['lower_90'])} to {count_text(threshold['upper_90'])})")
+    print(f"events to ln BF = {threshold['threshold']:g} with noise scatter: median (90% range) {range_text(threshold)}; "
+          "± is the Monte-Carlo error")
     for warning in summary.warnings:
         print(f"warning: {warning}")
     print(f"wrote {args.outdir}/campaign.json, injections.csv and report.html")

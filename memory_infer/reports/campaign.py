@@ -77,8 +77,13 @@ def count_text(value) -> str:
     return "not reached" if value is None else f"{value:.0f}"
 
 
-def _range_text(found: dict) -> str:
-    return f"{count_text(found.get('median'))} ({count_text(found.get('lower_90'))} to {count_text(found.get('upper_90'))})"
+def range_text(found: dict) -> str:
+    def one(name):
+        error = found.get(f"{name}_err")
+        text = count_text(found.get(name))
+        return text if error is None or found.get(name) is None else f"{text} ± {error:.0f}"
+
+    return f"{one('median')} ({one('lower_90')} to {one('upper_90')})"
 
 
 FORECAST_ESTIMATOR = (
@@ -111,12 +116,12 @@ def _forecast_rows(summary):
                  ("known-sign bound per event (mean ρ²/2)", number(known["mean"], known.get("mean_err"), 5)),
                  ("zero-noise value per event (diagnostic, not an expectation)", number(zero["mean"], zero.get("mean_err"), 5)),
                  ("spread of one event's ln BF₊ over noise (mean)", number(forecast["spread"]["mean"], None, 4))]
-    rows.append((f"events to ln BF = {threshold['threshold']:g} with noise scatter: median (90%)",
-                 f"{_range_text(threshold)}; catalogs simulated out to {count_text(threshold.get('horizon'))} events"))
+    rows.append((f"events to ln BF = {threshold['threshold']:g} with noise scatter: median (90%), ± Monte-Carlo error",
+                 f"{range_text(threshold)}; catalogs simulated out to {count_text(threshold.get('horizon'))} events"))
     if forecast:
-        rows += [(f"events to ln BF = {threshold['threshold']:g} from the mean alone", _range_text(forecast["events_from_mean"])),
+        rows += [(f"events to ln BF = {threshold['threshold']:g} from the mean alone", range_text(forecast["events_from_mean"])),
                  (f"events to ln BF = {threshold['threshold']:g} at the known-sign bound",
-                  _range_text(forecast["events_known_sign"]))]
+                  range_text(forecast["events_known_sign"]))]
     return rows
 
 

@@ -113,3 +113,17 @@ def test_noise_pool_keeps_each_event_exact_mean_and_spread():
     pool = noise_pool([record, record], 3)
     assert np.allclose(pool.mean(axis=1), average["mean"], rtol=0, atol=1e-15)
     assert abs(pool.std() / average["spread"] - 1) < 0.1
+
+
+def test_crossing_errors_describe_the_scatter_between_seeds():
+    # consistency of the Monte-Carlo errors (batch means, common practice, no source): the crossing sizes from
+    # independent seeds scatter by about the error each run reports
+    from memory_infer.campaign.summary import catalog_growth
+
+    pool = np.random.default_rng(6).normal(0.02, 0.2, size=(40, 64))
+    runs = [catalog_growth(pool, 8.0, 400, seed)[1] for seed in range(8)]
+    for name in ("median", "upper_90"):
+        values = np.array([run[name] for run in runs])
+        errors = np.array([run[f"{name}_err"] for run in runs])
+        assert np.all(errors > 0)
+        assert 0.3 < np.std(values, ddof=1) / np.median(errors) < 3.0, name
