@@ -104,8 +104,9 @@ def test_a_killed_campaign_leaves_no_process_behind(tmp_path):
 @pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
 def test_ctrl_c_stops_a_campaign_in_one_line_with_its_workers(tmp_path):
     """SIGINT to the campaign's whole process group, as a terminal's Ctrl-C sends it: exit status 130, one line on
-    standard error, the stored records kept, and no process of the campaign left."""
-    config = campaign_config(tmp_path, count=300)
+    standard error, the stored records kept, and no process of the campaign left. Enough injections that the
+    campaign cannot finish between its first stored record and the signal (300 took under 5 s on 2 cores)."""
+    config = campaign_config(tmp_path, count=6000)
     command = [sys.executable, "-m", "memory_infer.cli", "campaign", config, "--outdir", str(tmp_path / "out"),
                "--workers", "2", "--quiet"]
     process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
