@@ -54,15 +54,17 @@ def distribution(values) -> dict:
             "upper_90": float(np.quantile(values, 0.95)), "count": int(values.size)}
 
 
-NOISE_DRAWS = 256   # noise realizations of each detected injection's estimator in the catalog simulation
+NOISE_DRAWS = 2560  # noise realizations of each detected injection's estimator in the catalog simulation (one
+# tenth for each batch of simulated catalogs, so that the batches' scatter includes the draws' own randomness)
+ERROR_BATCHES = 10  # batches of simulated catalogs behind the Monte-Carlo error of the crossing sizes
 EXACT_STEPS = 2000  # catalog growth steps summed draw by draw; larger steps use the sum's mean and variance
 
 
 def noise_pool(records, seed: int) -> np.ndarray:
     """Per detected injection, ``NOISE_DRAWS`` realizations of the two-point ln BF+ over Gaussian noise, drawn
     from the six inner products each record carries (exact in distribution; see ``methods.fast``), then shifted
-    so that their mean is the record's exact expectation (256 draws alone would carry a Monte-Carlo error in
-    the mean of spread/16 per event, comparable to a second-generation event's whole expected ln BF)."""
+    so that their mean is the record's exact expectation (2,560 draws alone would carry a Monte-Carlo error in
+    the mean of spread/50 per event, comparable to a second-generation event's whole expected ln BF)."""
     from ..inference.methods.fast import TERM_NAMES, two_point_draws
 
     rng = np.random.default_rng([int(seed), 11])
@@ -106,6 +108,13 @@ def catalog_growth(pool, threshold: float, bootstrap: int, seed: int, max_events
     if pool.size == 0:
         return bands, events
     count, width = pool.shape
+    # batch k of the simulated catalogs (the batches of the Monte-Carlo error) draws noise realizations from its
+    # own tenth of the columns, when there are enough columns
+    batch = np.empty(bootstrap, dtype=int)
+    for k, members in enumerate(np.array_split(np.arange(bootstrap), ERROR_BATCHES)):
+        batch[members] = k
+    edges = (np.linspace(0, width, ERROR_BATCHES + 1).astype(int) if width >= ERROR_BATCHES
+             else np.array([0] + [width] * ERROR_BATCHES))
     event_mean, event_second = pool.mean(axis=1), (pool ** 2).mean(axis=1)
     moments = []  # per bootstrap catalog: the resample's mean and variance per event (rows redrawn below)
     rows_rng = np.random.default_rng([int(seed), 1])
@@ -124,10 +133,11 @@ def catalog_growth(pool, threshold: float, bootstrap: int, seed: int, max_events
         rows = rows_rng.integers(count, size=count)
         mean, variance = moments[b]
         total, previous = 0.0, 0
+        first, end = (edges[batch[b]], edges[batch[b] + 1]) if width >= ERROR_BATCHES else (0, width)
         for j, size in enumerate(grid):
             step = int(size - previous)
             if step <= EXACT_STEPS:
-                total += pool[rows[rng.integers(count, size=step)], rng.integers(width, size=step)].sum()
+                total += pool[rows[rng.integers(count, size=step)], rng.integers(first, end, size=step)].sum()
             else:
                 total += rng.normal(step * mean, np.sqrt(step * variance))
             sums[b, j], previous = total, size
@@ -141,13 +151,11 @@ def catalog_growth(pool, threshold: float, bootstrap: int, seed: int, max_events
     return bands, events
 
 
-ERROR_BATCHES = 10  # batches of simulated catalogs behind the Monte-Carlo error of the crossing sizes
-
-
 def _crossing_errors(sums, grid, threshold, events) -> dict:
     """Monte-Carlo standard errors of the three crossing sizes (``<name>_err``): the same crossings found in
-    ``ERROR_BATCHES`` equal batches of the simulated catalogs, their standard deviation over the square root of
-    the number of batches (batch means); None when a crossing, or a batch's, is not reached."""
+    ``ERROR_BATCHES`` equal batches of the simulated catalogs (each with its own resamples and its own noise
+    realizations), their standard deviation over the square root of the number of batches (batch means); None
+    when a crossing, or a batch's, is not reached."""
     found = {name: [] for name in ("median", "lower_90", "upper_90")}
     for batch in np.array_split(sums, ERROR_BATCHES):
         low, middle, high = np.quantile(batch, [0.05, 0.5, 0.95], axis=0)

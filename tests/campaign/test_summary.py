@@ -115,15 +115,19 @@ def test_noise_pool_keeps_each_event_exact_mean_and_spread():
     assert abs(pool.std() / average["spread"] - 1) < 0.1
 
 
-def test_crossing_errors_describe_the_scatter_between_seeds():
-    # consistency of the Monte-Carlo errors (batch means, common practice, no source): the crossing sizes from
-    # independent seeds scatter by about the error each run reports
-    from memory_infer.campaign.summary import catalog_growth
+def test_crossing_errors_include_the_noise_draws_own_scatter():
+    # consistency of the Monte-Carlo errors (batch means, common practice, no source) when each run also draws its
+    # own heavy-tailed noise realizations (as each forecast draws its own): the crossing sizes of independent runs
+    # scatter by about the error each run reports. Low power: 8 runs pin the ratio only to within about 25%, and
+    # errors that leave out the noise draws' randomness passed too (ratios 0.96-1.31 against 0.54-1.22)
+    from memory_infer.campaign.summary import NOISE_DRAWS, catalog_growth
 
-    pool = np.random.default_rng(6).normal(0.02, 0.2, size=(40, 64))
-    runs = [catalog_growth(pool, 8.0, 400, seed)[1] for seed in range(8)]
+    runs = []
+    for seed in range(8):
+        draws = np.random.default_rng(100 + seed).standard_t(3, size=(30, NOISE_DRAWS)) * 0.3
+        pool = draws - draws.mean(axis=1, keepdims=True) + np.linspace(0.0, 0.05, 30)[:, None]
+        runs.append(catalog_growth(pool, 8.0, 400, seed)[1])
     for name in ("median", "upper_90"):
         values = np.array([run[name] for run in runs])
         errors = np.array([run[f"{name}_err"] for run in runs])
-        assert np.all(errors > 0)
         assert 0.3 < np.std(values, ddof=1) / np.median(errors) < 3.0, name
