@@ -61,6 +61,7 @@ class DistanceQuadrature:
         order = np.argsort(float(reference) / distance[keep])  # ascending in s, for the window search
         self.scale = (float(reference) / distance[keep])[order]
         self.ln_weight = np.log(mass[keep] / mass[keep].sum())[order]
+        self.scale_squared = self.scale ** 2
         self.weight_range = float(self.ln_weight.max() - self.ln_weight.min())
 
     WINDOW_MARGIN = 60.0  # nodes whose exponent lies this far below the peak (beyond the weights' range) are left out
@@ -84,8 +85,17 @@ class DistanceQuadrature:
     def __call__(self, d_inner_h_ref, h_inner_h_ref) -> np.ndarray:
         a, b = np.broadcast_arrays(np.asarray(d_inner_h_ref, dtype=float), np.asarray(h_inner_h_ref, dtype=float))
         first, end = self.window(a.ravel(), b.ravel())
-        scale, ln_weight = self.scale[first:end], self.ln_weight[first:end]
-        return logsumexp(a[..., None] * scale - b[..., None] * scale ** 2 / 2 + ln_weight, axis=-1)
+        if end <= first or not (np.all(np.isfinite(a)) and np.all(np.isfinite(b))):
+            scale, ln_weight = self.scale[first:end], self.ln_weight[first:end]
+            return logsumexp(a[..., None] * scale - b[..., None] * scale ** 2 / 2 + ln_weight, axis=-1)
+        # logsumexp over the window's nodes in place: one array of exponents, no further temporaries
+        exponent = np.multiply.outer(a, self.scale[first:end])
+        exponent -= np.multiply.outer(b / 2, self.scale_squared[first:end])
+        exponent += self.ln_weight[first:end]
+        peak = exponent.max(axis=-1, keepdims=True)
+        exponent -= peak
+        np.exp(exponent, out=exponent)
+        return np.log(exponent.sum(axis=-1)) + peak[..., 0]
 
 
 def antenna_factors(detector, parameters, antenna_time, modes) -> dict:
