@@ -301,7 +301,8 @@ def test_ctrl_c_in_the_sampler_is_one_line_and_keeps_a_checkpoint(tmp_path):
     environment = dict(os.environ, PYTHONPATH=os.pathsep.join([os.getcwd(), os.environ.get("PYTHONPATH", "")]))
     process = subprocess.Popen([sys.executable, "-m", "memory_infer.cli", "evidence", config, "--outdir",
                                 str(tmp_path / "out"), "--quiet"], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                               text=True, env=environment)
+                               text=True, env=environment,
+                               preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))  # as a shell does
     assert "nested sampling" in process.stdout.readline()  # the first run is being set up
     checkpoint = tmp_path / "out" / "runs" / "test-event_memory_resume.pickle"
     deadline = time.time() + 90
