@@ -218,15 +218,7 @@ def _real_form_memory(modes, times, step, own, weights, slow_weights, finer):
     coarse[end:] = coarse[end - 1]  # until the first finer level takes over
     levels = []
     for k, level in enumerate(finer):
-        if any(key not in level.modes for key in own):
-            raise ValueError("every sampling must hold the same modes")
-        level_times = np.asarray(level.times, float)
-        start = max(int(np.searchsorted(level_times, level.use_from)) - 4, 0)
-        stop = level_times.size
-        if k + 1 < len(finer):  # the next level takes over there
-            stop = min(stop, int(np.searchsorted(level_times, finer[k + 1].use_from)) + 3)
-        if stop - start < 5:
-            stop = min(level_times.size, start + 5)
+        level_times, start, stop = _level_window(finer, k, own)
         level_rows = tuple(np.ascontiguousarray(level.modes[key], dtype=complex) for key in own)
         memory = np.empty(stop - start, dtype=complex)
         level_step = (level_times[stop - 1] - level_times[start]) / (stop - start - 1)
@@ -268,18 +260,26 @@ def _windows(keys, finer, real=False):
     """``(level, times, stacked modes)`` of each finer level, cut to where it is used (plus a few samples)."""
     out = []
     for k, level in enumerate(finer):
-        if any(k not in level.modes for k in keys):
-            raise ValueError("every sampling must hold the same modes")
+        level_times, start, end = _level_window(finer, k, keys)
         stacked = stack_rows(level.modes, keys, real)
-        level_times = np.asarray(level.times, float)
-        start = max(int(np.searchsorted(level_times, level.use_from)) - 4, 0)
-        end = level_times.size
-        if k + 1 < len(finer):  # the next level takes over there
-            end = min(end, int(np.searchsorted(level_times, finer[k + 1].use_from)) + 3)
-        if end - start < 5:
-            end = min(level_times.size, start + 5)
         out.append((level, level_times[start:end], stacked[:, start:end]))
     return out
+
+
+def _level_window(finer, k, keys):
+    """(times, first, end) of finer level ``k``: from a few samples before its ``use_from`` to a few past the next
+    level's (at least five samples, for the derivative stencil)."""
+    level = finer[k]
+    if any(key not in level.modes for key in keys):
+        raise ValueError("every sampling must hold the same modes")
+    level_times = np.asarray(level.times, float)
+    start = max(int(np.searchsorted(level_times, level.use_from)) - 4, 0)
+    end = level_times.size
+    if k + 1 < len(finer):  # the next level takes over there
+        end = min(end, int(np.searchsorted(level_times, finer[k + 1].use_from)) + 3)
+    if end - start < 5:
+        end = min(level_times.size, start + 5)
+    return level_times, start, end
 
 
 def _interpolate(new_times, times, values):
