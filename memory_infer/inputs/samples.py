@@ -56,7 +56,9 @@ def usable_samples(frame):
         converted, _ = convert_to_lal_binary_black_hole_parameters(
             {name: table[name].to_numpy() for name in table.columns})
         if "theta_jn" in missing and "theta_jn" not in converted and "iota" in table.columns:
-            aligned = all(np.all(np.isin(np.asarray(converted.get(f"tilt_{i}", 0.0)), (0.0, np.pi)))
+            # a spin of magnitude zero is aligned whatever tilt the conversion gave it (bilby gives pi/2 for chi = 0)
+            aligned = all(np.all(np.isin(np.asarray(converted.get(f"tilt_{i}", 0.0)), (0.0, np.pi))
+                                 | (np.asarray(converted.get(f"a_{i}", 0.0)) == 0.0))
                           for i in ("1", "2")) and not any(f"chi_{i}_in_plane" in table.columns for i in "12")
             if aligned:
                 converted["theta_jn"] = table["iota"].to_numpy()
