@@ -7,6 +7,15 @@ import pytest
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))  # tests in subfolders share helpers.py
 logging.getLogger("bilby").setLevel(logging.WARNING)
 
+# CI (.ci/run) replays one fixed sequence of property-test examples, so a run on a new machine is repeatable; runs
+# elsewhere keep drawing new examples (which is how they find new failures: each found one is then kept as an
+# explicit @example)
+from hypothesis import settings as _hypothesis_settings  # noqa: E402
+
+_hypothesis_settings.register_profile("repeatable", derandomize=True)
+if os.environ.get("MEMORY_INFER_REPEATABLE_EXAMPLES"):
+    _hypothesis_settings.load_profile("repeatable")
+
 
 @pytest.fixture(scope="session")
 def thm_modes():
