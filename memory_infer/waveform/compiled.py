@@ -95,6 +95,21 @@ def first_loud_fast_step(h, cos_limit, quiet_fraction):
 
 
 @_compile
+def first_unresolved_step(h, cos_limit, quiet_fraction):
+    """(``k``, phase step from ``h[k]`` to ``h[k+1]``) for the last sample ``k`` before :func:`first_loud_fast_step`'s
+    (its step zero where either sample is quiet), or (-1, 0) when every loud step is within the limit."""
+    bad, loudest = first_loud_fast_step(h, cos_limit, quiet_fraction)
+    if bad < 0:
+        return -1, 0.0
+    index = max(bad - 1, 0)
+    z = h[index + 1] * np.conj(h[index])
+    step = abs(np.arctan2(z.imag, z.real))
+    if not min(abs(h[index]), abs(h[index + 1])) > quiet_fraction * loudest:
+        step = 0.0
+    return index, step
+
+
+@_compile
 def loud_end(stacked, quiet_fraction):
     """One past the last sample where any row's modulus exceeds ``quiet_fraction`` of row 0's peak; 0 if none."""
     rows, n = stacked.shape
@@ -354,6 +369,23 @@ def interpolate_complex(x, xp, fp, out):
             else:
                 out[k] = complex(_linear(value, xp[j], xp[j + 1], fp[j].real, fp[j + 1].real),
                                  _linear(value, xp[j], xp[j + 1], fp[j].imag, fp[j + 1].imag))
+
+
+@_compile
+def join_level(times, result, previous_times, previous, level_times, level_memory, use_from):
+    """One finer level's cumulative memory continued from the previous level at ``use_from`` and read off at the
+    ``times`` from there on into ``result`` (:func:`interpolate_complex` for every reading); returns the shifted
+    level memory, which the next level continues."""
+    at = np.empty(1)
+    at[0] = use_from
+    before = np.empty(1, dtype=np.complex128)
+    interpolate_complex(at, previous_times, previous, before)
+    own = np.empty(1, dtype=np.complex128)
+    interpolate_complex(at, level_times, level_memory, own)
+    shifted = level_memory + (before[0] - own[0])
+    after = np.searchsorted(times, use_from)
+    interpolate_complex(times[after:], level_times, shifted, result[after:])
+    return shifted
 
 
 @_compile

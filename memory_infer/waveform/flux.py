@@ -21,13 +21,20 @@ def mirrored_rows(keys, modes) -> bool:
     """Whether the modes obey ``h_{l,-m} = (-1)^l conj(h_lm)`` (aligned spins; checked on nine samples)."""
     if any((l, -m) not in modes for l, m in keys):
         return False
-    plus = [k for k in keys if k[1] > 0]
+    plus, minus, signs = _mirror_layout(tuple(keys))
     if not plus:
         return True
-    signs = np.array([(-1.0) ** l for l, _ in plus])
     return bool(mirror_holds(tuple(np.ascontiguousarray(modes[k], dtype=complex) for k in plus),
-                             tuple(np.ascontiguousarray(modes[(l, -m)], dtype=complex) for l, m in plus),
-                             signs, 9, 1e-9))
+                             tuple(np.ascontiguousarray(modes[k], dtype=complex) for k in minus), signs, 9, 1e-9))
+
+
+@lru_cache(maxsize=64)
+def _mirror_layout(keys: tuple):
+    """(the m > 0 keys, their mirrors (l, -m), the signs (-1)^l) for :func:`mirrored_rows`."""
+    plus = tuple(k for k in keys if k[1] > 0)
+    signs = np.array([(-1.0) ** l for l, _ in plus])
+    signs.flags.writeable = False
+    return plus, tuple((l, -m) for l, m in plus), signs
 
 
 @lru_cache(maxsize=8)

@@ -31,8 +31,8 @@ from functools import lru_cache
 
 import numpy as np
 
-from .compiled import (first_fast_ordinal, interpolate_complex, linear_fill, pair_cumulative, real_form_level, running_trapezoid,
-                       spacing_spread, strided_differences)
+from .compiled import (first_fast_ordinal, interpolate_complex, join_level, linear_fill, pair_cumulative,
+                       real_form_level, running_trapezoid, spacing_spread, strided_differences)
 from .flux import (contract, differences, flux_tables, harmonic_set, mirrored_rows, pair_tables, rates, stack_rows,
                    weights_on_pairs)
 from .sphere import coupling_table, spin_weighted_harmonic
@@ -305,6 +305,14 @@ def _joined(times, coarse, levels, own_array: bool = False):
     """
     result = coarse if own_array else np.array(coarse, dtype=complex, copy=True)
     previous_times, previous = times, result
+    if result.ndim == 1 and result.dtype == complex:  # one direction's memory: each join in one compiled call
+        times = np.asarray(times, dtype=float)
+        for use_from, level_times, level_memory in levels:
+            level_times = np.asarray(level_times, dtype=float)
+            previous = join_level(times, result, previous_times, previous, level_times,
+                                  np.asarray(level_memory, dtype=complex), float(use_from))
+            previous_times = level_times
+        return result
     for use_from, level_times, level_memory in levels:
         join = np.array([use_from])
         shifted = level_memory + (_interpolate(join, previous_times, previous)

@@ -138,9 +138,11 @@ class HarmonicSet:
         self._sin_powers = np.array(sin_powers, dtype=np.int64)
         self._owners = np.array(owners, dtype=np.int64)
         self._m = np.array([m for _, m in self.modes], dtype=float)
+        # the compiled sums need non-negative powers (always so for s = -2); decided once here
+        self._compiled = bool(self._cos_powers.size and min(self._cos_powers.min(), self._sin_powers.min()) >= 0)
 
     def __call__(self, theta: float, phi: float) -> np.ndarray:
-        if self._cos_powers.size and min(self._cos_powers.min(), self._sin_powers.min()) >= 0:  # always, for s = -2
+        if self._compiled:
             out = np.empty(len(self.modes), dtype=complex)
             goldberg_sums(self._coefficients, self._cos_powers, self._sin_powers, self._owners, self._m,
                           float(theta), float(phi), out)

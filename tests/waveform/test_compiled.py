@@ -139,3 +139,28 @@ def test_scans_find_the_first_fast_step():
     assert compiled.first_fast_ordinal(h, 16, h.size, 2 * np.pi, 0.3 / (2 * np.pi)) == np.argmax(steps[::16] >= 0.3)
     assert compiled.mirror_holds((h,), (np.conj(h),), np.array([1.0]), 9, 1e-9)
     assert not compiled.mirror_holds((h,), (-np.conj(h),), np.array([1.0]), 9, 1e-9)
+    index, step = compiled.first_unresolved_step(h, limit, 1e-3)
+    assert index == first - 1 and step == np.abs(np.angle(h[index + 1] * np.conj(h[index])))
+    assert compiled.first_unresolved_step(h[:1400], limit, 1e-3) == (-1, 0.0)
+    quiet = h.copy()
+    quiet[first - 1] *= 1e-6  # the step before the first fast one starts from a quiet sample: reported as zero
+    assert compiled.first_unresolved_step(quiet, limit, 1e-3) == (first - 1, 0.0)
+
+
+def test_joining_a_level_equals_the_numpy_interpolations():
+    from memory_infer.waveform.memory import _interpolate
+
+    rng = np.random.default_rng(4)
+    times = np.linspace(0.0, 100.0, 201)
+    coarse = np.cumsum(rng.normal(size=201) + 1j * rng.normal(size=201))
+    level_times = np.linspace(60.2, 90.0, 300)
+    level_memory = np.cumsum(rng.normal(size=300) + 1j * rng.normal(size=300)) * 0.1
+    use_from = 61.3
+    expected = coarse.copy()
+    shifted_expected = level_memory + (_interpolate(np.array([use_from]), times, expected)
+                                       - _interpolate(np.array([use_from]), level_times, level_memory))
+    after = int(np.searchsorted(times, use_from))
+    expected[after:] = _interpolate(times[after:], level_times, shifted_expected)
+    result = coarse.copy()
+    shifted = compiled.join_level(times, result, times, result, level_times, level_memory, use_from)
+    assert np.array_equal(shifted, shifted_expected) and np.array_equal(result, expected)

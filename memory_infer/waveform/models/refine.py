@@ -31,7 +31,7 @@ from functools import lru_cache
 import numpy as np
 
 from ...common.errors import WaveformError
-from ..compiled import first_fast_probe, first_loud_fast_step, interpolated_rows
+from ..compiled import first_fast_probe, first_unresolved_step, interpolated_rows
 from .series import ModeSeries
 
 logger = logging.getLogger("memory_infer")
@@ -44,6 +44,7 @@ LEVEL_FACTOR = 4  # each level's step is a quarter of the one before: fewer mode
 PRECESSING_STEP = 0.35  # in M: resolves a (2, 2) ringdown up to M omega = 0.85 within PHASE_STEP_LIMIT
 INTERPOLATION_STEP = 9.0  # in M: aligned-spin data grids at most this coarse are refined by interpolation (measured:
 # 12 M_sun at 2048 Hz, a step of 8.3 M, within 3e-4 of the converged memory; 16.5 M lost 1%)
+_COS_LIMIT, _COS_HALF_LIMIT = float(np.cos(PHASE_STEP_LIMIT)), float(np.cos(PHASE_STEP_LIMIT / 2))
 PRECESSING_SAMPLES = 1_000_000  # longer full-length precessing levels are refused: ~1 GB and ~9 s at the limit
 
 
@@ -71,7 +72,7 @@ def _late_part(series: ModeSeries) -> int:
     if not series.aligned_spins or (2, 2) not in series.modes:
         return 0
     h = series.modes[(2, 2)]
-    fast = first_fast_probe(h, 16, np.cos(PHASE_STEP_LIMIT / 2))
+    fast = first_fast_probe(h, 16, _COS_HALF_LIMIT)
     return max(fast - 32, 0) if fast >= 0 else max(h.size - 64, 0)
 
 
@@ -79,14 +80,9 @@ def first_unresolved(series: ModeSeries):
     """(time, (2, 2) frequency in Hz) of the last resolved sample before the grid fails, or None."""
     start = _late_part(series)
     if series.aligned_spins and (2, 2) in series.modes:  # (2, -2) mirrors (2, 2): the same steps
-        h = series.modes[(2, 2)][start:]
-        bad, loudest = first_loud_fast_step(h, np.cos(PHASE_STEP_LIMIT), QUIET_AMPLITUDE)
-        if bad < 0:
+        index, step = first_unresolved_step(series.modes[(2, 2)][start:], _COS_LIMIT, QUIET_AMPLITUDE)
+        if index < 0:
             return None
-        index = max(int(bad) - 1, 0)
-        step = abs(np.angle(h[index + 1] * np.conj(h[index])))
-        if not min(abs(h[index]), abs(h[index + 1])) > QUIET_AMPLITUDE * loudest:
-            step = 0.0
         return float(series.times[start + index]), float(step / (2 * np.pi * series.delta_t))
     late = series if start == 0 else dataclasses.replace(series, times=series.times[start:],
                                                          modes={k: v[start:] for k, v in series.modes.items()})
@@ -120,21 +116,33 @@ def interpolated_level(series: ModeSeries, join_time: float, factor: int) -> Mod
     call), from a few samples before ``join_time`` until every mode is below ``QUIET_AMPLITUDE`` of the
     (2, 2) peak."""
     times, delta_t = series.times, series.delta_t
-    keys = [(2, 2)] + sorted(k for k in series.modes if k[1] >= 0 and k != (2, 2))
+    keys, orders, signs, placement = _interpolation_layout(tuple(series.modes))
     first = max(min(int(np.searchsorted(times, join_time)) - 8, times.size - 16), 0)  # at least 16 samples
     # each mode's amplitude and continued phase, interpolated (sixth-order Lagrange), back to complex values
     values = interpolated_rows(tuple(np.ascontiguousarray(series.modes[k], dtype=complex) for k in keys), first,
-                               np.array([float(m) for _, m in keys]), _lagrange_weights(factor), QUIET_AMPLITUDE)
+                               orders, _lagrange_weights(factor), QUIET_AMPLITUDE)
     fine_times = times[first + 2] + np.arange(values.shape[1]) * (delta_t / factor)
     mirrored = np.conj(values)
-    mirrored *= np.array([(-1.0) ** l for l, _ in keys])[:, None]  # h_{l,-m} = (-1)^l conj(h_lm)
-    modes = {}
-    for k, (l, m) in enumerate(keys):
-        modes[(l, m)] = values[k]
-        if m > 0:
-            modes[(l, -m)] = mirrored[k]
-    modes = {k: modes[k] for k in series.modes}
-    return dataclasses.replace(series, times=fine_times, modes=modes, finer=[], use_from=join_time)
+    mirrored *= signs  # h_{l,-m} = (-1)^l conj(h_lm)
+    modes = {key: (mirrored if flip else values)[row] for key, (row, flip) in zip(series.modes, placement)}
+    return ModeSeries(times=fine_times, modes=modes, total_mass=series.total_mass,
+                      luminosity_distance=series.luminosity_distance,
+                      symmetric_mass_ratio=series.symmetric_mass_ratio, approximant=series.approximant,
+                      aligned_spins=series.aligned_spins, use_from=join_time, finer=[])
+
+
+@lru_cache(maxsize=32)
+def _interpolation_layout(series_keys: tuple):
+    """(interpolated keys: the (2, 2) mode first, then the other m >= 0 modes; their orders m; the signs (-1)^l as
+    a column; for each of ``series_keys``, its row and whether it is the row's mirror h_{l,-m})."""
+    keys = ((2, 2),) + tuple(sorted(k for k in series_keys if k[1] >= 0 and k != (2, 2)))
+    orders = np.array([float(m) for _, m in keys])
+    signs = np.array([(-1.0) ** l for l, _ in keys])[:, None]
+    placement = tuple((keys.index(k), False) if k in keys else (keys.index((k[0], -k[1])), True)
+                      for k in series_keys)
+    for array in (orders, signs):
+        array.flags.writeable = False
+    return keys, orders, signs, placement
 
 
 def _phase_at(series: ModeSeries, key, time: float) -> float:

@@ -5,6 +5,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..memory import Sampling
+
 SOLAR_MASS_SECONDS = 4.925490947641267e-06  # G M_sun / c^3 (lal.MTSUN_SI)
 SOLAR_MASS_METRES = 1476.6250380501247  # G M_sun / c^2 (lal.MRSUN_SI)
 MEGAPARSEC_METRES = 3.085677581491367e22  # lal.PC_SI * 1e6
@@ -55,8 +57,6 @@ class ModeSeries:
     def geometric_finer(self, scaled: bool = True) -> list:
         """The finer samplings as :class:`memory_infer.memory.Sampling` in geometric units (t / M, r h / M;
         SI strain with ``scaled=False``)."""
-        from ..memory import Sampling
-
         out = []
         for level in self.finer:
             times, modes = level.geometric(scaled)
