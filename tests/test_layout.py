@@ -283,6 +283,8 @@ CACHES = {
     "waveform.source._half_hann": "a taper's window (an array, read only)",
     "waveform.models.lal_modes.approximant_number": "an int",
     "waveform.models.lal_modes._lal": "the lal and lalsimulation modules",
+    "waveform.flux._mirror_layout": "mode keys and signs (tuples, an array, read only)",
+    "waveform.models.refine._interpolation_layout": "mode keys, orders, signs and row placement (read only)",
 }
 BILBY_BUILDERS = ("bilby", "waveform_generator", "network_detectors", "configured_detectors", "empty_detectors",
                   "InterferometerList", "MemoryWaveformGenerator", "MemoryTransient")
