@@ -112,14 +112,31 @@ def first_unresolved_step(h, cos_limit, quiet_fraction):
 @_compile
 def loud_end(stacked, quiet_fraction):
     """One past the last sample where any row's modulus exceeds ``quiet_fraction`` of row 0's peak; 0 if none."""
+    # Squared moduli decide wherever they are clear by a relative 1e-12 (far above their rounding); only samples
+    # near the peak or the threshold take the modulus itself, so every decision is the modulus's own.
     rows, n = stacked.shape
+    largest = 0.0
+    for t in range(n):
+        z = stacked[0, t]
+        largest = max(largest, z.real * z.real + z.imag * z.imag)
     peak = 0.0
     for t in range(n):
-        peak = max(peak, abs(stacked[0, t]))
+        z = stacked[0, t]
+        if z.real * z.real + z.imag * z.imag >= largest * (1.0 - 1e-12):
+            peak = max(peak, abs(z))
     threshold = quiet_fraction * peak
+    exact = threshold < 1e-140  # squares of such moduli may underflow: the modulus always
+    above = threshold * threshold * (1.0 + 1e-12)
+    below = threshold * threshold * (1.0 - 1e-12)
     for t in range(n - 1, -1, -1):
         for r in range(rows):
-            if abs(stacked[r, t]) > threshold:
+            z = stacked[r, t]
+            if exact:
+                if abs(z) > threshold:
+                    return t + 1
+                continue
+            square = z.real * z.real + z.imag * z.imag
+            if square > above or (square >= below and abs(z) > threshold):
                 return t + 1
     return 0
 

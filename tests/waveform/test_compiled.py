@@ -164,3 +164,25 @@ def test_joining_a_level_equals_the_numpy_interpolations():
     result = coarse.copy()
     shifted = compiled.join_level(times, result, times, result, level_times, level_memory, use_from)
     assert np.array_equal(shifted, shifted_expected) and np.array_equal(result, expected)
+
+
+def test_loud_end_decides_by_the_modulus_at_every_scale():
+    def reference(stacked, quiet_fraction):  # the plain loop, Python's abs (libm's hypot, as the compiled abs)
+        threshold = quiet_fraction * max(abs(complex(z)) for z in stacked[0])
+        for t in range(stacked.shape[1] - 1, -1, -1):
+            if any(abs(complex(z)) > threshold for z in stacked[:, t]):
+                return t + 1
+        return 0
+
+    rng = np.random.default_rng(6)
+    for trial in range(400):
+        rows, n = int(rng.integers(1, 6)), int(rng.integers(5, 120))
+        stacked = (rng.normal(size=(rows, n)) + 1j * rng.normal(size=(rows, n))) * 10.0 ** rng.uniform(-160, 150)
+        stacked *= np.exp(-np.linspace(0, rng.uniform(1, 30), n))
+        fraction = 10.0 ** rng.uniform(-6, 0)
+        if trial % 3 == 0:  # one sample exactly at the threshold, at some phase
+            peak = max(abs(complex(z)) for z in stacked[0])
+            stacked[rows - 1, rng.integers(0, n)] = fraction * peak * np.exp(1j * rng.uniform(0, 6.3) * (trial % 2))
+        if trial % 17 == 0:
+            stacked[:] = 0
+        assert compiled.loud_end(stacked, fraction) == reference(stacked, fraction)
