@@ -102,35 +102,49 @@ def test_memory_agrees_with_the_time_domain_family_and_has_lalsimulations_sign()
     assert with_32 < ours_growth  # the (3, 2) coupling adds memory of the same sign (measured +13%)
 
 
+def _band(rate, duration):
+    f = np.fft.rfftfreq(int(duration * rate), 1 / rate)
+    return f, f >= 20.0
+
+
+def in_band_memory(modes, inclination, phase, rate, duration):
+    """The memory's plus polarization from 20 Hz on, laid on a segment as the source model lays it."""
+    from memory_infer.waveform.source import TimeSignal, circular_layout, to_frequency_domain
+
+    f, band = _band(rate, duration)
+    memory = memory_strain(modes, inclination, phase)
+    signal = TimeSignal(modes.series.times, np.zeros(memory.size, complex), memory, 0.0)
+    _, buffer, shift = circular_layout(signal, int(duration * rate), 1 / rate, 1.0, 0.0)
+    return to_frequency_domain(buffer, 1 / rate, shift, f)["plus"][band]
+
+
+def in_band_difference(reference, other, rate, duration):
+    """Noise-weighted norm of ``reference - other`` over that of ``reference`` (aLIGO design, 20 Hz on)."""
+    f, band = _band(rate, duration)
+    psd = bilby.gw.detector.PowerSpectralDensity.from_aligo()
+    weight = 4 * (f[1] - f[0]) / psd.power_spectral_density_interpolated(f[band])
+    return np.sqrt(np.sum(np.abs(reference - other) ** 2 * weight) / np.sum(np.abs(reference) ** 2 * weight))
+
+
 @pytest.mark.slow
 def test_modes_from_shortly_before_merger_keep_the_in_band_memory():
     # convergence, common practice, no source: modes from the minimum frequency (8 s of a 10 + 8 solar-mass
     # inspiral) against modes from MEMORY_LEAD = 0.5 s before merger; in-band memory (aLIGO design, 20 Hz on), 0.5%
     from memory_infer.waveform.models.fd_modes import MEMORY_LEAD
-    from memory_infer.waveform.source import TimeSignal, circular_layout, to_frequency_domain
 
-    psd = bilby.gw.detector.PowerSpectralDensity.from_aligo()
     rate, duration = 2048.0, 8.0
-    f = np.fft.rfftfreq(int(duration * rate), 1 / rate)
-    band = f >= 20.0
-    weight = 4 * (f[1] - f[0]) / psd.power_spectral_density_interpolated(f[band])
 
     def in_band(lead):
         modes = frequency_modes("IMRPhenomXHM", 10.0, 8.0, 1 / rate, 20.0, (0, 0, 0.3), (0, 0, 0.1), 20.0, 1.0, 0.4,
                                 duration, memory_lead=lead)
-        memory = memory_strain(modes, 1.0, 0.4)
-        signal = TimeSignal(modes.series.times, np.zeros(memory.size, complex), memory, 0.0)
-        _, buffer, shift = circular_layout(signal, int(duration * rate), 1 / rate, 1.0, 0.0)
-        return modes.series.times[0], to_frequency_domain(buffer, 1 / rate, shift, f)["plus"][band]
+        return modes.series.times[0], in_band_memory(modes, 1.0, 0.4, rate, duration)
 
     start_full, full = in_band(None)
     start_late, late = in_band(MEMORY_LEAD)
     assert start_late > start_full + 2.0  # the later start is much shorter
-    norm = np.sqrt(np.sum(np.abs(full) ** 2 * weight))
-    difference = np.sqrt(np.sum(np.abs(full - late) ** 2 * weight)) / norm
+    difference = in_band_difference(full, late, rate, duration)
     assert difference < 5e-3
     print(f"in-band memory, modes from {MEMORY_LEAD} s before merger against from 20 Hz: {difference:.1e}")
-
 
 
 @pytest.mark.slow
@@ -142,25 +156,15 @@ def test_the_spectra_buffer_is_long_enough_for_the_in_band_memory(approximant, m
     # two seconds above 1.25 x the conditioned signal) against a 16 s buffer, in-band memory (aLIGO design, 20 Hz
     # on). Measured 7.0e-4 (10 + 8, XHM, 2 s) and 4.8e-4 (36 + 29, XPHM, 4 s); it falls to ~4e-5 at 8 s and rises
     # to 0.8e-3 and 1.5e-3 with buffers just long enough (1.5 s and 2.125 s), which were tried and not kept.
-    from memory_infer.waveform.source import TimeSignal, circular_layout, to_frequency_domain
-
-    psd = bilby.gw.detector.PowerSpectralDensity.from_aligo()
     rate, duration = 2048.0, 4.0
-    f = np.fft.rfftfreq(int(duration * rate), 1 / rate)
-    band = f >= 20.0
-    weight = 4 * (f[1] - f[0]) / psd.power_spectral_density_interpolated(f[band])
 
     def in_band(buffer_seconds):
         modes = frequency_modes(approximant, *masses, 1 / rate, 20.0, spin_1, spin_2, 20.0, 0.7, 0.3, buffer_seconds)
-        memory = memory_strain(modes, 0.7, 0.3)
-        signal = TimeSignal(modes.series.times, np.zeros(memory.size, complex), memory, 0.0)
-        _, buffer, shift = circular_layout(signal, int(duration * rate), 1 / rate, 1.0, 0.0)
-        return 1 / modes.spectra.delta_f, to_frequency_domain(buffer, 1 / rate, shift, f)["plus"][band]
+        return 1 / modes.spectra.delta_f, in_band_memory(modes, 0.7, 0.3, rate, duration)
 
     used_seconds, used = in_band(0.0)
     long_seconds, reference = in_band(16.0)
     assert used_seconds < long_seconds == 16.0
-    norm = np.sqrt(np.sum(np.abs(reference) ** 2 * weight))
-    difference = np.sqrt(np.sum(np.abs(reference - used) ** 2 * weight)) / norm
+    difference = in_band_difference(reference, used, rate, duration)
     print(f"{approximant}: in-band memory, {used_seconds} s buffer against 16 s: {difference:.1e}")
     assert difference < 1e-3
