@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..common.errors import WaveformError
+from .conditioning import library_polarizations
 from .memory import memory_at_direction
 from .models.fd_modes import MEMORY_LEAD, PRECESSING, is_frequency_domain, ModeSpectra, mode_spectra, time_modes
 from .models.refine import finer_levels
@@ -22,11 +23,6 @@ from .models.series import ModeSeries
 from .source import (_INTRINSIC, _SETTINGS, TimeSignal, circular_layout, lalsimulation_spins, observer_angles,
                      segment_geometry, to_frequency_domain)
 from .source import signal_parts as time_domain_parts
-
-BILBY_KEYS = ("waveform_approximant", "reference_frequency", "minimum_frequency", "maximum_frequency",
-              "catch_waveform_errors", "pn_spin_order", "pn_tidal_order", "pn_phase_order", "pn_amplitude_order",
-              "mode_array", "lal_waveform_dictionary")
-
 
 @dataclass
 class FrequencyModes:
@@ -79,7 +75,7 @@ def memory_strain(modes: FrequencyModes, inclination: float, phase: float, early
 def frequency_parts(frequency_array, parameters: dict, settings: dict, values: dict, cache) -> dict:
     """Oscillatory (bilby's own polarizations) and memory parts of a frequency-domain mode model."""
     n_buffer, delta_t = segment_geometry(frequency_array)
-    oscillatory = oscillatory_polarizations(frequency_array, values, settings)
+    oscillatory = library_polarizations(frequency_array, values, settings)
     if not settings["include_memory"]:
         return {"plus": oscillatory["plus"], "cross": oscillatory["cross"],
                 "memory_plus": np.zeros_like(oscillatory["plus"]), "memory_cross": np.zeros_like(oscillatory["cross"])}
@@ -102,23 +98,6 @@ def frequency_parts(frequency_array, parameters: dict, settings: dict, values: d
     parts = to_frequency_domain(buffer / values["luminosity_distance"], delta_t, shift, frequency_array)
     return {"plus": oscillatory["plus"], "cross": oscillatory["cross"], "memory_plus": parts["plus"],
             "memory_cross": parts["cross"]}
-
-
-def oscillatory_polarizations(frequency_array, values: dict, settings: dict) -> dict:
-    """bilby's own ``lal_binary_black_hole`` polarizations for the approximant (None when it fails)."""
-    import bilby
-
-    kwargs = {k: settings[k] for k in BILBY_KEYS if k in settings and settings[k] is not None}
-    if settings.get("mode_list") and "mode_array" not in kwargs:
-        kwargs["mode_array"] = [list(mode) for mode in settings["mode_list"]]
-    kwargs["catch_waveform_errors"] = True
-    names = ("mass_1", "mass_2", "luminosity_distance", "a_1", "tilt_1", "phi_12", "a_2", "tilt_2", "phi_jl",
-             "theta_jn", "phase")
-    polarizations = bilby.gw.source.lal_binary_black_hole(frequency_array, **{k: values[k] for k in names}, **kwargs)
-    if polarizations is None:
-        raise WaveformError(f"waveform model '{settings['waveform_approximant']}' could not generate masses "
-                            f"{values['mass_1']:g} and {values['mass_2']:g} solar masses with these settings")
-    return polarizations
 
 
 def signal_parts(frequency_array, cache=None, **parameters) -> dict:

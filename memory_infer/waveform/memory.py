@@ -345,6 +345,9 @@ def orbital_velocity_parameter(modes: dict, times) -> float:
     advance_01 = abs(np.angle(h22[1] * np.conj(h22[0])))
     advance_12 = abs(np.angle(h22[2] * np.conj(h22[1])))
     omega_22 = (1.5 * advance_01 - 0.5 * advance_12) / step
+    if not omega_22 > 0:  # a precessing model's inertial (2, 2) mode can wobble at its start: the mean rate instead
+        h22 = np.asarray(modes[(2, 2)][:17])
+        omega_22 = float(np.mean(np.abs(np.angle(h22[1:] * np.conj(h22[:-1]))))) / step
     return float((omega_22 / 2) ** (2 / 3))
 
 

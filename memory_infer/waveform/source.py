@@ -10,6 +10,7 @@ the permanent step has no wrap-around jump and its taper's spectrum lies below t
 """
 from __future__ import annotations
 
+import dataclasses
 import logging
 from collections import OrderedDict
 from dataclasses import dataclass, field
@@ -21,7 +22,10 @@ import scipy.fft
 from ..common.errors import WaveformError
 from .compiled import phase_ramp, split_spectrum, weighted_sum
 from .memory import memory_at_direction
+from .conditioning import (LIBRARY, Conditioning, conditioned_series, conditioning, frequency_bounds,
+                           library_polarizations)
 from .models import DEFAULT_APPROXIMANT, DEFAULT_MINIMUM_FREQUENCY, DEFAULT_REFERENCE_FREQUENCY, ModeSeries, generate_modes
+from .models import analytic
 from .models.fd_modes import is_frequency_domain
 from .sphere import HarmonicSet
 
@@ -176,7 +180,7 @@ def segment_note(frequency_array, band_start: float, cache: SourceCache | None =
     n_buffer, _ = segment_geometry(frequency_array)
     if is_frequency_domain(parameters.get("waveform_approximant", DEFAULT_APPROXIMANT)):
         return None  # the model's own frequency-domain signal; the memory keeps what a dropped start accumulated
-    settings, _, _, series = _source(frequency_array, parameters, cache)
+    settings, _, _, series, _ = _source(frequency_array, parameters, cache)
     start = truncated_start_frequency(series, n_buffer, float(settings["memory_taper_duration"]))
     if start is None or start <= band_start:
         return None
@@ -239,7 +243,7 @@ def lalsimulation_spins(parameters: dict, reference_frequency: float):
 _INTRINSIC = ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "tilt_1", "tilt_2", "phi_12",
               "phi_jl", "theta_jn", "phase")
 _SETTINGS = {"waveform_approximant": DEFAULT_APPROXIMANT, "reference_frequency": DEFAULT_REFERENCE_FREQUENCY,
-             "minimum_frequency": DEFAULT_MINIMUM_FREQUENCY, "memory_taper_duration": DEFAULT_TAPER_DURATION,
+             "minimum_frequency": DEFAULT_MINIMUM_FREQUENCY, "maximum_frequency": None, "memory_taper_duration": DEFAULT_TAPER_DURATION,
              "early_inspiral_memory": True, "mode_list": None, "include_memory": True}
 
 
@@ -273,22 +277,44 @@ def _unit_distance_modes(approximant, mass_1, mass_2, delta_t, minimum_frequency
                           reference_frequency, mode_list, finer_for_memory=finer_for_memory)
 
 
+def _plan(frequency_array, settings, values, spin_1, spin_2) -> Conditioning | None:
+    """How the model's oscillatory signal is conditioned as bilby does (None for the analytic test model).
+
+    The modes are generated where the conditioning starts them, on its step; when that step is not the data's
+    (a maximum frequency below the data's Nyquist frequency that rounds to a smaller power of two) the
+    oscillatory signal is bilby's own call and the memory's modes are generated on the data's step."""
+    approximant = settings["waveform_approximant"]
+    if approximant == analytic.NAME:
+        return None
+    _, delta_t = segment_geometry(frequency_array)
+    maximum = settings["maximum_frequency"]
+    maximum = float(frequency_array[-1]) if maximum is None else float(maximum)
+    minimum = float(settings["minimum_frequency"])
+    plan = conditioning(approximant, values["mass_1"], values["mass_2"], float(spin_1[2]), float(spin_2[2]),
+                        minimum, maximum, frequency_array)
+    if plan.route != LIBRARY and abs(plan.delta_t - delta_t) > 1e-12 * delta_t:
+        plan = dataclasses.replace(plan, route=LIBRARY, start_frequency=minimum, delta_t=delta_t)
+    return plan
+
+
 def _source(frequency_array, parameters, cache: SourceCache | None = None):
-    """(settings, values, inclination, modes at 1 Mpc) for bilby's parameters; the modes come from ``cache``."""
+    """(settings, values, inclination, modes at 1 Mpc, conditioning) for bilby's parameters; the modes come from
+    ``cache``."""
     settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
     values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
     _, delta_t = segment_geometry(frequency_array)
     inclination, spin_1, spin_2 = lalsimulation_spins(values, settings["reference_frequency"])
+    plan = _plan(frequency_array, settings, values, spin_1, spin_2)
+    start = float(settings["minimum_frequency"]) if plan is None else plan.start_frequency
     mode_list = tuple(tuple(int(x) for x in mode) for mode in settings["mode_list"]) if settings["mode_list"] else None
-    arguments = (settings["waveform_approximant"], values["mass_1"], values["mass_2"], delta_t,
-                 float(settings["minimum_frequency"]), tuple(float(x) for x in spin_1),
-                 tuple(float(x) for x in spin_2), float(settings["reference_frequency"]), mode_list,
-                 bool(settings["include_memory"]))
+    arguments = (settings["waveform_approximant"], values["mass_1"], values["mass_2"], delta_t, start,
+                 tuple(float(x) for x in spin_1), tuple(float(x) for x in spin_2),
+                 float(settings["reference_frequency"]), mode_list, bool(settings["include_memory"]))
     if cache is None:
         series = _unit_distance_modes(*arguments)
     else:
         series = cache._recall(cache.modes, arguments, lambda: _unit_distance_modes(*arguments), cache.modes_size)
-    return settings, values, inclination, series
+    return settings, values, inclination, series, plan
 
 
 def signal_parts(frequency_array, cache: SourceCache | None = None, **parameters) -> dict:
@@ -306,8 +332,8 @@ def signal_parts(frequency_array, cache: SourceCache | None = None, **parameters
     return cache._recall(cache.parts, key, lambda: _parts(frequency_array, parameters, cache), cache.parts_size)
 
 
-def _layout(frequency_array, parameters, cache):
-    """(oscillatory buffer, memory buffer or None, shift, delta_t), scaled to the distance (SI)."""
+def _parts(frequency_array, parameters, cache) -> dict:
+    """The four parts of :func:`signal_parts`, SI at the distance."""
     if not float(parameters.get("luminosity_distance", 0.0)) > 0:
         raise WaveformError("the luminosity distance must be positive")
     settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
@@ -315,44 +341,44 @@ def _layout(frequency_array, parameters, cache):
         raise WaveformError(f"waveform model '{settings['waveform_approximant']}' gives frequency-domain modes: use "
                             "memory_infer.waveform.frequency_source.signal_parts (the generator does)")
     n_buffer, delta_t = segment_geometry(frequency_array)
-    settings, values, inclination, series = _source(frequency_array, parameters, cache)
-    signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]),
-                         bool(settings["include_memory"]))
-    start_duration = 2.0 / max(settings["minimum_frequency"], 1.0)
-    oscillatory, memory, shift = circular_layout(signal, n_buffer, delta_t,
-                                                 float(settings["memory_taper_duration"]), start_duration)
+    settings, values, inclination, series, plan = _source(frequency_array, parameters, cache)
+    include_memory = bool(settings["include_memory"])
+    signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]), include_memory)
     scale = 1.0 / values["luminosity_distance"]
-    return oscillatory * scale, (memory * scale if settings["include_memory"] else None), shift, delta_t
-
-
-def _parts(frequency_array, parameters, cache):
-    oscillatory, memory, shift, delta_t = _layout(frequency_array, parameters, cache)
-    phase = shift_phase(frequency_array, shift, delta_t)
-    osc = to_frequency_domain(oscillatory, delta_t, shift, frequency_array, phase)
-    if memory is not None:
-        mem = to_frequency_domain(memory, delta_t, shift, frequency_array, phase)
+    taper = float(settings["memory_taper_duration"])
+    if plan is None:  # the analytic test model: its own layout, a half-Hann rise over two cycles at the start
+        start_duration = 2.0 / max(settings["minimum_frequency"], 1.0)
+        oscillatory, memory, shift = circular_layout(signal, n_buffer, delta_t, taper, start_duration)
+        phase = shift_phase(frequency_array, shift, delta_t)
+        osc = to_frequency_domain(oscillatory * scale, delta_t, shift, frequency_array, phase)
+        mem = to_frequency_domain(memory * scale, delta_t, shift, frequency_array, phase)
     else:
+        osc = _oscillatory(frequency_array, signal, plan, values, dict(parameters, **settings), scale)
+        memory_only = TimeSignal(signal.times, np.zeros(signal.times.size, complex), signal.memory,
+                                 signal.early_inspiral_memory)
+        _, memory, shift = circular_layout(memory_only, n_buffer, delta_t, taper, 0.0)
+        mem = to_frequency_domain(memory * scale, delta_t, shift, frequency_array)
+    if not include_memory:
         mem = {"plus": np.zeros_like(osc["plus"]), "cross": np.zeros_like(osc["cross"])}
     return {"plus": osc["plus"], "cross": osc["cross"], "memory_plus": mem["plus"], "memory_cross": mem["cross"]}
 
 
+def _oscillatory(frequency_array, signal: TimeSignal, plan: Conditioning, values, settings, scale) -> dict:
+    """The oscillatory polarizations as bilby's ``lal_binary_black_hole`` gives them (:mod:`.conditioning`)."""
+    if plan.route == LIBRARY:
+        return library_polarizations(frequency_array, values, settings)  # settings hold bilby's own arguments too
+    plus, cross, start = conditioned_series(float(signal.times[0]), signal.oscillatory, plan)
+    spectra = to_frequency_domain(plus - 1j * cross, plan.delta_t, start, frequency_array)
+    keep = frequency_bounds(frequency_array, plan) * scale
+    return {"plus": spectra["plus"] * keep, "cross": spectra["cross"] * keep}
+
+
 def signal_strain(frequency_array, amplitude: float, cache: SourceCache | None = None, **parameters) -> dict:
-    """Frequency-domain ``plus`` and ``cross`` of the oscillatory signal plus ``amplitude`` x memory,
-    from one transform (equal to the sum of :func:`signal_parts`' parts to rounding); parts already in
-    ``cache`` are reused."""
-    if cache is not None:
-        settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
-        values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
-        key = (tuple(values.values()), tuple((k, str(v)) for k, v in settings.items()),
-               frequency_array.size, float(frequency_array[-1]))
-        if key in cache.parts:
-            parts = cache.parts[key]
-            return combined({"plus": parts["plus"], "cross": parts["cross"]},
-                            {"plus": parts["memory_plus"], "cross": parts["memory_cross"]}, amplitude)
-    oscillatory, memory, shift, delta_t = _layout(frequency_array, parameters, cache)
-    if memory is not None and amplitude != 0:
-        oscillatory = combined(oscillatory, memory, amplitude)
-    return to_frequency_domain(oscillatory, delta_t, shift, frequency_array)
+    """Frequency-domain ``plus`` and ``cross`` of the oscillatory signal plus ``amplitude`` x memory (the parts
+    of :func:`signal_parts` combined; parts already in ``cache`` are reused)."""
+    parts = signal_parts(frequency_array, cache=cache, **parameters)
+    return combined({"plus": parts["plus"], "cross": parts["cross"]},
+                    {"plus": parts["memory_plus"], "cross": parts["memory_cross"]}, amplitude)
 
 
 def memory_binary_black_hole(frequency_array, mass_1, mass_2, luminosity_distance, a_1, tilt_1, phi_12,
