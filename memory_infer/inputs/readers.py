@@ -189,15 +189,69 @@ def _scalar_text(value):
     return float(item) if np.isreal(item) else None
 
 
-def _release_group(handle, name: str, analysis: str | None):
+# the analysis folder mode and a release without ``samples_analysis`` take: never a mixed one, then the first model
+# here that this tool runs (precessing models with higher modes first, as catalogs present them)
+ANALYSIS_PREFERENCE = ("IMRPhenomXPHM", "SEOBNRv5PHM", "SEOBNRv4PHM", "IMRPhenomTPHM", "IMRPhenomXHM", "IMRPhenomTHM",
+                       "TaylorT4")
+MIXED_LABELS = ("mixed", "combined")
+
+
+def analysis_model(group) -> str | None:
+    """The waveform model an analysis group names (None when it names none)."""
+    import h5py
+
+    for place in RELEASE_MODEL:
+        if place in group and isinstance(group[place], h5py.Dataset):
+            value = _scalar_text(group[place][()])
+            if isinstance(value, str) and value:
+                return value
+    return None
+
+
+def _mixed(label: str, model: str | None) -> bool:
+    """Whether an analysis says it mixes several models' samples (its label, or a model naming several)."""
+    return (any(word in label.lower() for word in MIXED_LABELS)
+            or (model is not None and (any(word in model.lower() for word in MIXED_LABELS)
+                                       or any(c in model for c in ",;+ "))))
+
+
+def choose_analysis(handle, name: str) -> tuple:
+    """(analysis, why) by the stated rule: a release's only analysis unless it is mixed; among several, never a mixed
+    one nor one without a model, then the first model of ``ANALYSIS_PREFERENCE`` (then the label's order)."""
+    from ..waveform.models import FREQUENCY_DOMAIN, SUPPORTED
+
     analyses = release_analyses(handle)
+    models = {label: analysis_model(handle[label]) for label in analyses}
+    if len(analyses) == 1 and not _mixed(analyses[0], models[analyses[0]]):
+        return analyses[0], "the release's only analysis"
+    runnable = set(SUPPORTED) | set(FREQUENCY_DOMAIN)
+    candidates = [label for label in analyses if not _mixed(label, models[label]) and models[label] in runnable]
+    if not candidates:
+        described = ", ".join(f"{label} ({'mixed models' if _mixed(label, models[label]) else models[label]})"
+                              for label in analyses)
+        _fail(f"catalog release '{name}' holds no analysis of one model this tool runs ({described}); an analysis "
+              "mixing several models' samples is never reweighted with one model")
+    order = {model: rank for rank, model in enumerate(ANALYSIS_PREFERENCE)}
+    chosen = min(candidates, key=lambda label: (order.get(models[label], len(order)), label))
+    skipped = [label for label in analyses if label != chosen]
+    return chosen, (f"chosen by rule among {len(analyses)} analyses (never a mixed one; then the order "
+                    f"{', '.join(ANALYSIS_PREFERENCE)}); not taken: {', '.join(skipped)}")
+
+
+def _release_group(handle, name: str, analysis: str | None, why: list | None = None):
+    """(group, analysis) of the named analysis, or of the one the rule chooses; ``why`` receives the reason."""
+    analyses = release_analyses(handle)
+    reason = "[evidence] samples_analysis"
     if analysis is None:
-        if len(analyses) != 1:
-            _fail(f"catalog release '{name}' holds {len(analyses)} analyses ({', '.join(analyses)}); choose one with "
-                  "[evidence] samples_analysis")
-        analysis = analyses[0]
+        analysis, reason = choose_analysis(handle, name)
     if analysis not in analyses:
         _fail(f"catalog release '{name}' has no analysis '{analysis}'; it holds {', '.join(analyses)}")
+    model = analysis_model(handle[analysis])
+    if _mixed(analysis, model):
+        _fail(f"analysis '{analysis}' of catalog release '{name}' mixes several models' samples"
+              f"{f' ({model})' if model else ''}; it is never reweighted with one model: choose one model's analysis")
+    if why is not None:
+        why.append(reason)
     return handle[analysis], analysis
 
 

@@ -27,7 +27,12 @@ PLACES = {
     "waveform_model": ("approximant", META + "approximant", CONFIG + "waveform-approximant",
                        CONFIG + "waveform_approximant"),
     "detectors": (CONFIG + "detectors",),
+    "tukey_roll_off": (CONFIG + "tukey-roll-off", CONFIG + "tukey_roll_off"),
+    "mode_array": (CONFIG + "mode-array", CONFIG + "mode_array"),
+    "waveform_arguments": (CONFIG + "waveform-arguments-dict", CONFIG + "waveform_arguments_dict"),
 }
+TEXT_SETTINGS = ("waveform_model", "mode_array", "waveform_arguments")
+EMPTY_TEXT = ("", "none", "None", "{}", "[]")
 DEFAULT_POST_TRIGGER = 2.0  # s, the usual post-trigger duration when the release does not give one
 ORIGIN_USER = "configuration"
 
@@ -72,7 +77,9 @@ def read_release_settings(path: str, analysis: str | None = None) -> dict:
     found = {}
     try:
         with h5py.File(path, "r") as handle:
-            group, analysis = _release_group(handle, name, analysis)
+            why = []
+            group, analysis = _release_group(handle, name, analysis, why)
+            found["analysis"] = (analysis, f"{name}: {why[0]}")
             for setting, places in PLACES.items():
                 for place in places:
                     if place in group and isinstance(group[place], h5py.Dataset):
@@ -81,8 +88,8 @@ def read_release_settings(path: str, analysis: str | None = None) -> dict:
                             value = _detector_list(raw)
                         elif setting in ("minimum_frequency", "maximum_frequency"):
                             value = _per_detector(raw)
-                        elif setting == "waveform_model":
-                            value = str(raw).strip() if raw is not None else None
+                        elif setting in TEXT_SETTINGS:
+                            value = str(raw).strip() if raw is not None and str(raw).strip() not in EMPTY_TEXT else None
                         else:
                             value = _scalar_text(np.asarray([raw]))
                             value = float(value) if isinstance(value, float) else None
@@ -103,6 +110,17 @@ def read_release_settings(path: str, analysis: str | None = None) -> dict:
     except OSError:
         raise MemoryInferError(f"catalog release '{name}' is not a readable HDF5 file") from None
     return found
+
+
+def _mode_array(text: str, where: str) -> tuple:
+    """A release's mode array (``[[2, 2], [2, -2], ...]``) as ``((l, m), ...)``; one sentence when it is not one."""
+    try:
+        modes = tuple((int(l), int(m)) for l, m in ast.literal_eval(text))
+    except (ValueError, SyntaxError, TypeError):
+        raise MemoryInferError(f"the release's mode array '{text}' ({where}) is not a list of [l, m] pairs") from None
+    if not modes or any(l < 2 or abs(m) > l for l, m in modes):
+        raise MemoryInferError(f"the release's mode array '{text}' ({where}) names no valid (l, m) mode")
+    return modes
 
 
 def _band_value(value, detectors, pick):
@@ -135,6 +153,19 @@ def apply_release_settings(settings, found: dict):
     take("data", "minimum_frequency", "minimum_frequency", lambda v: _band_value(v, detectors, max))
     take("data", "maximum_frequency", "maximum_frequency", lambda v: _band_value(v, detectors, min))
     take("model", "reference_frequency", "reference_frequency")
+    take("data", "window_roll_off", "tukey_roll_off")
+    if "analysis" in found:
+        origins["analysis"] = f"{found['analysis'][0]} ({found['analysis'][1]})"
+    if "waveform_arguments" in found:
+        text, where = found["waveform_arguments"]
+        raise MemoryInferError(f"the release's waveform arguments {text} ({where}) change the model, and this tool "
+                               "cannot yet pass them to both the oscillatory signal and the memory's modes; this "
+                               "release is refused rather than reweighted with another model")
+    if "modes" in given.get("model", []):
+        origins["mode_array"] = ORIGIN_USER
+    elif "mode_array" in found:
+        changes["model"]["modes"] = _mode_array(*found["mode_array"])
+        origins["mode_array"] = found["mode_array"][1]
     if "start_time" in given.get("data", []):
         origins["start_time"] = ORIGIN_USER
     elif "trigger_time" in found:

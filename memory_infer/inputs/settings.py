@@ -66,6 +66,8 @@ class ModelSettings:
         }
         if self.modes:
             arguments["mode_list"] = [tuple(int(x) for x in mode) for mode in self.modes]
+        if data.maximum_frequency is not None:  # bilby's model takes it too (it sets a time-domain model's step)
+            arguments["maximum_frequency"] = float(data.maximum_frequency)
         return arguments
 
 

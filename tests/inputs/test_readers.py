@@ -163,8 +163,8 @@ def test_release_reader_takes_the_analysis_its_psds_and_settings(tmp_path):
     assert release["analysis"] == "C01:IMRPhenomTPHM" and len(release["samples"]) == 40
     assert release["reference_frequency"] == 15.0 and release["waveform_model"] == "IMRPhenomTPHM"
     assert sorted(release["psds"]) == ["H1", "L1"] and release["psds"]["H1"][0, 1] == 2e-46
-    with pytest.raises(MemoryInferError, match="holds 2 analyses .*samples_analysis"):
-        read_samples(str(path))
+    # two analyses and none named: the rule takes the precessing model (IMRPhenomTPHM before IMRPhenomTHM)
+    assert len(read_samples(str(path))) == 40 and read_release(str(path))["analysis"] == "C01:IMRPhenomTPHM"
     with pytest.raises(MemoryInferError, match="no analysis 'C02:Other'; it holds C01:IMRPhenomTHM"):
         read_release(str(path), "C02:Other")
     single = write_release(tmp_path / "single.h5", analyses=("C01:IMRPhenomTHM",))
@@ -210,3 +210,36 @@ def test_release_without_the_detectors_psd_gets_one_sentence(tmp_path, capsys):
     assert main(["evidence", str(tmp_path / "v.toml"), "--outdir", str(tmp_path / "out")]) != 0
     error = capsys.readouterr().err
     assert "holds no PSD for V1" in error and "Traceback" not in error
+
+
+def test_three_analysis_release_by_pesummarys_writer_never_reweights_the_mixed_one(tmp_path):
+    # reference library: pesummary's own writer (a release with one analysis per model and a mixed one, as catalogs
+    # publish them)
+    import logging
+
+    import pandas as pd
+    from pesummary.gw.file.formats.pesummary import write_pesummary
+
+    from memory_infer.common.errors import MemoryInferError
+    from memory_infer.inputs.readers import read_release
+    from memory_infer.inputs.release_settings import read_release_settings
+
+    logging.getLogger("PESummary").setLevel(logging.ERROR)
+    rng = np.random.default_rng(5)
+    table = pd.DataFrame({"mass_1": 36 + rng.normal(0, 0.5, 30), "mass_2": 29 + rng.normal(0, 0.5, 30),
+                          "luminosity_distance": 400 + rng.normal(0, 20, 30), "log_likelihood": rng.normal(50, 1, 30)})
+    labels = ["C01:IMRPhenomXPHM", "C01:SEOBNRv4PHM", "C01:Mixed"]
+    models = {"C01:IMRPhenomXPHM": "IMRPhenomXPHM", "C01:SEOBNRv4PHM": "SEOBNRv4PHM",
+              "C01:Mixed": "IMRPhenomXPHM, SEOBNRv4PHM"}
+    from pesummary.utils.samples_dict import MultiAnalysisSamplesDict
+
+    analyses = MultiAnalysisSamplesDict({label: {c: table[c].to_numpy() for c in table.columns} for label in labels})
+    write_pesummary(analyses, outdir=str(tmp_path), approximant=models, hdf5=True, filename="three.h5", file_kwargs={label: {"sampler": {}, "meta_data": {
+                        "f_ref": 20.0, "approximant": models[label]}} for label in labels})
+    path = str(tmp_path / "three.h5")
+    assert read_release(path)["analysis"] == "C01:IMRPhenomXPHM"  # the rule: never mixed, XPHM first
+    found = read_release_settings(path)
+    assert found["analysis"][0] == "C01:IMRPhenomXPHM" and "not taken: C01:Mixed, C01:SEOBNRv4PHM" in found["analysis"][1]
+    with pytest.raises(MemoryInferError, match="mixes several models' samples"):
+        read_release(path, "C01:Mixed")
+    assert read_release(path, "C01:SEOBNRv4PHM")["waveform_model"] == "SEOBNRv4PHM"

@@ -84,3 +84,36 @@ def test_a_model_this_tool_does_not_run_is_one_sentence(release, tmp_path):
     found["waveform_model"] = ("NRSur7dq4", "release.h5: C01/approximant")
     with pytest.raises(MemoryInferError, match="the release's model 'NRSur7dq4' .* is not one this tool runs"):
         apply_release_settings(_config({}), found)
+
+
+def _release_with(folder, extra: str) -> str:
+    """A one-analysis release by pesummary's writer whose run configuration adds ``extra`` lines."""
+    from pesummary.gw.file.formats.pesummary import write_pesummary
+
+    (folder / "config.ini").write_text(CONFIG + extra)
+    samples = np.column_stack([np.full(5, 36.0), np.full(5, 29.0), np.zeros(5)])
+    write_pesummary(["mass_1", "mass_2", "log_likelihood"], samples, outdir=str(folder), label="C01:IMRPhenomTPHM",
+                    config=[str(folder / "config.ini")], hdf5=True, filename="extra.h5",
+                    file_kwargs={"C01:IMRPhenomTPHM": {"sampler": {}, "meta_data": {"f_ref": 50.0}}})
+    return str(folder / "extra.h5")
+
+
+def test_the_releases_window_and_mode_array_are_followed_and_recorded(tmp_path):
+    # reference library: pesummary's writer stores the run's configuration (bilby_pipe's keys tukey-roll-off, mode-array)
+    path = _release_with(tmp_path, "tukey-roll-off = 0.4\nmode-array = [[2, 2], [2, -2], [3, 3], [3, -3]]\n")
+    settings, origins = apply_release_settings(_config({}), read_release_settings(path))
+    assert settings.data.window_roll_off == 0.4
+    assert settings.model.modes == ((2, 2), (2, -2), (3, 3), (3, -3))
+    assert origins["tukey_roll_off"].endswith("config_file/config/tukey-roll-off")
+    assert origins["mode_array"].endswith("config_file/config/mode-array")
+    assert origins["analysis"].startswith("C01:IMRPhenomTPHM (extra.h5: the release's only analysis")
+    arguments = settings.model.waveform_arguments(settings.data)  # the band's upper edge reaches bilby's model too
+    assert arguments["mode_list"] == [(2, 2), (2, -2), (3, 3), (3, -3)] and arguments["maximum_frequency"] == 800.0
+
+
+def test_waveform_arguments_the_tool_cannot_pass_on_refuse_the_release(tmp_path):
+    path = _release_with(tmp_path, "waveform-arguments-dict = {'PhenomXPrecVersion': 320}\n")
+    with pytest.raises(MemoryInferError, match="waveform arguments .*PhenomXPrecVersion.* refused"):
+        apply_release_settings(_config({}), read_release_settings(path))
+    empty = _release_with(tmp_path, "waveform-arguments-dict = None\n")  # bilby_pipe's default: nothing to pass on
+    apply_release_settings(_config({}), read_release_settings(empty))
