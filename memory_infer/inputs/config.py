@@ -33,7 +33,8 @@ EVIDENCE_SCHEMA = {
     "data": _section(DataSettings, {
         "kind": str, "detectors": list, "noise_curve": str, "noise_curves": dict, "noise": str, "seed": int,
         "duration": NUMBER, "sampling_rate": NUMBER, "start_time": NUMBER, "minimum_frequency": NUMBER,
-        "maximum_frequency": NUMBER, "files": dict, "window_roll_off": NUMBER}),
+        "maximum_frequency": NUMBER, "files": dict, "window_roll_off": NUMBER,
+        "resampling": str}),
     "injection": {"*": (NUMBER, None)},
     "model": _section(ModelSettings, {
         "approximant": str, "reference_frequency": NUMBER, "minimum_frequency": NUMBER,
@@ -186,6 +187,10 @@ def check_detector_keys(config: dict) -> None:
         if curve not in NOISE_CURVES:
             raise MemoryInferError(f"unknown noise curve '{curve}' for {name}; choose one of {', '.join(NOISE_CURVES)}")
     per_interferometer(config["calibration"]["envelope_files"], detectors, "envelope_files in [calibration]")
+    from .open_data import RESAMPLING
+
+    if data["resampling"] not in RESAMPLING:
+        raise MemoryInferError(f"key 'resampling' in [data] must be one of {', '.join(repr(r) for r in RESAMPLING)}")
 
 
 def check_calibration(settings: dict) -> None:

@@ -132,12 +132,13 @@ def file_detectors(data, sample_psds: dict | None = None, samples_name: str | No
     from the samples file (a catalog release's ``psds`` group, ``sample_psds``)."""
     return detectors_from_files(data.files, float(data.sampling_rate), float(data.duration), float(data.start_time),
                                 float(data.minimum_frequency), data.maximum_frequency, float(data.window_roll_off),
-                                data.directory, sample_psds or {}, samples_name)
+                                data.directory, sample_psds or {}, samples_name, data.resampling)
 
 
 def detectors_from_files(files: dict, sampling_rate: float, duration: float, start_time: float,
                          minimum_frequency: float, maximum_frequency: float | None = None, roll_off: float = 0.2,
-                         directory: str = ".", sample_psds: dict | None = None, samples_name: str | None = None):
+                         directory: str = ".", sample_psds: dict | None = None, samples_name: str | None = None,
+                         resampling: str = "fir with margin"):
     """bilby interferometers with strain and PSD read from files, checked against the segment.
 
     ``files`` maps a detector name to ``{"strain": path, "psd": path}`` (or ``"psd_from_strain"``: off-source
@@ -169,7 +170,7 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
         if not isinstance(entry, dict) or "strain" not in entry:
             raise MemoryInferError(f"[data.files.{detector.name}] needs a 'strain' file")
         path = os.path.join(directory, entry["strain"])
-        strain, psd_entry, found = file_segment(path, entry, rate, duration, start)
+        strain, psd_entry, found = file_segment(path, entry, rate, duration, start, resampling)
         notes.extend(f"{detector.name}: {note}" for note in found)
         detector.strain_data.roll_off = float(roll_off)
         detector.strain_data.set_from_time_domain_strain(strain, sampling_frequency=rate, duration=duration,
@@ -207,7 +208,8 @@ def detectors_from_files(files: dict, sampling_rate: float, duration: float, sta
     return detectors
 
 
-def file_segment(path: str, entry: dict, rate: float, duration: float, start: float):
+def file_segment(path: str, entry: dict, rate: float, duration: float, start: float,
+                 resampling: str = "fir with margin"):
     """(segment strain, (frequencies, PSD) when ``psd_off_source`` asks for one else None, notes) from a strain
     file as published: cut, decimated and gap-checked (:mod:`memory_infer.inputs.open_data`)."""
     from .open_data import off_source_psd, segment_from_file
@@ -218,7 +220,7 @@ def file_segment(path: str, entry: dict, rate: float, duration: float, start: fl
                                                    entry.get("welch_segment"), float(entry.get("welch_overlap", 0.5)),
                                                    entry.get("channel"))
         psd = (frequencies, values)
-    strain, notes = segment_from_file(path, rate, start, duration, entry.get("channel"))
+    strain, notes = segment_from_file(path, rate, start, duration, entry.get("channel"), resampling=resampling)
     if psd is not None:
         notes.append(note)
     for line in notes:

@@ -78,6 +78,21 @@ def decimation_factor(file_rate: float, rate: float, name: str) -> int:
     return int(round(factor))
 
 
+RESAMPLING = ("fir with margin", "gwpy", "lal")
+
+
+def lal_resample(strain: np.ndarray, file_rate: float, rate: float) -> np.ndarray:
+    """lal's ``ResampleREAL8TimeSeries`` (a low-pass Butterworth filter, then every ``factor``-th sample), as
+    bilby_pipe's default resampling applies it to the analysis segment alone."""
+    import lal
+
+    series = lal.CreateREAL8TimeSeries("strain", lal.LIGOTimeGPS(0), 0.0, 1.0 / file_rate, lal.DimensionlessUnit,
+                                       strain.size)
+    series.data.data = np.asarray(strain, dtype=float)
+    lal.ResampleREAL8TimeSeries(series, float(1.0 / rate))
+    return np.array(series.data.data)
+
+
 def decimate(strain: np.ndarray, factor: int) -> np.ndarray:
     """Anti-aliased decimation by a whole ``factor`` (zero-phase FIR, see the module text)."""
     if factor == 1:
@@ -88,10 +103,16 @@ def decimate(strain: np.ndarray, factor: int) -> np.ndarray:
 
 
 def cut_stretch(strain, file_rate: float, file_start: float, rate: float, start: float, duration: float,
-                name: str, pad: float = PAD_SECONDS) -> np.ndarray:
+                name: str, pad: float = PAD_SECONDS, resampling: str = RESAMPLING[0]) -> np.ndarray:
     """``duration`` seconds from ``start`` at ``rate``, cut from a series starting at ``file_start`` at
-    ``file_rate`` (decimated when that is higher), with the filter margin taken from the file where it exists."""
+    ``file_rate`` (decimated when that is higher): by default with the filter margin taken from the file where it
+    exists; ``resampling = "gwpy"`` or ``"lal"`` resamples the stretch alone, as bilby_pipe does (gwpy's
+    ``TimeSeries.resample`` with its defaults, or :func:`lal_resample`)."""
     factor = decimation_factor(file_rate, rate, name)
+    if resampling not in RESAMPLING:
+        raise MemoryInferError(f"unknown resampling '{resampling}'; choose one of {', '.join(RESAMPLING)}")
+    if resampling != RESAMPLING[0]:
+        pad = 0.0
     file_end = file_start + strain.size / file_rate
     tolerance = 0.5 / file_rate
     if start < file_start - tolerance or start + duration > file_end + tolerance:
@@ -105,7 +126,14 @@ def cut_stretch(strain, file_rate: float, file_start: float, rate: float, start:
     margin = int(round(pad * rate)) * factor  # a whole number of output samples keeps the decimation phase
     low, high = max(0, first - margin), min(strain.size, first + count + margin)
     low = first - ((first - low) // factor) * factor
-    reduced = decimate(strain[low:high], factor)
+    if factor == 1 or resampling == RESAMPLING[0]:
+        reduced = decimate(strain[low:high], factor)
+    elif resampling == "lal":
+        reduced = lal_resample(strain[low:high], file_rate, rate)
+    else:  # gwpy's TimeSeries.resample for an integer factor: scipy's decimate with its default FIR order (20 x factor)
+        from scipy.signal import decimate as scipy_decimate
+
+        reduced = scipy_decimate(strain[low:high], factor, ftype="fir", zero_phase=True)
     skip = (first - low) // factor
     out = reduced[skip:skip + count // factor]
     if out.size != count // factor:
@@ -115,7 +143,7 @@ def cut_stretch(strain, file_rate: float, file_start: float, rate: float, start:
 
 
 def segment_from_file(path: str, rate: float, start: float, duration: float, channel=None,
-                      psd_stretch: tuple | None = None):
+                      psd_stretch: tuple | None = None, resampling: str = RESAMPLING[0]):
     """(segment strain at ``rate``, notes) from a strain file of any length and a whole-multiple rate."""
     name = os.path.basename(path)
     strain, file_rate, file_start = read_strain(path, channel)
@@ -123,12 +151,13 @@ def segment_from_file(path: str, rate: float, start: float, duration: float, cha
     if psd_stretch is not None:
         stretches["PSD stretch"] = psd_stretch
     notes = check_gaps(path, stretches)
-    segment = cut_stretch(strain, file_rate, file_start, rate, start, duration, name)
+    segment = cut_stretch(strain, file_rate, file_start, rate, start, duration, name, resampling=resampling)
+    how = {"lal": "lal's ResampleREAL8TimeSeries on the segment alone",
+           "gwpy": "gwpy's resample (zero-phase FIR, order 20 per unit factor) on the segment alone"}.get(
+        resampling, f"zero-phase FIR, order {DECIMATION_ORDER_PER_FACTOR} per unit factor")
     if file_rate > rate or strain.size != segment.size:
         notes.append(f"strain file '{name}' ({strain.size / file_rate:g} s at {file_rate:g} Hz): {duration:g} s "
-                     f"from {start:.3f} cut" + (f", decimated to {rate:g} Hz (zero-phase FIR, order "
-                                                f"{DECIMATION_ORDER_PER_FACTOR} per unit factor)"
-                                                if file_rate > rate else ""))
+                     f"from {start:.3f} cut" + (f", decimated to {rate:g} Hz ({how})" if file_rate > rate else ""))
     return segment, notes
 
 

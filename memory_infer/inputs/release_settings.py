@@ -28,10 +28,11 @@ PLACES = {
                        CONFIG + "waveform_approximant"),
     "detectors": (CONFIG + "detectors",),
     "tukey_roll_off": (CONFIG + "tukey-roll-off", CONFIG + "tukey_roll_off"),
+    "resampling_method": (CONFIG + "resampling-method", CONFIG + "resampling_method"),
     "mode_array": (CONFIG + "mode-array", CONFIG + "mode_array"),
     "waveform_arguments": (CONFIG + "waveform-arguments-dict", CONFIG + "waveform_arguments_dict"),
 }
-TEXT_SETTINGS = ("waveform_model", "mode_array", "waveform_arguments")
+TEXT_SETTINGS = ("waveform_model", "mode_array", "waveform_arguments", "resampling_method")
 EMPTY_TEXT = ("", "none", "None", "{}", "[]")
 DEFAULT_POST_TRIGGER = 2.0  # s, the usual post-trigger duration when the release does not give one
 ORIGIN_USER = "configuration"
@@ -112,6 +113,13 @@ def read_release_settings(path: str, analysis: str | None = None) -> dict:
     return found
 
 
+def _resampling(method: str) -> str:
+    """The release's resampling method (bilby_pipe's ``lal`` or ``gwpy``, applied to the segment alone)."""
+    if str(method).lower() not in ("lal", "gwpy"):
+        raise MemoryInferError(f"the release's resampling method '{method}' is not one this tool follows (lal, gwpy)")
+    return str(method).lower()
+
+
 def _mode_array(text: str, where: str) -> tuple:
     """A release's mode array (``[[2, 2], [2, -2], ...]``) as ``((l, m), ...)``; one sentence when it is not one."""
     try:
@@ -154,6 +162,7 @@ def apply_release_settings(settings, found: dict):
     take("data", "maximum_frequency", "maximum_frequency", lambda v: _band_value(v, detectors, min))
     take("model", "reference_frequency", "reference_frequency")
     take("data", "window_roll_off", "tukey_roll_off")
+    take("data", "resampling", "resampling_method", _resampling)
     if "analysis" in found:
         origins["analysis"] = f"{found['analysis'][0]} ({found['analysis'][1]})"
     if "waveform_arguments" in found:

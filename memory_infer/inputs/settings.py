@@ -37,6 +37,7 @@ class DataSettings:
     maximum_frequency: float | None = None
     files: dict = field(default_factory=dict)
     window_roll_off: float = 0.2
+    resampling: str = "fir with margin"  # or "lal" / "gwpy": the segment alone, as bilby_pipe resamples it
     directory: str = "."
 
 

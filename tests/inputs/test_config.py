@@ -41,3 +41,12 @@ def test_the_readme_input_example_is_a_valid_configuration(tmp_path):
     assert config["evidence"]["samples_analysis"] == "C01:IMRPhenomTHM"
     assert config["data"]["files"]["L1"]["psd_from_samples"] is True
     assert config["calibration"]["kind"] == "constant" and config["model"]["reference_frequency"] is None
+
+
+def test_an_unknown_resampling_is_one_sentence():
+    from memory_infer.common.errors import MemoryInferError
+    from memory_infer.inputs.config import evidence_settings
+
+    raw = {"event": {"label": "x"}, "data": {"kind": "files", "files": {"H1": {"strain": "a"}}, "resampling": "cubic"}}
+    with pytest.raises(MemoryInferError, match="key 'resampling' in \\[data\\] must be one of"):
+        evidence_settings(raw, "test", ".")

@@ -81,3 +81,27 @@ def test_stretch_outside_the_file_or_off_rate_is_refused(tmp_path):
         segment_from_file(str(path), 1500.0, FILE_START + 2.0, 4.0)
     with pytest.raises(MemoryInferError, match="fewer than two 4 s Welch segments"):
         off_source_psd(str(path), 1024.0, FILE_START + 2.0, 4.0)
+
+
+def test_the_segment_resampled_alone_as_bilby_pipe_does(tmp_path):
+    # reference libraries: lal's ResampleREAL8TimeSeries on the segment alone (bilby_pipe's default "lal" method) and
+    # gwpy's TimeSeries.resample with its defaults on the segment alone (bilby_pipe's "gwpy" method)
+    import lal
+    from gwpy.timeseries import TimeSeries
+
+    from memory_infer.inputs.open_data import cut_stretch
+
+    rng = np.random.default_rng(8)
+    file_rate, rate, start = 4096.0, 1024.0, 1_000_000_000.0
+    strain = rng.normal(size=int(32 * file_rate))
+    first = int(14 * file_rate)
+    alone = strain[first:first + int(4 * file_rate)]
+    ours = cut_stretch(strain, file_rate, start, rate, start + 14, 4.0, "f", resampling="lal")
+    series = lal.CreateREAL8TimeSeries("x", lal.LIGOTimeGPS(0), 0.0, 1 / file_rate, lal.DimensionlessUnit, alone.size)
+    series.data.data = alone.copy()
+    lal.ResampleREAL8TimeSeries(series, 1 / rate)
+    assert np.array_equal(ours, series.data.data)
+    gwpy_like = cut_stretch(strain, file_rate, start, rate, start + 14, 4.0, "f", resampling="gwpy")
+    assert np.array_equal(gwpy_like, TimeSeries(alone, sample_rate=file_rate).resample(rate).value)
+    with pytest.raises(MemoryInferError, match="unknown resampling"):
+        cut_stretch(strain, file_rate, start, rate, start + 14, 4.0, "f", resampling="cubic")

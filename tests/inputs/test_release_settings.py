@@ -117,3 +117,15 @@ def test_waveform_arguments_the_tool_cannot_pass_on_refuse_the_release(tmp_path)
         apply_release_settings(_config({}), read_release_settings(path))
     empty = _release_with(tmp_path, "waveform-arguments-dict = None\n")  # bilby_pipe's default: nothing to pass on
     apply_release_settings(_config({}), read_release_settings(empty))
+
+
+def test_the_releases_resampling_method_is_followed(tmp_path):
+    # reference library: bilby_pipe's resampling-method key (lal or gwpy), as pesummary stores the run's configuration
+    path = _release_with(tmp_path, "resampling-method = lal\n")
+    settings, origins = apply_release_settings(_config({}), read_release_settings(path))
+    assert settings.data.resampling == "lal" and origins["resampling_method"].endswith("resampling-method")
+    kept, origins = apply_release_settings(_config({"data": {"resampling": "gwpy"}}), read_release_settings(path))
+    assert kept.data.resampling == "gwpy" and origins["resampling_method"] == "configuration"
+    odd = _release_with(tmp_path, "resampling-method = cubic\n")
+    with pytest.raises(MemoryInferError, match="resampling method 'cubic'"):
+        apply_release_settings(_config({}), read_release_settings(odd))
