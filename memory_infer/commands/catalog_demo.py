@@ -19,8 +19,7 @@ DEMO_EVENTS = [
     ("fulmar-05", (36.0, 30.0), 300.0, 1.3, 0.0),
 ]
 FILE_RATE, FILE_SECONDS, RATE, DURATION, POST_TRIGGER = 4096.0, 32, 1024.0, 4.0, 2.0
-DEMO_LIVE_POINTS = 16  # short bilby runs: chirp mass and distance free
-DEMO_MINIMUM_EFFECTIVE_SAMPLES = 15.0  # the short runs' posteriors hold some 20 samples
+DEMO_LIVE_POINTS = 100  # short bilby runs (chirp mass and distance free): some 110-130 posterior samples each
 SKY = {"ra": 1.3, "dec": -0.2, "psi": 0.5, "phase": 0.8}
 RUN_CONFIG = """[config]
 trigger-time = {trigger}
@@ -178,9 +177,7 @@ def demo_catalog(folder: str, live_points: int | None = DEMO_LIVE_POINTS, events
     catalog file's path."""
     os.makedirs(folder, exist_ok=True)
     lines = ["# invented demo catalog: releases and strain made by the demo itself", "[catalog]",
-             "name = \"invented demo catalog\"", "",
-             "# the demo's short runs (16 live points) give only some 20 posterior samples per event", "[defaults.evidence]",
-             f"minimum_effective_samples = {DEMO_MINIMUM_EFFECTIVE_SAMPLES}", ""]
+             "name = \"invented demo catalog\"", ""]
     import concurrent.futures
 
     with concurrent.futures.ProcessPoolExecutor(max_workers=max(1, int(workers))) as pool:
@@ -191,7 +188,10 @@ def demo_catalog(folder: str, live_points: int | None = DEMO_LIVE_POINTS, events
     for event, (label, masses, distance, inclination, amplitude) in zip(made, events):
         strain = ", ".join(f"{d} = \"{f}\"" for d, f in event["strain"].items())
         lines += ["[[events]]", f"label = \"{label}\"", f"release = \"{event['release']}\"",
-                  f"strain = {{ {strain} }}", f"# injected memory amplitude {amplitude:g}", ""]
+                  f"strain = {{ {strain} }}", f"# injected memory amplitude {amplitude:g}"]
+        if amplitude == 0:  # injected without memory: a control, kept out of the sums and shown apart
+            lines += ["overrides = { event = { control = true } }"]
+        lines += [""]
     path = os.path.join(folder, "catalog.toml")
     with open(path, "w") as handle:
         handle.write("\n".join(lines))
