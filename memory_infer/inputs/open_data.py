@@ -14,7 +14,7 @@ import os
 import numpy as np
 
 from ..common.errors import MemoryInferError
-from .readers import read_strain
+from .readers import read_strain_stretch
 
 logger = logging.getLogger("memory_infer")
 
@@ -142,11 +142,21 @@ def cut_stretch(strain, file_rate: float, file_start: float, rate: float, start:
     return out
 
 
+def _covers(name: str, file_start: float, file_end: float, start: float, duration: float, file_rate: float) -> None:
+    """One sentence when a strain file does not cover the stretch from ``start`` for ``duration`` seconds."""
+    tolerance = 0.5 / file_rate
+    if start < file_start - tolerance or start + duration > file_end + tolerance:
+        raise MemoryInferError(f"strain file '{name}' covers {file_start:.3f} to {file_end:.3f}, not the stretch "
+                               f"{start:.3f} to {start + duration:.3f}")
+
+
 def segment_from_file(path: str, rate: float, start: float, duration: float, channel=None,
                       psd_stretch: tuple | None = None, resampling: str = RESAMPLING[0]):
     """(segment strain at ``rate``, notes) from a strain file of any length and a whole-multiple rate."""
     name = os.path.basename(path)
-    strain, file_rate, file_start = read_strain(path, channel)
+    strain, file_rate, file_start, whole_start, whole_end = read_strain_stretch(
+        path, channel, (start - PAD_SECONDS - 1.0, start + duration + PAD_SECONDS + 1.0))
+    _covers(name, whole_start, whole_end, start, duration, file_rate)
     stretches = {"analysis segment": (start, start + duration)}
     if psd_stretch is not None:
         stretches["PSD stretch"] = psd_stretch
@@ -156,7 +166,7 @@ def segment_from_file(path: str, rate: float, start: float, duration: float, cha
            "gwpy": "gwpy's resample (zero-phase FIR, order 20 per unit factor) on the segment alone"}.get(
         resampling, f"zero-phase FIR, order {DECIMATION_ORDER_PER_FACTOR} per unit factor")
     if file_rate > rate or strain.size != segment.size:
-        notes.append(f"strain file '{name}' ({strain.size / file_rate:g} s at {file_rate:g} Hz): {duration:g} s "
+        notes.append(f"strain file '{name}' ({whole_end - whole_start:g} s at {file_rate:g} Hz): {duration:g} s "
                      f"from {start:.3f} cut" + (f", decimated to {rate:g} Hz ({how})" if file_rate > rate else ""))
     return segment, notes
 
@@ -180,8 +190,7 @@ def off_source_psd(path: str, rate: float, start: float, duration: float, psd_du
     from scipy.signal import welch
 
     name = os.path.basename(path)
-    strain, file_rate, file_start = read_strain(path, channel)
-    file_end = file_start + strain.size / file_rate
+    _, file_rate, _, file_start, file_end = read_strain_stretch(path, channel, (start, start))  # the file's extent
     segment = float(segment or duration)
     low, high = off_source_stretch(file_start, file_end, start, duration, float(psd_duration or 32 * duration))
     usable = np.floor((high - low) * rate + 1e-6) / rate
@@ -193,7 +202,9 @@ def off_source_psd(path: str, rate: float, start: float, duration: float, psd_du
     else:
         high = low + usable
     check_gaps(path, {"PSD stretch": (low, high)})
-    data = cut_stretch(strain, file_rate, file_start, rate, low, high - low, name)
+    strain, file_rate, part_start, _, _ = read_strain_stretch(path, channel, (low - PAD_SECONDS - 1.0,
+                                                                             high + PAD_SECONDS + 1.0))
+    data = cut_stretch(strain, file_rate, part_start, rate, low, high - low, name)
     per_segment = int(round(segment * rate))
     step = per_segment - int(overlap * per_segment)
     frequencies, psd = welch(data, fs=rate, nperseg=per_segment, noverlap=int(overlap * per_segment))
