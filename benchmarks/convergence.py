@@ -33,10 +33,10 @@ def main(cases=None):
     worst = 0.0
     for case in cases:
         approximant, (m1, m2, s1, s2) = t.CASES[case]
-        for rate in (1024.0, 2048.0, 4096.0):
+        for rate in t.rates(case):
             series = generate_modes(approximant, m1, m2, 100.0, 1 / rate, 20.0, s1, s2, 20.0)
             ours = t.direction_memory(series)
-            expected = t.on_times(series.times, case)
+            expected = t.expected_memory(series, case)
             final = abs(ours[-1]) / abs(expected[-1]) - 1
             snr = t.network_snr(series.times, ours, rate) / t.network_snr(series.times, expected, rate) - 1
             worst = max(worst, abs(final), abs(snr))

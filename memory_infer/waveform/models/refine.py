@@ -9,10 +9,13 @@ step thus follows from the binary itself: its mass sets where the inspiral outru
 frequency ends the ladder. Only the late part is sampled finely; the oscillatory strain stays at the
 data's rate.
 
-Aligned spins on a data grid of at most ``INTERPOLATION_STEP`` M: each level interpolates the data-rate modes
-(cubic splines of amplitude and phase, the phase continued through the ringdown by the (2, 2) mode's, see
-:func:`interpolated_level`) over the merger only; no new model call. The convergence table
-(benchmarks/convergence.py, tests/waveform/models/test_refine.py) checks it against modes 16 times finer.
+Aligned spins on a data grid of at most ``INTERPOLATION_STEP`` M (``INSPIRAL_STEP`` M for models that end loud,
+inspiral-only ones such as TaylorT4): each level interpolates the data-rate modes (sixth-order Lagrange in
+amplitude and phase, the phase continued through the ringdown by the (2, 2) mode's, see
+:func:`interpolated_level`) over the merger only; no new model call. The finest level reaches the modes' last
+sample (end-biased stencils on the last two intervals), so a model still loud there keeps its last flux. The
+convergence table (benchmarks/convergence.py, tests/waveform/models/test_refine.py) checks it against modes 16
+times finer.
 
 Coarser grids (light binaries at low rates) and precessing spins call the model again. Each such level is
 the same binary from a later start frequency (``START_FRACTION`` of the (2, 2) frequency where it is first
@@ -44,6 +47,9 @@ LEVEL_FACTOR = 4  # each level's step is a quarter of the one before: fewer mode
 PRECESSING_STEP = 0.35  # in M: resolves a (2, 2) ringdown up to M omega = 0.85 within PHASE_STEP_LIMIT
 INTERPOLATION_STEP = 9.0  # in M: aligned-spin data grids at most this coarse are refined by interpolation (measured:
 # 12 M_sun at 2048 Hz, a step of 8.3 M, within 3e-4 of the converged memory; 16.5 M lost 1%)
+LOUD_END = 0.5  # a (2, 2) mode above half its peak at the last sample: the model ends loud (inspiral only)
+INSPIRAL_STEP = 40.0  # in M: the same for models that end loud, their last (2, 2) frequency near M f = 0.022 (measured:
+# TaylorT4 2 + 2 M_sun at 1024 Hz, a step of 50 M, within 5e-4 of the converged memory; 58 M lost 26%)
 _COS_LIMIT, _COS_HALF_LIMIT = float(np.cos(PHASE_STEP_LIMIT)), float(np.cos(PHASE_STEP_LIMIT / 2))
 PRECESSING_SAMPLES = 1_000_000  # longer full-length precessing levels are refused: ~1 GB and ~9 s at the limit
 
@@ -96,12 +102,14 @@ def first_unresolved(series: ModeSeries):
 
 
 @lru_cache(maxsize=16)
-def _lagrange_weights(factor: int, points: int = 6) -> np.ndarray:
+def _lagrange_weights(factor: int, points: int = 6, end: bool = False) -> np.ndarray:
     """Weights ``(factor, points)`` of the Lagrange polynomial through ``points`` equally spaced nodes
-    (offsets ``-points/2 + 1 .. points/2``) evaluated at the fractions ``j / factor`` between nodes 0 and 1."""
+    (offsets ``-points/2 + 1 .. points/2``) evaluated at the fractions ``j / factor`` between nodes 0 and 1; with
+    ``end``, ``(2 factor + 1, points)`` at ``1 + j / factor`` up to the last node (the end-biased stencils of the
+    last two intervals and the last sample)."""
     nodes = np.arange(points) - (points // 2 - 1)
-    fractions = np.arange(factor) / factor
-    weights = np.ones((factor, points))
+    fractions = 1 + np.arange(2 * factor + 1) / factor if end else np.arange(factor) / factor
+    weights = np.ones((fractions.size, points))
     for k in range(points):
         for q in range(points):
             if q != k:
@@ -114,13 +122,14 @@ def interpolated_level(series: ModeSeries, join_time: float, factor: int) -> Mod
     """The late part of an aligned-spin series at a ``factor`` times finer step, by interpolating each
     mode's amplitude and continued phase (sixth-order Lagrange through the data's samples; no new model
     call), from a few samples before ``join_time`` until every mode is below ``QUIET_AMPLITUDE`` of the
-    (2, 2) peak."""
+    (2, 2) peak, or to the last sample when the modes end loud (end-biased stencils on the last two intervals)."""
     times, delta_t = series.times, series.delta_t
     keys, orders, signs, placement = _interpolation_layout(tuple(series.modes))
     first = max(min(int(np.searchsorted(times, join_time)) - 8, times.size - 16), 0)  # at least 16 samples
     # each mode's amplitude and continued phase, interpolated (sixth-order Lagrange), back to complex values
     values = interpolated_rows(tuple(np.ascontiguousarray(series.modes[k], dtype=complex) for k in keys), first,
-                               orders, _lagrange_weights(factor), QUIET_AMPLITUDE)
+                               orders, _lagrange_weights(factor), _lagrange_weights(factor, end=True),
+                               QUIET_AMPLITUDE)
     fine_times = times[first + 2] + np.arange(values.shape[1]) * (delta_t / factor)
     mirrored = np.conj(values)
     mirrored *= signs  # h_{l,-m} = (-1)^l conj(h_lm)
@@ -170,6 +179,24 @@ def rotate_onto(fine: ModeSeries, coarse: ModeSeries, time: float) -> ModeSeries
     return dataclasses.replace(fine, modes=modes)
 
 
+def ends_loud(series: ModeSeries) -> bool:
+    """Whether the (2, 2) mode is still above ``LOUD_END`` of its peak at the last sample (an inspiral-only model
+    that stops before merger: no ringdown to resolve)."""
+    h = series.modes.get((2, 2))
+    if h is None or h.size == 0 or abs(h[-1]) < LOUD_END * float(np.max(np.abs(h[-64:]))):  # cheap test first
+        return False
+    return abs(h[-1]) >= LOUD_END * float(np.max(np.abs(h)))
+
+
+def _interpolable(series: ModeSeries) -> bool:
+    """Whether the finer levels interpolate the data-rate modes: aligned spins, on a grid of at most
+    ``INTERPOLATION_STEP`` M, or of at most ``INSPIRAL_STEP`` M for a model that ends loud."""
+    if not series.aligned_spins or (2, 2) not in series.modes:
+        return False
+    limit = INSPIRAL_STEP if ends_loud(series) else INTERPOLATION_STEP
+    return series.delta_t <= limit * series.mass_seconds
+
+
 def finer_levels(series: ModeSeries, generate, minimum_frequency: float, reference_frequency: float) -> list:
     """The finer samplings ``series`` needs for its memory, coarse to fine (empty when it needs none).
 
@@ -177,7 +204,7 @@ def finer_levels(series: ModeSeries, generate, minimum_frequency: float, referen
     Each returned series has ``use_from`` set: the time (s) from which it replaces the level before.
     """
     levels, current = [], series
-    if series.aligned_spins and (2, 2) in series.modes and series.delta_t <= INTERPOLATION_STEP * series.mass_seconds:
+    if _interpolable(series):
         factor = 1
         for _ in range(MAX_LEVELS):
             failure = first_unresolved(current)
