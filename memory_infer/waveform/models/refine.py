@@ -17,6 +17,9 @@ sample (end-biased stencils on the last two intervals), so a model still loud th
 convergence table (benchmarks/convergence.py, tests/waveform/models/test_refine.py) checks it against modes 16
 times finer.
 
+Frequency-domain models (:mod:`memory_infer.waveform.frequency_source`) cut every level from their mode spectra,
+whatever the spins (``cut_from_spectra``): exact at every step, with the band above the data's Nyquist frequency.
+
 Coarser grids (light binaries at low rates) and precessing spins call the model again. Each such level is
 the same binary from a later start frequency (``START_FRACTION`` of the (2, 2) frequency where it is first
 used, about 0.3 tau earlier). Models that accept a reference frequency below the start frequency keep the
@@ -82,9 +85,11 @@ def _late_part(series: ModeSeries) -> int:
     return max(fast - 32, 0) if fast >= 0 else max(h.size - 64, 0)
 
 
-def first_unresolved(series: ModeSeries):
-    """(time, (2, 2) frequency in Hz) of the last resolved sample before the grid fails, or None."""
-    start = _late_part(series)
+def first_unresolved(series: ModeSeries, whole: bool = False):
+    """(time, (2, 2) frequency in Hz) of the last resolved sample before the grid fails, or None. Quiet samples are
+    judged against the largest (2, +-2) modulus of the late part, or of the whole series with ``whole`` (levels that
+    run on into a quiet tail of fast ringing, as those cut from frequency-domain spectra do)."""
+    start = 0 if whole else _late_part(series)
     if series.aligned_spins and (2, 2) in series.modes:  # (2, -2) mirrors (2, 2): the same steps
         index, step = first_unresolved_step(series.modes[(2, 2)][start:], _COS_LIMIT, QUIET_AMPLITUDE)
         if index < 0:
@@ -197,14 +202,18 @@ def _interpolable(series: ModeSeries) -> bool:
     return series.delta_t <= limit * series.mass_seconds
 
 
-def finer_levels(series: ModeSeries, generate, minimum_frequency: float, reference_frequency: float) -> list:
+def finer_levels(series: ModeSeries, generate, minimum_frequency: float, reference_frequency: float,
+                 cut_from_spectra: bool = False) -> list:
     """The finer samplings ``series`` needs for its memory, coarse to fine (empty when it needs none).
 
     ``generate(delta_t, minimum_frequency, reference_frequency)`` returns the same binary's modes.
     Each returned series has ``use_from`` set: the time (s) from which it replaces the level before.
+    ``cut_from_spectra``: ``generate`` cuts the levels from the same mode spectra (frequency-domain models), so a
+    level from a later start is the same binary for any spins and exact at every step: every level is generated
+    that way, none interpolated from ``series`` (whose band ends at the data's Nyquist frequency).
     """
     levels, current = [], series
-    if _interpolable(series):
+    if not cut_from_spectra and _interpolable(series):
         factor = 1
         for _ in range(MAX_LEVELS):
             failure = first_unresolved(current)
@@ -216,12 +225,12 @@ def finer_levels(series: ModeSeries, generate, minimum_frequency: float, referen
         raise WaveformError(f"the merger of this binary is not resolved after {MAX_LEVELS} finer samplings; "
                             "its memory cannot be computed reliably")
     for _ in range(MAX_LEVELS):
-        failure = first_unresolved(current)
+        failure = first_unresolved(current, whole=cut_from_spectra)
         if failure is None:
             return levels
         join_time, join_frequency = failure
         delta_t = current.delta_t / LEVEL_FACTOR
-        if not series.aligned_spins:  # full length each time: jump straight to a step of about 0.35 M
+        if not series.aligned_spins and not cut_from_spectra:  # full length: jump straight to a ~0.35 M step
             while delta_t > PRECESSING_STEP * series.mass_seconds:
                 delta_t /= 2
             samples = series.times.size * series.delta_t / delta_t
@@ -233,6 +242,8 @@ def finer_levels(series: ModeSeries, generate, minimum_frequency: float, referen
         else:
             fine = _later_start(series, generate, delta_t, max(minimum_frequency, START_FRACTION * join_frequency),
                                 minimum_frequency, reference_frequency, join_time)
+            if cut_from_spectra and fine.times[0] > join_time - 8 * fine.delta_t:  # cut too late (a noisy early
+                fine = generate(delta_t, minimum_frequency, reference_frequency)  # frequency): the whole series
         fine.use_from = join_time
         levels.append(fine)
         current = fine
