@@ -175,13 +175,16 @@ def continued_phases(modes, orders):
 
 
 @_compile
-def lagrange_modes(amplitudes, phases, weights):
+def lagrange_modes(amplitudes, phases, weights, end_weights):
     """Rows ``amplitude e^{i phase}`` at ``factor`` points per interval: each interval's sixth-order Lagrange
     polynomial through samples ``w .. w + 5`` evaluated between samples ``w + 2`` and ``w + 3`` (``weights`` is
-    ``(factor, 6)``)."""
+    ``(factor, 6)``); then the rows of ``end_weights`` (``(2 factor + 1, 6)`` or none) on the last six samples,
+    which carry the level through the last two intervals to the last sample (end-biased stencils)."""
     rows, n = amplitudes.shape
     factor, points = weights.shape
-    out = np.empty((rows, (n - points + 1) * factor), dtype=np.complex128)
+    tail = end_weights.shape[0]
+    body = (n - points + 1) * factor
+    out = np.empty((rows, body + tail), dtype=np.complex128)
     for r in range(rows):
         for w in range(n - points + 1):
             for j in range(factor):
@@ -191,6 +194,14 @@ def lagrange_modes(amplitudes, phases, weights):
                     a += amplitudes[r, w + q] * weights[j, q]
                     p += phases[r, w + q] * weights[j, q]
                 out[r, w * factor + j] = complex(a * np.cos(p), a * np.sin(p))
+        w = n - points
+        for j in range(tail):
+            a = 0.0
+            p = 0.0
+            for q in range(points):
+                a += amplitudes[r, w + q] * end_weights[j, q]
+                p += phases[r, w + q] * end_weights[j, q]
+            out[r, body + j] = complex(a * np.cos(p), a * np.sin(p))
     return out
 
 
@@ -406,10 +417,11 @@ def join_level(times, result, previous_times, previous, level_times, level_memor
 
 
 @_compile
-def interpolated_rows(modes, first, orders, weights, quiet_fraction):
+def interpolated_rows(modes, first, orders, weights, end_weights, quiet_fraction):
     """The modes (row 0 the (2, 2) mode) from sample ``first`` on, ``factor`` times finer: each mode's amplitude and
     continued phase (:func:`continued_phases`) through sixth-order Lagrange (:func:`lagrange_modes`), up to 8
-    samples past the last where any mode exceeds ``quiet_fraction`` of the (2, 2) mode's peak."""
+    samples past the last where any mode exceeds ``quiet_fraction`` of the (2, 2) mode's peak; when that reaches
+    the modes' last sample (a model that ends loud), ``end_weights`` carry the level to that sample."""
     count = len(modes)
     n = modes[0].size - first
     stacked = np.empty((count, n), dtype=np.complex128)
@@ -418,7 +430,8 @@ def interpolated_rows(modes, first, orders, weights, quiet_fraction):
     loud = loud_end(stacked, quiet_fraction)
     end = min(n, loud - 1 + 8) if loud else n
     stacked = stacked[:, :end]
-    return lagrange_modes(np.abs(stacked), continued_phases(stacked, orders), weights)
+    tail = end_weights if end == n else end_weights[:0]
+    return lagrange_modes(np.abs(stacked), continued_phases(stacked, orders), weights, tail)
 
 
 @_compile

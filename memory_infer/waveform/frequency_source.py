@@ -9,7 +9,6 @@ rate does not resolve it (:mod:`.models.refine`), and laid on the segment like t
 """
 from __future__ import annotations
 
-import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -17,7 +16,8 @@ import numpy as np
 from ..common.errors import WaveformError
 from .conditioning import library_polarizations
 from .memory import memory_at_direction
-from .models.fd_modes import MEMORY_LEAD, PRECESSING, is_frequency_domain, ModeSpectra, mode_spectra, time_modes
+from .models.fd_modes import (MEMORY_LEAD, PRECESSING, ModeSpectra, band_step, is_frequency_domain, late_modes,
+                              mode_spectra, time_modes)
 from .models.refine import finer_levels
 from .models.series import ModeSeries
 from .source import (_INTRINSIC, _SETTINGS, TimeSignal, circular_layout, lalsimulation_spins, observer_angles,
@@ -40,15 +40,22 @@ def frequency_modes(approximant, mass_1, mass_2, delta_t, minimum_frequency, spi
     spectra = mode_spectra(approximant, mass_1, mass_2, 1.0, minimum_frequency, spin_1, spin_2,
                            reference_frequency, inclination, phase, duration, mode_list, memory_lead)
     series = time_modes(spectra, delta_t)
+    native = series if delta_t <= band_step(spectra) * (1 + 1e-9) else None  # holds every frequency of the spectra
 
     def generate(step, start, reference):
+        nonlocal native
+        if start > minimum_frequency * 1.0001:  # the late part: from the band-complete series, for its cost only
+            native = native or time_modes(spectra, band_step(spectra))
+            level = late_modes(native, step, start)
+            if level is not None:
+                return level
         return time_modes(spectra, step, start_frequency=start if start > minimum_frequency * 1.0001 else None)
 
     if finer_for_memory:
-        # every level is cut from the same spectra, so a level's later start is exact for precessing spins too:
-        # refine's late-start ladder applies (its full-length path exists for models regenerated from a later start)
-        ladder = dataclasses.replace(series, aligned_spins=True)
-        series.finer = finer_levels(ladder, generate, minimum_frequency, reference_frequency)
+        # every level is cut from the same spectra (to the model's cutoff), so a level's later start is exact for
+        # precessing spins too, and no level is interpolated from the data-rate modes (cut at the data's Nyquist
+        # frequency; for precessing spins without the aligned-spin symmetry h_{l,-m} = (-1)^l conj(h_lm))
+        series.finer = finer_levels(series, generate, minimum_frequency, reference_frequency, cut_from_spectra=True)
     return FrequencyModes(series=series, spectra=spectra)
 
 

@@ -75,12 +75,17 @@ def test_phases_and_interpolation_equal_the_numpy_steps(modes):
     orders = np.array([float(m) for _, m in keys])
     phases = compiled.continued_phases(stacked, orders)
     assert np.max(np.abs(phases - numpy_continued_phases(stacked, orders))) < 1e-12  # rad, rounding
-    weights = _lagrange_weights(4)
+    weights, end = _lagrange_weights(4), _lagrange_weights(4, end=True)
     amplitudes = np.abs(stacked)
-    ours = compiled.lagrange_modes(amplitudes, phases, weights)
-    values = (sliding_window_view(np.concatenate([amplitudes, phases]), 6, axis=1) @ weights.T).reshape(8, -1)
+    ours = compiled.lagrange_modes(amplitudes, phases, weights, end)
+    both = np.concatenate([amplitudes, phases])
+    values = (sliding_window_view(both, 6, axis=1) @ weights.T).reshape(8, -1)
+    values = np.concatenate([values, both[:, -6:] @ end.T], axis=1)  # the end-biased stencils on the last six
     expected = values[:4] * np.exp(1j * values[4:])
     assert np.max(np.abs(ours - expected)) < 1e-13 * np.max(np.abs(expected))
+    assert np.allclose(ours[:, -1], stacked[:, -1], rtol=1e-13, atol=0)  # the level ends at the last sample
+    without = compiled.lagrange_modes(amplitudes, phases, weights, end[:0])  # no end stencils: the body alone
+    assert np.array_equal(without, ours[:, :without.shape[1]])
 
 
 def test_lagrange_weights_reproduce_quintics():
@@ -89,6 +94,8 @@ def test_lagrange_weights_reproduce_quintics():
     nodes = np.arange(6) - 2.0
     polynomial = np.polynomial.Polynomial([0.3, -1.1, 0.7, 0.2, -0.05, 0.01])
     assert np.allclose(weights @ polynomial(nodes), polynomial(np.arange(8) / 8), rtol=0, atol=1e-13)
+    end = _lagrange_weights(8, end=True)  # the end-biased stencils: from node 1 to the last node 3
+    assert np.allclose(end @ polynomial(nodes), polynomial(1 + np.arange(17) / 8), rtol=0, atol=1e-12)
 
 
 def test_interpolation_and_sums_equal_numpy():

@@ -64,6 +64,61 @@ def test_memory_converges_in_the_sampling_rate():
         assert abs(memory[-1] - fine[-1]) < 5e-3 * abs(fine[-1])
 
 
+CONVERGENCE = {  # the binaries of the convergence table's frequency-domain rows (README, Conventions)
+    "IMRPhenomXPHM 36+29 precessing": ("IMRPhenomXPHM", 36.0, 29.0, (0.3, 0.2, 0.35), (-0.25, 0.3, 0.25)),
+    "IMRPhenomXPHM 60+10 precessing": ("IMRPhenomXPHM", 60.0, 10.0, (0.4, -0.3, 0.3), (0.1, 0.2, -0.3)),
+    "IMRPhenomXHM 10+8": ("IMRPhenomXHM", 10.0, 8.0, (0, 0, 0.3), (0, 0, -0.2)),
+}
+
+
+def layout_snr(times, memory, rate, duration=8.0):
+    """H1 + L1 (bilby's default design sensitivity) optimal SNR of a memory series laid out as the source model
+    lays it out (at 1 Mpc, scaled to 400 Mpc)."""
+    from memory_infer.waveform.source import TimeSignal, circular_layout, to_frequency_domain
+
+    interferometers = detectors(duration, rate)
+    signal = TimeSignal(times, np.zeros(times.size, complex), memory / 400.0, 0.0)
+    _, buffer, shift = circular_layout(signal, int(duration * rate), 1 / rate, 1.0, 0.1)
+    parts = to_frequency_domain(buffer, 1 / rate, shift, interferometers[0].frequency_array)
+    return np.sqrt(sum(float(np.real(d.optimal_snr_squared(d.get_detector_response(parts, SKY))))
+                       for d in interferometers))
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("case", list(CONVERGENCE))
+def test_memory_at_the_data_rate_agrees_with_spectra_to_16_khz(case):
+    # convergence, common practice, no source: the same binary's spectra generated to 16384 Hz and taken to the time
+    # domain at 32768 Hz on one uniform grid, no finer levels; final memory and H1 + L1 memory SNR within 0.5%
+    from memory_infer.waveform.frequency_source import FrequencyModes
+    from memory_infer.waveform.models.fd_modes import mode_spectra, time_modes
+
+    approximant, m1, m2, spin_1, spin_2 = CONVERGENCE[case]
+    inclination, phase = 1.0, 0.4
+    spectra = mode_spectra(approximant, m1, m2, 1.0, 20.0, spin_1, spin_2, 20.0, inclination, phase, 0.0,
+                           maximum_frequency=16384.0)
+    fine = FrequencyModes(series=time_modes(spectra, 1 / 32768), spectra=spectra)
+    reference = memory_strain(fine, inclination, phase, early_inspiral=False)
+    modes = frequency_modes(approximant, m1, m2, 1 / 2048, 20.0, spin_1, spin_2, 20.0, inclination, phase, 0.0)
+    assert modes.series.finer  # the merger needs finer samplings at this rate
+    # each level holds the spectra's own samples at its step, m < 0 modes included (no aligned-spin mirror)
+    level = modes.series.finer[-1]
+    whole = time_modes(modes.spectra, level.delta_t)
+    used = (level.times >= level.use_from) & (level.times <= whole.times[-1])
+    at = np.searchsorted(whole.times, level.times[used] - 1e-9)
+    peak = np.max(np.abs(whole.modes[(2, 2)]))
+    loud = np.abs(whole.modes[(2, 2)][at]) > 0.01 * peak  # away from the level's closing ramp in the quiet tail
+    for key in ((2, 1), (2, -1), (2, -2)):
+        assert np.max(np.abs(level.modes[key][used][loud] - whole.modes[key][at][loud])) < 1e-5 * peak, (case, key)
+    ours = memory_strain(modes, inclination, phase, early_inspiral=False)
+    times = modes.series.times
+    expected = np.interp(times, fine.series.times, reference.real) + 1j * np.interp(times, fine.series.times,
+                                                                                    reference.imag)
+    expected -= expected[0]  # both from zero at the data's first sample
+    assert abs(abs(ours[-1]) / abs(expected[-1]) - 1) < 5e-3, case
+    snr, snr_expected = layout_snr(times, ours, 2048.0), layout_snr(times, expected, 2048.0)
+    assert abs(snr / snr_expected - 1) < 5e-3, (case, snr, snr_expected)
+
+
 def test_memory_agrees_with_the_time_domain_family_and_has_lalsimulations_sign():
     """IMRPhenomXHM against IMRPhenomTHM for the same binary, edge-on, over the modes they share.
 

@@ -24,7 +24,9 @@ and raised by a half-cosine in |f| between it and the minimum frequency; the seg
 and ringdown time bounds (``SimInspiralChirpTimeBound``, ``SimInspiralMergeTimeBound``,
 ``SimInspiralRingdownTimeBound``). The spectra are generated once up to the model's own cutoff frequency, so a
 finer time sampling is an inverse FFT of the same spectra to a higher rate (band-limited interpolation):
-:func:`time_modes`.
+:func:`time_modes`; the finer levels of the merger for the memory's flux take only the late stretch of a series
+that holds the whole band and interpolate it the same way (:func:`late_modes`), every mode on its own (precessing
+modes have no m <-> -m symmetry).
 """
 from __future__ import annotations
 
@@ -34,6 +36,8 @@ import numpy as np
 
 from ...common.errors import WaveformError
 from .lal_modes import _explain, _lal, _quiet, waveform_dictionary
+from ..compiled import loud_end
+from .refine import QUIET_AMPLITUDE
 from .series import MEGAPARSEC_METRES, SOLAR_MASS_SECONDS, ModeSeries
 
 FD_MODELS = ("IMRPhenomXHM", "IMRPhenomXPHM")
@@ -46,6 +50,7 @@ EXTRA_TIME_FRACTION, EXTRA_CYCLES = 0.1, 3.0  # lalsimulation's SimInspiralFD co
 # at the first sample). Checked against modes from the minimum frequency in tests/waveform/test_frequency_source.py.
 MEMORY_LEAD = 0.5  # in-band memory within ~2e-4 of modes from 20 Hz (10 + 8 solar masses); halves the cost of 1 s
 START_AMPLITUDE = 0.01  # the time-domain modes begin where the (2, 2) mode first reaches this fraction of its peak
+RAMP_SAMPLES = 32  # a finer level's stretch rises and falls over this many samples of the band-complete series
 
 
 @dataclass
@@ -90,12 +95,13 @@ def time_bounds(mass_1, mass_2, spin_1z, spin_2z, minimum_frequency):
 
 def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequency, spin_1, spin_2,
                  reference_frequency, inclination, phase, duration, mode_list=None,
-                 memory_lead: float | None = MEMORY_LEAD) -> ModeSpectra:
+                 memory_lead: float | None = MEMORY_LEAD, maximum_frequency: float = 0.0) -> ModeSpectra:
     """The conditioned spectra of one binary (see the module docstring); ``duration`` (s) is the shortest buffer
     (0: just long enough for the signal).
 
     ``memory_lead`` (s): start the modes that long before the merger when that is after the minimum frequency
-    (``MEMORY_LEAD``); None starts them at the minimum frequency."""
+    (``MEMORY_LEAD``); None starts them at the minimum frequency. ``maximum_frequency`` (Hz): generate the spectra
+    at least that far (by default to the model's cutoff)."""
     lal, lalsim = _lal()
     spin_1, spin_2 = np.asarray(spin_1, float), np.asarray(spin_2, float)
     if not (mass_1 > 0 and mass_2 > 0 and luminosity_distance > 0):
@@ -112,7 +118,7 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
     length = max(float(duration), 1.25 * (lead + tail))  # the whole signal, a quarter spare against wrap-around
     delta_f = 1.0 / 2 ** np.ceil(np.log2(length))
     mass_s = (mass_1 + mass_2) * SOLAR_MASS_SECONDS
-    top = 1.05 * CUTOFF / mass_s  # every mode's spectrum ends at the model's cutoff (checked in the tests)
+    top = max(1.05 * CUTOFF / mass_s, float(maximum_frequency))  # every mode ends at the cutoff (checked in the tests)
     f_max = delta_f * 2 ** np.ceil(np.log2(top / delta_f))
     params = waveform_dictionary(mode_list)
     phi_ref = float(phase) if precessing else 0.0
@@ -173,14 +179,16 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     tail_n = min(int(np.ceil(spectra.tail / delta_t)), n_time // 4)
     lead_n = min(int(np.ceil(spectra.lead / delta_t)), n_time - tail_n - 1)
     index = np.arange(-lead_n, tail_n + 1)
-    modes = {}
-    for key, spectrum in spectra.modes.items():
-        buffer = np.zeros(n_time, dtype=complex)
-        part = spectrum[band]
-        k = np.arange(-keep, -keep + part.size)
-        buffer[k % n_time] = part
-        series = np.fft.ifft(buffer) * (n_time * spectra.delta_f)  # h(t) = sum_f h(f) e^{2 pi i f t} df
-        modes[key] = series[index % n_time]
+    keys = tuple(spectra.modes)
+    buffer = np.zeros((len(keys), n_time), dtype=complex)
+    for row, key in enumerate(keys):  # f = k delta_f at index k mod n_time; the k >= 0 part last (it wins at f = N)
+        part = spectra.modes[key][band]
+        buffer[row, n_time - keep:] = part[:keep]
+        buffer[row, :part.size - keep] = part[keep:]
+    series = np.fft.ifft(buffer, axis=1)  # row by row, as one transform each
+    series *= n_time * spectra.delta_f  # h(t) = sum_f h(f) e^{2 pi i f t} df
+    picked = series[:, index % n_time]
+    modes = {key: picked[row] for row, key in enumerate(keys)}
     times = index * delta_t
     key = (2, 2) if (2, 2) in modes else (2, -2)
     if key in modes:  # the samples before the conditioned start hold only the transform's ringing: dropped
@@ -198,6 +206,57 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
                       luminosity_distance=spectra.luminosity_distance,
                       symmetric_mass_ratio=spectra.symmetric_mass_ratio, approximant=spectra.approximant,
                       aligned_spins=spectra.aligned_spins)
+
+
+def band_step(spectra: ModeSpectra) -> float:
+    """The step (s) at which a series holds every frequency of the spectra: one over twice their top frequency."""
+    return 1.0 / ((next(iter(spectra.modes.values())).size // 2) * 2 * spectra.delta_f)
+
+
+def late_modes(native: ModeSeries, delta_t: float, start_frequency: float) -> ModeSeries | None:
+    """The late part of ``native`` (a series at :func:`band_step` or finer, which holds the whole band) at the finer
+    step ``delta_t``, from a few samples before the (2, 2) mode reaches ``start_frequency`` to the end: the stretch
+    raised and lowered by half-Hann ramps of ``RAMP_SAMPLES`` and interpolated band-limited (zero-padded FFT). The
+    same samples as :func:`time_modes` at that step (the ramps aside) for the cost of the stretch, not of the whole
+    buffer; like the interpolated levels (:mod:`.refine`) it ends a few samples after every mode is below
+    ``QUIET_AMPLITUDE`` of the (2, 2) peak. None when the stretch would start within the rise of the series or the
+    step is coarser than ``native``'s (:func:`time_modes` then)."""
+    key = (2, 2) if (2, 2) in native.modes else (2, -2)
+    if key not in native.modes or delta_t > native.delta_t * (1 + 1e-9):  # a coarser step: the whole transform
+        return None
+    h, step = native.modes[key], native.delta_t
+    frequency = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * step)
+    loud = np.abs(h[1:]) > 1e-3 * np.abs(h).max()
+    reached = np.nonzero(loud & (frequency >= start_frequency))[0]
+    if not reached.size or reached[0] < 8 + RAMP_SAMPLES:
+        return None
+    first = reached[0] - 8 - RAMP_SAMPLES
+    rows = np.array([h[first:]] + [v[first:] for k, v in native.modes.items() if k != key])
+    n = min(rows.shape[1], loud_end(rows, QUIET_AMPLITUDE) + 8 + RAMP_SAMPLES)  # to the ringdown's quiet end
+    if n < 4 * RAMP_SAMPLES:
+        return None
+    padded = int(round(n * step / delta_t))
+    spectrum = np.fft.fft(rows[:, :n] * _ramps(n), axis=1)
+    buffer = np.zeros((rows.shape[0], padded), dtype=complex)
+    low = (n + 1) // 2  # non-negative frequencies first, then the negative ones (numpy's order)
+    buffer[:, :low], buffer[:, padded - (n - low):] = spectrum[:, :low], spectrum[:, low:]
+    values = np.fft.ifft(buffer, axis=1)
+    values *= padded / n
+    keys = [key] + [k for k in native.modes if k != key]  # the order of ``rows``
+    modes = {k: values[keys.index(k)] for k in native.modes}
+    times = native.times[first] + np.arange(padded) * (n * step / padded)
+    return ModeSeries(times=times, modes=modes, total_mass=native.total_mass,
+                      luminosity_distance=native.luminosity_distance,
+                      symmetric_mass_ratio=native.symmetric_mass_ratio, approximant=native.approximant,
+                      aligned_spins=native.aligned_spins)
+
+
+def _ramps(n: int) -> np.ndarray:
+    """Ones with half-Hann ramps of ``RAMP_SAMPLES`` at both ends (``n`` samples)."""
+    ramp = np.ones(n)
+    rise = 0.5 - 0.5 * np.cos(np.pi * (np.arange(RAMP_SAMPLES) + 0.5) / RAMP_SAMPLES)
+    ramp[:RAMP_SAMPLES], ramp[n - RAMP_SAMPLES:] = rise, rise[::-1]
+    return ramp
 
 
 def polarizations(spectra: ModeSpectra, theta: float, phi: float, rotation: complex = 1.0) -> dict:

@@ -9,10 +9,16 @@ step thus follows from the binary itself: its mass sets where the inspiral outru
 frequency ends the ladder. Only the late part is sampled finely; the oscillatory strain stays at the
 data's rate.
 
-Aligned spins on a data grid of at most ``INTERPOLATION_STEP`` M: each level interpolates the data-rate modes
-(cubic splines of amplitude and phase, the phase continued through the ringdown by the (2, 2) mode's, see
-:func:`interpolated_level`) over the merger only; no new model call. The convergence table
-(benchmarks/convergence.py, tests/waveform/models/test_refine.py) checks it against modes 16 times finer.
+Aligned spins on a data grid of at most ``INTERPOLATION_STEP`` M (``INSPIRAL_STEP`` M for models that end loud,
+inspiral-only ones such as TaylorT4): each level interpolates the data-rate modes (sixth-order Lagrange in
+amplitude and phase, the phase continued through the ringdown by the (2, 2) mode's, see
+:func:`interpolated_level`) over the merger only; no new model call. The finest level reaches the modes' last
+sample (end-biased stencils on the last two intervals), so a model still loud there keeps its last flux. The
+convergence table (benchmarks/convergence.py, tests/waveform/models/test_refine.py) checks it against modes 16
+times finer.
+
+Frequency-domain models (:mod:`memory_infer.waveform.frequency_source`) cut every level from their mode spectra,
+whatever the spins (``cut_from_spectra``): exact at every step, with the band above the data's Nyquist frequency.
 
 Coarser grids (light binaries at low rates) and precessing spins call the model again. Each such level is
 the same binary from a later start frequency (``START_FRACTION`` of the (2, 2) frequency where it is first
@@ -44,6 +50,9 @@ LEVEL_FACTOR = 4  # each level's step is a quarter of the one before: fewer mode
 PRECESSING_STEP = 0.35  # in M: resolves a (2, 2) ringdown up to M omega = 0.85 within PHASE_STEP_LIMIT
 INTERPOLATION_STEP = 9.0  # in M: aligned-spin data grids at most this coarse are refined by interpolation (measured:
 # 12 M_sun at 2048 Hz, a step of 8.3 M, within 3e-4 of the converged memory; 16.5 M lost 1%)
+LOUD_END = 0.5  # a (2, 2) mode above half its peak at the last sample: the model ends loud (inspiral only)
+INSPIRAL_STEP = 40.0  # in M: the same for models that end loud, their last (2, 2) frequency near M f = 0.022 (measured:
+# TaylorT4 2 + 2 M_sun at 1024 Hz, a step of 50 M, within 5e-4 of the converged memory; 58 M lost 26%)
 _COS_LIMIT, _COS_HALF_LIMIT = float(np.cos(PHASE_STEP_LIMIT)), float(np.cos(PHASE_STEP_LIMIT / 2))
 PRECESSING_SAMPLES = 1_000_000  # longer full-length precessing levels are refused: ~1 GB and ~9 s at the limit
 
@@ -76,9 +85,11 @@ def _late_part(series: ModeSeries) -> int:
     return max(fast - 32, 0) if fast >= 0 else max(h.size - 64, 0)
 
 
-def first_unresolved(series: ModeSeries):
-    """(time, (2, 2) frequency in Hz) of the last resolved sample before the grid fails, or None."""
-    start = _late_part(series)
+def first_unresolved(series: ModeSeries, whole: bool = False):
+    """(time, (2, 2) frequency in Hz) of the last resolved sample before the grid fails, or None. Quiet samples are
+    judged against the largest (2, +-2) modulus of the late part, or of the whole series with ``whole`` (levels that
+    run on into a quiet tail of fast ringing, as those cut from frequency-domain spectra do)."""
+    start = 0 if whole else _late_part(series)
     if series.aligned_spins and (2, 2) in series.modes:  # (2, -2) mirrors (2, 2): the same steps
         index, step = first_unresolved_step(series.modes[(2, 2)][start:], _COS_LIMIT, QUIET_AMPLITUDE)
         if index < 0:
@@ -96,12 +107,14 @@ def first_unresolved(series: ModeSeries):
 
 
 @lru_cache(maxsize=16)
-def _lagrange_weights(factor: int, points: int = 6) -> np.ndarray:
+def _lagrange_weights(factor: int, points: int = 6, end: bool = False) -> np.ndarray:
     """Weights ``(factor, points)`` of the Lagrange polynomial through ``points`` equally spaced nodes
-    (offsets ``-points/2 + 1 .. points/2``) evaluated at the fractions ``j / factor`` between nodes 0 and 1."""
+    (offsets ``-points/2 + 1 .. points/2``) evaluated at the fractions ``j / factor`` between nodes 0 and 1; with
+    ``end``, ``(2 factor + 1, points)`` at ``1 + j / factor`` up to the last node (the end-biased stencils of the
+    last two intervals and the last sample)."""
     nodes = np.arange(points) - (points // 2 - 1)
-    fractions = np.arange(factor) / factor
-    weights = np.ones((factor, points))
+    fractions = 1 + np.arange(2 * factor + 1) / factor if end else np.arange(factor) / factor
+    weights = np.ones((fractions.size, points))
     for k in range(points):
         for q in range(points):
             if q != k:
@@ -114,13 +127,14 @@ def interpolated_level(series: ModeSeries, join_time: float, factor: int) -> Mod
     """The late part of an aligned-spin series at a ``factor`` times finer step, by interpolating each
     mode's amplitude and continued phase (sixth-order Lagrange through the data's samples; no new model
     call), from a few samples before ``join_time`` until every mode is below ``QUIET_AMPLITUDE`` of the
-    (2, 2) peak."""
+    (2, 2) peak, or to the last sample when the modes end loud (end-biased stencils on the last two intervals)."""
     times, delta_t = series.times, series.delta_t
     keys, orders, signs, placement = _interpolation_layout(tuple(series.modes))
     first = max(min(int(np.searchsorted(times, join_time)) - 8, times.size - 16), 0)  # at least 16 samples
     # each mode's amplitude and continued phase, interpolated (sixth-order Lagrange), back to complex values
     values = interpolated_rows(tuple(np.ascontiguousarray(series.modes[k], dtype=complex) for k in keys), first,
-                               orders, _lagrange_weights(factor), QUIET_AMPLITUDE)
+                               orders, _lagrange_weights(factor), _lagrange_weights(factor, end=True),
+                               QUIET_AMPLITUDE)
     fine_times = times[first + 2] + np.arange(values.shape[1]) * (delta_t / factor)
     mirrored = np.conj(values)
     mirrored *= signs  # h_{l,-m} = (-1)^l conj(h_lm)
@@ -170,14 +184,36 @@ def rotate_onto(fine: ModeSeries, coarse: ModeSeries, time: float) -> ModeSeries
     return dataclasses.replace(fine, modes=modes)
 
 
-def finer_levels(series: ModeSeries, generate, minimum_frequency: float, reference_frequency: float) -> list:
+def ends_loud(series: ModeSeries) -> bool:
+    """Whether the (2, 2) mode is still above ``LOUD_END`` of its peak at the last sample (an inspiral-only model
+    that stops before merger: no ringdown to resolve)."""
+    h = series.modes.get((2, 2))
+    if h is None or h.size == 0 or abs(h[-1]) < LOUD_END * float(np.max(np.abs(h[-64:]))):  # cheap test first
+        return False
+    return abs(h[-1]) >= LOUD_END * float(np.max(np.abs(h)))
+
+
+def _interpolable(series: ModeSeries) -> bool:
+    """Whether the finer levels interpolate the data-rate modes: aligned spins, on a grid of at most
+    ``INTERPOLATION_STEP`` M, or of at most ``INSPIRAL_STEP`` M for a model that ends loud."""
+    if not series.aligned_spins or (2, 2) not in series.modes:
+        return False
+    limit = INSPIRAL_STEP if ends_loud(series) else INTERPOLATION_STEP
+    return series.delta_t <= limit * series.mass_seconds
+
+
+def finer_levels(series: ModeSeries, generate, minimum_frequency: float, reference_frequency: float,
+                 cut_from_spectra: bool = False) -> list:
     """The finer samplings ``series`` needs for its memory, coarse to fine (empty when it needs none).
 
     ``generate(delta_t, minimum_frequency, reference_frequency)`` returns the same binary's modes.
     Each returned series has ``use_from`` set: the time (s) from which it replaces the level before.
+    ``cut_from_spectra``: ``generate`` cuts the levels from the same mode spectra (frequency-domain models), so a
+    level from a later start is the same binary for any spins and exact at every step: every level is generated
+    that way, none interpolated from ``series`` (whose band ends at the data's Nyquist frequency).
     """
     levels, current = [], series
-    if series.aligned_spins and (2, 2) in series.modes and series.delta_t <= INTERPOLATION_STEP * series.mass_seconds:
+    if not cut_from_spectra and _interpolable(series):
         factor = 1
         for _ in range(MAX_LEVELS):
             failure = first_unresolved(current)
@@ -189,12 +225,12 @@ def finer_levels(series: ModeSeries, generate, minimum_frequency: float, referen
         raise WaveformError(f"the merger of this binary is not resolved after {MAX_LEVELS} finer samplings; "
                             "its memory cannot be computed reliably")
     for _ in range(MAX_LEVELS):
-        failure = first_unresolved(current)
+        failure = first_unresolved(current, whole=cut_from_spectra)
         if failure is None:
             return levels
         join_time, join_frequency = failure
         delta_t = current.delta_t / LEVEL_FACTOR
-        if not series.aligned_spins:  # full length each time: jump straight to a step of about 0.35 M
+        if not series.aligned_spins and not cut_from_spectra:  # full length: jump straight to a ~0.35 M step
             while delta_t > PRECESSING_STEP * series.mass_seconds:
                 delta_t /= 2
             samples = series.times.size * series.delta_t / delta_t
@@ -206,6 +242,8 @@ def finer_levels(series: ModeSeries, generate, minimum_frequency: float, referen
         else:
             fine = _later_start(series, generate, delta_t, max(minimum_frequency, START_FRACTION * join_frequency),
                                 minimum_frequency, reference_frequency, join_time)
+            if cut_from_spectra and fine.times[0] > join_time - 8 * fine.delta_t:  # cut too late (a noisy early
+                fine = generate(delta_t, minimum_frequency, reference_frequency)  # frequency): the whole series
         fine.use_from = join_time
         levels.append(fine)
         current = fine

@@ -5,7 +5,8 @@ import pytest
 
 from memory_infer.common.errors import WaveformError
 from memory_infer.waveform.models import generate_modes, takes_precessing_spins
-from memory_infer.waveform.models.fd_modes import mode_spectra, polarizations, time_modes
+from memory_infer.waveform.models.fd_modes import (RAMP_SAMPLES, band_step, late_modes, mode_spectra, polarizations,
+                                                   time_modes)
 from memory_infer.waveform.source import observer_angles
 
 CASES = [("IMRPhenomXHM", (0, 0, 0.3), (0, 0, -0.2)), ("IMRPhenomXPHM", (0.4, 0.1, 0.3), (0.1, -0.3, -0.2))]
@@ -68,6 +69,14 @@ def test_spectra_end_at_the_model_cutoff_and_time_modes_keep_the_convention():
     finer = time_modes(spectra, 1 / 16384)
     common = np.interp(series.times, finer.times, finer.modes[(2, 2)].real)
     assert np.max(np.abs(common - series.modes[(2, 2)].real)) < 1e-3 * np.abs(series.modes[(2, 2)]).max()
+    # a finer level cut from the band-complete series (a short zero-padded FFT) gives the whole transform's samples
+    native = time_modes(spectra, band_step(spectra))
+    level = late_modes(native, 1 / 16384, 100.0)
+    inside = (level.times > level.times[0] + 2 * RAMP_SAMPLES * native.delta_t) & (level.times < 0.02)
+    assert inside.sum() > 100 and level.times[0] > series.times[0] + 0.1  # the late part only
+    for key in ((2, 2), (3, 3), (2, -1)):
+        whole = finer.modes[key][np.searchsorted(finer.times, level.times[inside] - 1e-9)]
+        assert np.max(np.abs(level.modes[key][inside] - whole)) < 1e-5 * np.abs(finer.modes[(2, 2)]).max(), key
 
 
 def test_frequency_domain_models_and_refusals():
