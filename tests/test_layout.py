@@ -285,6 +285,7 @@ CACHES = {
     "waveform.models.lal_modes._lal": "the lal and lalsimulation modules",
     "waveform.flux._mirror_layout": "mode keys and signs (tuples, an array, read only)",
     "waveform.models.refine._interpolation_layout": "mode keys, orders, signs and row placement (read only)",
+    "catalog.amplitude_spread.weight_table": "truncated-normal weights on a grid (an array, read only)",
 }
 BILBY_BUILDERS = ("bilby", "waveform_generator", "network_detectors", "configured_detectors", "empty_detectors",
                   "InterferometerList", "MemoryWaveformGenerator", "MemoryTransient")

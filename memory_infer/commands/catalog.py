@@ -8,6 +8,7 @@ import os
 from ..campaign.catalog_run import STORE, execute_events, fingerprint, plan_events
 from ..campaign.store import RecordStore
 from ..catalog.combine import combine
+from ..catalog.population import PopulationSettings
 from ..common.errors import MemoryInferError
 from ..common.writing import atomic_path, provenance, write_text
 from ..inputs.catalog_config import load_catalog
@@ -19,6 +20,7 @@ from ..reports.html import number
 from ..results.catalog import CatalogResult
 from ..results.event import EventResult
 from .campaign import make_executor
+from .combine import add_spread_argument
 
 
 def add_arguments(parser):
@@ -29,6 +31,7 @@ def add_arguments(parser):
     parser.add_argument("--workers", type=int, default=1, help="local worker processes (default 1)")
     parser.add_argument("--scheduler", default=None, help="address of a running Dask scheduler (overrides --workers)")
     parser.add_argument("--quiet", action="store_true", help="no progress bar")
+    add_spread_argument(parser)
 
 
 def event_files(record: dict, outdir: str) -> str | None:
@@ -50,7 +53,7 @@ def _folder(label: str) -> str:
     return safe_name(label)
 
 
-def catalog_result(records: list, name: str, outdir: str) -> CatalogResult:
+def catalog_result(records: list, name: str, outdir: str, population_settings=None) -> CatalogResult:
     """The catalog combination of the finished events, with every event's run listed (refused and failed ones
     with their reason)."""
     records = sorted(records, key=lambda r: r["index"])
@@ -62,7 +65,7 @@ def catalog_result(records: list, name: str, outdir: str) -> CatalogResult:
         raise MemoryInferError("no event of the catalog finished: " +
                                "; ".join(f"{r['label']}: {r['status']} ({r['reason']})" for r in records))
     sources = [os.path.join("events", _folder(r["label"]), EventResult.FILE) for r in done]
-    result = combine([r["result"] for r in done], sources=sources)
+    result = combine([r["result"] for r in done], sources=sources, population_settings=population_settings)
     result.dropped = result.dropped + [{"label": r["label"], "reason": f"{r['status']}: {r['reason']}",
                                         "source": ""} for r in records if r["status"] != "done"]
     for run in runs:
@@ -76,6 +79,7 @@ def catalog_result(records: list, name: str, outdir: str) -> CatalogResult:
 
 
 def run(args) -> int:
+    settings = PopulationSettings(largest_spread=args.largest_spread)
     name, events, cluster = load_catalog(args.catalog)
     cluster = cluster_settings(apply_schema({"cluster": cluster}, {"cluster": CAMPAIGN_SCHEMA["cluster"]},
                                             "the catalog's [cluster]")["cluster"])
@@ -98,7 +102,7 @@ def run(args) -> int:
         if record["status"] == "done" and not os.path.isfile(os.path.join(outdir, "events", _folder(record["label"]),
                                                                           "report.html")):
             event_files(record, outdir)
-    result = catalog_result(records, name, outdir).reloaded()
+    result = catalog_result(records, name, outdir, settings).reloaded()
     page = catalog_page(result)
     import pandas as pd
 

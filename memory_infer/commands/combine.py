@@ -4,6 +4,7 @@ from __future__ import annotations
 import os
 
 from ..catalog.combine import combine, find_records, load_record
+from ..catalog.population import LARGEST_SPREAD, PopulationSettings
 from ..common.writing import atomic_path, provenance, write_text
 from ..reports.catalog import catalog_page, catalog_size
 from ..reports.html import number
@@ -13,11 +14,19 @@ from ..results.catalog import CatalogResult
 def add_arguments(parser):
     parser.add_argument("results", nargs="+", help="evidence.json files, or folders searched for them")
     parser.add_argument("--outdir", required=True, help="folder for catalog.json, events.csv and report.html")
+    add_spread_argument(parser)
+
+
+def add_spread_argument(parser):
+    parser.add_argument("--largest-spread", type=float, default=LARGEST_SPREAD,
+                        help="upper end of the uniform prior on the spread sigma of the events' amplitudes in the "
+                             f"spread population model (default {LARGEST_SPREAD:g})")
 
 
 def run(args) -> int:
+    settings = PopulationSettings(largest_spread=args.largest_spread)
     paths = find_records(args.results)
-    result = combine([load_record(path) for path in paths], sources=paths)
+    result = combine([load_record(path) for path in paths], sources=paths, population_settings=settings)
     result.provenance = provenance({"inputs": paths}, None)
     result = result.reloaded()
     page = catalog_page(result)
@@ -32,6 +41,11 @@ def run(args) -> int:
     print(f"{catalog_size(result.n_events)}: consistent-sign ln BF = {number(c['ln_bf'], c['ln_bf_err'])}; "
           f"wrong sign {result.wrong_sign['ln_bf']:.2f}; sign-agnostic {result.sign_agnostic['ln_bf']:.2f}; "
           f"shared unknown sign {result.shared_unknown_sign['ln_bf']:.2f}")
+    spread = (result.population or {}).get("gaussian")
+    if spread:
+        print(f"amplitude spread: sigma {spread['sigma']['median']:.2f} [{spread['sigma']['lower_90']:.2f}, "
+              f"{spread['sigma']['upper_90']:.2f}] (90%); ln BF against one shared amplitude "
+              f"{number(spread['ln_bf_vs_shared'], spread['ln_bf_vs_shared_err'])}")
     for item in result.dropped:
         print(f"dropped {item['label']}: {item['reason']}")
     for item in result.controls:

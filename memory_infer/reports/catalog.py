@@ -8,6 +8,7 @@ import numpy as np
 from ..results.catalog import CatalogResult
 from ..results.estimates import normalized_density
 from .html import figure_to_html, new_figure, number, page, table
+from .population import population_text
 
 
 def cumulative_figure(result) -> str:
@@ -86,6 +87,7 @@ def catalog_page(result: CatalogResult) -> str:
         ("Expected against observed", expected_text(result.expected_vs_observed)),
         ("Shared memory amplitude", amp + amplitude_figure(result)),
         ("Consistency of the events with the shared amplitude", consistency_text(result.consistency)),
+        ("Population models of the amplitude", population_text(result.population)),
         ("Cumulative evidence", cumulative_figure(result)),
         ("Per-event contributions", contributions_figure(result)),
         ("Events", table(["event", "ln BF₊", "ln BF₋", "method and sample set", "included", "reason dropped"],

@@ -27,6 +27,7 @@ class CatalogResult(ResultFile):
     expected_vs_observed: dict = field(default_factory=dict)
     controls: list = field(default_factory=list)  # control events (no memory injected, or flagged), not summed
     consistency: dict = field(default_factory=dict)  # each event against the shared amplitude (leave-one-out)
+    population: dict = field(default_factory=dict)  # population models of the amplitudes, each with its evidence
     method_rule: str = ""
     n_events: int = 0
     event_runs: list = field(default_factory=list)  # a catalog run's events: status, reason, page, wall time

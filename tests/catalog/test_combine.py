@@ -159,3 +159,21 @@ def test_shared_unknown_sign_and_low_effective_samples_are_reported():
     flagged = combine([record("thin", 0.1, -0.1, curve=thin)]).to_json()["amplitude"]["effective_samples"]["flagged"]
     assert flagged[0]["label"] == "thin" and flagged[0]["below_threshold_from"] > 2.0 and flagged[0]["fewest"] == 3.0
 
+
+
+def test_population_models_run_on_the_included_curves_and_warn_when_the_grid_is_coarse():
+    # the shared model's evidence is the shared-A posterior's normalization: the same product on the same grid
+    coarse = np.linspace(-4, 4, 17)
+    settings = dict(SETTINGS, amplitude_grid=coarse.tolist())
+    curves = []
+    for centre in (0.9, 1.1, 1.0):
+        ln = -0.5 * ((coarse - centre) / 0.05) ** 2
+        curves.append({"amplitudes": coarse.tolist(), "ln_mean_ratio": ln.tolist(), "ln_mean_ratio_err": [0.0] * 17,
+                       "effective_sample_size": [1000.0] * 17, "base_amplitude": 0.0, "number_of_samples": 1000})
+    result = combine([record(f"e{i}", 0.1, -0.1, curve=c, settings=settings) for i, c in enumerate(curves)])
+    population = result.population
+    assert population["models"] == ["shared", "gaussian"] and population["events"] == 3
+    assert "fewer than 4 grid spacings" in population["resolution_note"]
+    assert population["shared"]["A"]["median"] == pytest.approx(result.amplitude["median"], abs=1e-9)
+    fine = combine([record(f"e{i}", 0.1, -0.1, curve=gaussian_curve(c, 0.5)) for i, c in enumerate((0.8, 1.2))])
+    assert fine.population["resolution_note"] == ""
