@@ -10,6 +10,8 @@ against bilby's own polarizations:
   bound plus the merger and ringdown bounds plus three cycles at the minimum frequency, with the reference
   frequency kept; ``SimInspiralTDConditionStage1`` tapers the first ``0.1 t_chirp + 3 / f_min`` seconds and
   high-passes at the minimum frequency, ``SimInspiralTDConditionStage2`` tapers one cycle at each end;
+- the same for SEOBNRv5PHM and SEOBNRv5HM, whose frequency-domain polarizations pyseobnr makes this way (bilby
+  takes them through ``gwsignal_binary_black_hole``);
 - ``start taper`` (SEOBNRv4PHM): the model is generated from the minimum frequency and only
   ``SimInspiralREAL8WaveTaper`` (start) is applied;
 - then the series is cut or zero-padded at its start to ``2 f_nyquist / delta_f`` samples (``f_nyquist`` is the
@@ -31,7 +33,9 @@ import numpy as np
 from ..common.errors import WaveformError
 
 LOWERED_START, START_TAPER, LIBRARY = "lowered start", "start taper", "library"
-ROUTES = {"IMRPhenomTHM": LOWERED_START, "IMRPhenomTPHM": LOWERED_START, "SEOBNRv4PHM": START_TAPER}
+ROUTES = {"IMRPhenomTHM": LOWERED_START, "IMRPhenomTPHM": LOWERED_START, "SEOBNRv4PHM": START_TAPER,
+          "SEOBNRv5PHM": LOWERED_START, "SEOBNRv5HM": LOWERED_START}
+GWSIGNAL_MODELS = ("SEOBNRv5PHM", "SEOBNRv5HM")  # bilby's gwsignal_binary_black_hole (pyseobnr) is their model
 EXTRA_TIME_FRACTION, EXTRA_CYCLES = 0.1, 3.0  # lalsimulation's SimInspiralTD
 # the waveform arguments bilby's lal_binary_black_hole takes
 BILBY_KEYS = ("waveform_approximant", "reference_frequency", "minimum_frequency", "maximum_frequency",
@@ -125,9 +129,14 @@ def library_polarizations(frequency_array, values: dict, settings: dict) -> dict
     kwargs["catch_waveform_errors"] = True
     names = ("mass_1", "mass_2", "luminosity_distance", "a_1", "tilt_1", "phi_12", "a_2", "tilt_2", "phi_jl",
              "theta_jn", "phase")
+    model = (bilby.gw.source.gwsignal_binary_black_hole if settings["waveform_approximant"] in GWSIGNAL_MODELS
+             else bilby.gw.source.lal_binary_black_hole)
+    if model is not bilby.gw.source.lal_binary_black_hole:
+        kwargs = {k: v for k, v in kwargs.items() if k in ("waveform_approximant", "reference_frequency",
+                                                            "minimum_frequency", "maximum_frequency",
+                                                            "catch_waveform_errors", "mode_array")}
     try:
-        polarizations = bilby.gw.source.lal_binary_black_hole(frequency_array, **{k: values[k] for k in names},
-                                                              **kwargs)
+        polarizations = model(frequency_array, **{k: values[k] for k in names}, **kwargs)
     except RuntimeError as error:  # bilby passes on lalsimulation's errors other than a domain error
         raise WaveformError(f"waveform model '{settings['waveform_approximant']}' could not generate masses "
                             f"{values['mass_1']:g} and {values['mass_2']:g} solar masses with these settings "

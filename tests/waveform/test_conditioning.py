@@ -1,4 +1,5 @@
 """A = 0 is bilby's own likelihood for every model: polarizations, ln L on bilby-made data, quiet and loud."""
+import os
 import zlib
 
 import bilby
@@ -9,6 +10,7 @@ from memory_infer.inference.likelihood import MemoryTransient
 from memory_infer.waveform.conditioning import LIBRARY, LOWERED_START, START_TAPER, conditioning, route
 from memory_infer.waveform.frequency_source import signal_parts
 from memory_infer.waveform.generator import waveform_generator
+from memory_infer.waveform.models import pyseobnr_modes
 
 START = 1e9
 ALIGNED = dict(mass_1=36.0, mass_2=29.0, a_1=0.3, a_2=0.2, tilt_1=0.0, tilt_2=np.pi, phi_12=0.0, phi_jl=0.0,
@@ -18,9 +20,19 @@ NONSPINNING = dict(ALIGNED, mass_1=20.0, mass_2=15.0, a_1=0.0, a_2=0.0)
 # (model, source, random points per data set); SEOBNRv4PHM costs about a second per call
 CASES = [("IMRPhenomTHM", ALIGNED, 20), ("IMRPhenomTPHM", ALIGNED, 20), ("IMRPhenomTPHM", PRECESSING, 20),
          ("SEOBNRv4PHM", ALIGNED, 2), ("SEOBNRv4PHM", PRECESSING, 2), ("TaylorT4", NONSPINNING, 20),
-         ("IMRPhenomXHM", ALIGNED, 20), ("IMRPhenomXPHM", PRECESSING, 6)]
+         ("IMRPhenomXHM", ALIGNED, 20), ("IMRPhenomXPHM", PRECESSING, 6), ("SEOBNRv5PHM", ALIGNED, 4),
+         ("SEOBNRv5PHM", PRECESSING, 4)]
 # quiet: H1 + L1 at design sensitivity, SNR 12; loud: Cosmic Explorer, SNR 2,000 (the distance is set to give it)
 NETWORKS = {"quiet": (("H1", "L1"), 12.0), "loud": (("CE",), 2000.0)}
+
+
+def reference_model(approximant):
+    """bilby's own source model for the approximant: gwsignal's route for the pyseobnr models, else lalsimulation's."""
+    if approximant in pyseobnr_modes.MODELS:
+        if not pyseobnr_modes.available() and not os.environ.get("MEMORY_INFER_REQUIRE_PYSEOBNR"):
+            pytest.skip("pyseobnr (the optional seobnr extra) is not installed")
+        return bilby.gw.source.gwsignal_binary_black_hole
+    return bilby.gw.source.lal_binary_black_hole
 
 
 def frequencies(duration, rate):
@@ -93,7 +105,7 @@ def test_zero_memory_likelihood_is_bilbys_at_random_points(approximant, source, 
     truth = dict(source, luminosity_distance=1000.0, geocent_time=START + 2.0)
     arguments = dict(waveform_approximant=approximant, minimum_frequency=20.0, reference_frequency=20.0)
     theirs = bilby.gw.WaveformGenerator(duration=duration, sampling_frequency=rate, start_time=START,
-                                        frequency_domain_source_model=bilby.gw.source.lal_binary_black_hole,
+                                        frequency_domain_source_model=reference_model(approximant),
                                         parameter_conversion=bilby.gw.conversion.convert_to_lal_binary_black_hole_parameters,
                                         waveform_arguments=arguments)
     detectors = bilby.gw.detector.InterferometerList(list(names))

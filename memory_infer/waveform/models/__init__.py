@@ -9,10 +9,11 @@ from __future__ import annotations
 
 from ...common.errors import WaveformError
 from .series import ModeSeries
-from . import analytic, fd_modes, lal_modes
+from . import analytic, fd_modes, lal_modes, pyseobnr_modes
 from .refine import finer_levels
 
-SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", analytic.NAME)  # time-domain modes
+SUPPORTED = ("IMRPhenomTHM", "IMRPhenomTPHM", "SEOBNRv4PHM", "TaylorT4", *pyseobnr_modes.MODELS,
+             analytic.NAME)  # time-domain modes (SEOBNRv5 through the optional pyseobnr package)
 FREQUENCY_DOMAIN = fd_modes.FD_MODELS  # frequency-domain modes: through the source model only (frequency_source)
 DEFAULT_APPROXIMANT = "IMRPhenomTHM"
 DEFAULT_MINIMUM_FREQUENCY = 20.0  # Hz, the analysis band's lower edge
@@ -40,6 +41,9 @@ def generate_modes(approximant: str, mass_1: float, mass_2: float, luminosity_di
     def generate(step, start, reference):
         if approximant == analytic.NAME:
             return analytic.leading_order_inspiral(mass_1, mass_2, luminosity_distance, step, start)
+        if approximant in pyseobnr_modes.MODELS:
+            return pyseobnr_modes.seobnr_modes(approximant, mass_1, mass_2, luminosity_distance, step, start, spin_1,
+                                               spin_2, reference, mode_list)
         return lal_modes.choose_td_modes(approximant, mass_1, mass_2, luminosity_distance, step, start,
                                          spin_1, spin_2, reference, mode_list)
 
@@ -55,6 +59,8 @@ def takes_precessing_spins(approximant: str) -> bool:
         return False
     if fd_modes.is_frequency_domain(approximant):
         return approximant in fd_modes.PRECESSING
+    if approximant in pyseobnr_modes.MODELS:
+        return approximant in pyseobnr_modes.PRECESSING
     return lal_modes.spin_support(approximant) == "precessing"
 
 

@@ -48,19 +48,18 @@ def _quiet(capture: io.StringIO | None):
         lal.swig_redirect_standard_output_error(False)
 
 
-# models of the pyseobnr package: its source package needs the GSL development library to build
+# models of the pyseobnr package: SEOBNRv5PHM and SEOBNRv5HM run through .pyseobnr_modes, the eccentric one does not run
 PYSEOBNR_MODELS = ("SEOBNRv5PHM", "SEOBNRv5HM", "SEOBNRv5EHM")
 
 
 def _refuse_pyseobnr(approximant: str) -> None:
-    try:
-        import pyseobnr  # noqa: F401
-    except ImportError:
-        raise WaveformError(f"waveform model '{approximant}' needs the pyseobnr package, which is not installed "
-                            "here (its source package needs the GSL development library to build); use "
-                            "IMRPhenomXPHM or IMRPhenomTPHM instead") from None
-    raise WaveformError(f"waveform model '{approximant}' through pyseobnr is not supported yet; use IMRPhenomXPHM "
-                        "or IMRPhenomTPHM instead")
+    from .pyseobnr_modes import INSTALL_HINT, MODELS
+
+    if approximant in MODELS:
+        raise WaveformError(f"waveform model '{approximant}' runs through the pyseobnr package, not lalsimulation's "
+                            f"mode functions; if it is missing, {INSTALL_HINT}")
+    raise WaveformError(f"waveform model '{approximant}' (eccentric) is not supported; use SEOBNRv5PHM or "
+                        "IMRPhenomXPHM instead")
 
 
 @functools.lru_cache(maxsize=32)  # refusals raise and are not kept
