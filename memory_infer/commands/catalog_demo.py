@@ -6,9 +6,12 @@ the run's configuration, PSDs and metadata. Everything here is invented (demo da
 from __future__ import annotations
 
 import os
+import shutil
 import tempfile
 
 import numpy as np
+
+from ..common.errors import MemoryInferError
 
 # label, masses (detector frame, solar masses), distance (Mpc), inclination, memory amplitude injected
 DEMO_EVENTS = [
@@ -198,6 +201,15 @@ def demo_catalog(folder: str, live_points: int | None = DEMO_LIVE_POINTS, events
     return path
 
 
+def check_pesummary() -> None:
+    """One sentence when pesummary, which writes the demo's releases, is not installed."""
+    import importlib.util
+
+    if importlib.util.find_spec("pesummary") is None:
+        raise MemoryInferError("the demo catalog writes its releases with pesummary, which is not installed; "
+                               "install it with pip install \".[test]\" (or pip install \"memory_infer[test]\")")
+
+
 def run_demo_catalog(args) -> int:
     """``memory-infer demo --catalog``: the invented events' files, then the catalog command on them."""
     import argparse
@@ -210,8 +222,15 @@ def run_demo_catalog(args) -> int:
     inputs = os.path.join(outdir, "catalog_inputs")
     path = os.path.join(inputs, "catalog.toml")
     if not os.path.isfile(path):  # made once; a rerun resumes the catalog
+        check_pesummary()
         print(f"making {len(DEMO_EVENTS)} invented events (open-data strain, short bilby runs, pesummary releases)")
-        made = demo_catalog(inputs + ".partial", live_points=DEMO_LIVE_POINTS, workers=args.workers)
+        partial = inputs + ".partial"
+        shutil.rmtree(partial, ignore_errors=True)  # left by a run killed before it could clean up
+        try:
+            made = demo_catalog(partial, live_points=DEMO_LIVE_POINTS, workers=args.workers)
+        except BaseException:  # noqa: BLE001 - failed or interrupted: no half-made inputs stay behind
+            shutil.rmtree(partial, ignore_errors=True)
+            raise
         os.replace(os.path.dirname(made), inputs)
     code = catalog.run(argparse.Namespace(catalog=path, outdir=os.path.join(outdir, "catalog"),
                                           workers=args.workers, scheduler=None, quiet=False))

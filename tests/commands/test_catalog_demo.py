@@ -1,5 +1,7 @@
 """The demo's invented events are files the trade's own readers take: gwpy reads the strain, pesummary the
 release."""
+import os
+
 import numpy as np
 import pytest
 
@@ -20,3 +22,29 @@ def test_invented_event_files_read_by_gwpy_and_pesummary(tmp_path):
     samples = release.samples_dict["C01:IMRPhenomTHM"]
     assert len(samples["mass_1"]) == 20 and abs(np.median(samples["mass_1"]) - 36.0) < 0.5
     assert release.config["C01:IMRPhenomTHM"]["config"]["trigger-time"] == "1000000016.0"
+
+
+def test_demo_catalog_without_pesummary_says_so_in_one_sentence(tmp_path, monkeypatch, capsys):
+    import importlib.util
+
+    from memory_infer.cli import main
+
+    real = importlib.util.find_spec
+    monkeypatch.setattr(importlib.util, "find_spec", lambda name, *a: None if name == "pesummary" else real(name, *a))
+    assert main(["demo", "--catalog", "--outdir", str(tmp_path / "out")]) == 2
+    err = capsys.readouterr().err.strip()
+    assert err.count("\n") == 0 and "pesummary" in err and "memory_infer[test]" in err
+    assert not (tmp_path / "out").exists()
+
+
+def test_a_failed_demo_catalog_leaves_no_partial_folder(tmp_path, monkeypatch, capsys):
+    from memory_infer.cli import main
+    from memory_infer.commands import catalog_demo
+
+    def broken(*args, **kwargs):
+        raise RuntimeError("invented failure")
+
+    monkeypatch.setattr(catalog_demo, "demo_catalog", lambda folder, **kw: (os.makedirs(folder), broken()))
+    with pytest.raises(RuntimeError):
+        main(["demo", "--catalog", "--outdir", str(tmp_path / "out")])
+    assert os.listdir(tmp_path / "out") == []
