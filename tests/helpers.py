@@ -134,6 +134,23 @@ def run_store(config_path, outdir, executor, window):
     return stored(outdir)
 
 
+# ---------------------------------------------------------------- processes
+
+def session_processes(session: int) -> list:
+    """Live processes (zombies excluded: they have ended) of one session, from /proc (Linux)."""
+    out = []
+    for entry in os.listdir("/proc"):
+        if entry.isdigit():
+            try:
+                with open(f"/proc/{entry}/stat") as handle:
+                    fields = handle.read().rsplit(")", 1)[1].split()
+            except OSError:
+                continue
+            if int(fields[3]) == session and fields[0] not in ("Z", "X"):  # fields: state, ppid, pgrp, session
+                out.append(int(entry))
+    return out
+
+
 # ---------------------------------------------------------------- references
 
 def bilby_memory_snr(generator, source, detectors, asd_file, minimum_frequency, rate, duration, start):

@@ -90,8 +90,11 @@ def run(args) -> int:
     try:
         execute_events(tasks, store, executor, on_record=lambda record: event_files(record, outdir),
                        progress=not args.quiet, window=window)
-    finally:
-        executor.close()
+    except BaseException:  # interrupted (Ctrl-C) or failed: end the workers now; committed events are kept
+        executor.close(now=True)
+        store.close()
+        raise
+    executor.close()
     records = store.records()
     store.close()
     for record in records:  # pages of events finished before an interruption

@@ -101,3 +101,34 @@ def test_catalog_file_problems_are_one_sentence(tmp_path, capsys):
     path.write_text('[[events]]\nlabel = "a"\nrelease = "r.h5"\nstrain = { H1 = "x.hdf5" }\ncolour = 1\n')
     assert main(["catalog", str(path), "--outdir", str(tmp_path / "out")]) == 2
     assert "unknown key 'colour' in event 1 of bad.toml" in capsys.readouterr().err
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+@pytest.mark.parametrize("moment", ["while the command loads", "while its workers load"])
+def test_early_ctrl_c_is_one_line(catalog, tmp_path, moment):
+    """SIGINT to the whole process group, as a terminal's Ctrl-C sends it, before any event ran: exit status 130,
+    one line on standard error (no worker's traceback), no process left."""
+    from helpers import session_processes
+
+    command = [sys.executable, "-m", "memory_infer.cli", "catalog", catalog, "--outdir", str(tmp_path / "out"),
+               "--workers", "2", "--quiet"]
+    env = dict(os.environ, PYTHONPATH=os.getcwd() + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env,
+                               start_new_session=True, preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
+    if moment == "while the command loads":
+        time.sleep(0.3)
+    else:  # the two workers have started and are importing the package
+        deadline = time.time() + 60
+        while time.time() < deadline and len(session_processes(process.pid)) < 3:
+            time.sleep(0.02)
+        time.sleep(0.3)
+    os.killpg(process.pid, signal.SIGINT)
+    output, error = process.communicate(timeout=120)
+    assert process.returncode == 130, error
+    named = "memory-infer" if moment == "while the command loads" else "memory-infer catalog"
+    assert [line for line in error.splitlines() if line.strip()] == [
+        f"{named}: interrupted; finished outputs are kept."], error
+    deadline = time.time() + 5
+    while time.time() < deadline and session_processes(process.pid):
+        time.sleep(0.1)
+    assert session_processes(process.pid) == []
