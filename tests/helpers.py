@@ -199,7 +199,7 @@ def small_catalog(folder, count=5, extra=""):
     import h5py
     import numpy as np
 
-    gappy = os.path.join(folder, "H-H1_GWOSC_4KHZ_R1-1000000000-32-gap.hdf5")
+    gappy = os.path.join(folder, "H-H1_INVENTED_DEMO_4KHZ-1000000000-32-gap.hdf5")
     with h5py.File(os.path.join(folder, event["strain"]["H1"]), "r") as handle:
         strain, start = handle["strain/Strain"][()], handle["strain/Strain"].attrs["Xstart"]
     mask = np.full(32, 127)

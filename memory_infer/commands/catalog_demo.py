@@ -1,6 +1,6 @@
 """Invented catalog events made with the trade's own tools: Gaussian noise from bilby's noise curves with the
-signal injected (memory included), written in the open-data archive's layout (32 s at 4096 Hz, named as the
-archive names files); a short bilby run (dynesty through ``bilby.run_sampler``) on the 4 s, 1024 Hz segment cut
+signal injected (memory included), written in the open-data archive's layout (32 s at 4096 Hz, named in the
+archive's pattern but with our own tag, ``INVENTED_DEMO``, never the archive's); a short bilby run (dynesty through ``bilby.run_sampler``) on the 4 s, 1024 Hz segment cut
 from those files, without memory; and its posterior written by pesummary's own writer as a catalog release with
 the run's configuration, PSDs and metadata. Everything here is invented (demo data only)."""
 from __future__ import annotations
@@ -45,11 +45,12 @@ def _arguments():
 
 def strain_files(folder: str, trigger: float, injection: dict, seed: int, detectors=("H1", "L1"),
                  curve: str = "ligo-design") -> dict:
-    """Open-data-layout files (32 s at 4096 Hz around ``trigger``) of Gaussian noise with the injection."""
+    """Open-data-layout files (32 s at 4096 Hz around ``trigger``) of Gaussian noise with the injection, named with
+    our own tag (:func:`memory_infer.inputs.open_data.invented_data_name`)."""
     import bilby
 
     from ..inputs.detectors import noise_curve_path
-    from ..inputs.open_data import open_data_name, write_open_data
+    from ..inputs.open_data import invented_data_name, write_open_data
     from ..waveform.generator import waveform_generator
 
     start = int(trigger) - FILE_SECONDS // 2
@@ -63,7 +64,7 @@ def strain_files(folder: str, trigger: float, injection: dict, seed: int, detect
     interferometers.inject_signal(waveform_generator=generator, parameters=injection, raise_error=True)
     files = {}
     for detector in interferometers:
-        name = open_data_name(detector.name, start, FILE_SECONDS, FILE_RATE)
+        name = invented_data_name(detector.name, start, FILE_SECONDS, FILE_RATE)
         write_open_data(os.path.join(folder, name), detector.strain_data.time_domain_strain, FILE_RATE, start,
                         detector.name)
         files[detector.name] = name

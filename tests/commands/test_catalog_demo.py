@@ -13,7 +13,9 @@ def test_invented_event_files_read_by_gwpy_and_pesummary(tmp_path):
     pesummary_io = pytest.importorskip("pesummary.io")
     event = invented_event(str(tmp_path), "tern-01", (36.0, 30.0), 300.0, 0.9, 1.0, seed=4,
                            trigger=1_000_000_016.0, live_points=None, stand_in=20)
-    assert event["strain"]["H1"] == "H-H1_GWOSC_4KHZ_R1-1000000000-32.hdf5"
+    # invented data carry our own tag, never the open-data archive's ("GWOSC")
+    assert event["strain"]["H1"] == "H-H1_INVENTED_DEMO_4KHZ-1000000000-32.hdf5"
+    assert not any("GWOSC" in name for name in os.listdir(tmp_path))
     series = gwpy.TimeSeries.read(str(tmp_path / event["strain"]["H1"]), format="hdf5.gwosc")
     assert series.sample_rate.value == 4096.0 and series.t0.value == 1_000_000_000 and series.duration.value == 32
     assert np.std(series.value) > 0
