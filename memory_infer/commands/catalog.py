@@ -9,7 +9,7 @@ from ..campaign.catalog_run import STORE, execute_events, fingerprint, plan_even
 from ..campaign.store import RecordStore
 from ..catalog.combine import combine
 from ..common.errors import MemoryInferError
-from ..common.writing import atomic_path, provenance, write_text
+from ..common.writing import atomic_path, output_folder, provenance, write_text
 from ..inputs.catalog_config import load_catalog
 from ..inputs.campaign_config import CAMPAIGN_SCHEMA, cluster_settings
 from ..inputs.config import apply_schema
@@ -80,7 +80,7 @@ def run(args) -> int:
     cluster = cluster_settings(apply_schema({"cluster": cluster}, {"cluster": CAMPAIGN_SCHEMA["cluster"]},
                                             "the catalog's [cluster]")["cluster"])
     outdir = os.path.abspath(args.outdir)
-    os.makedirs(outdir, exist_ok=True)
+    output_folder(outdir)
     tasks = plan_events(events, outdir)
     store = RecordStore(os.path.join(outdir, STORE), fingerprint(tasks))
     already = len(store.done())

@@ -218,8 +218,12 @@ def run_demo_catalog(args) -> int:
 
     from . import catalog
 
+    from ..common.writing import output_folder
+
     started = time.time()
     outdir = os.path.abspath(args.outdir)
+    if os.path.exists(outdir) and not os.path.isdir(outdir):
+        output_folder(outdir)  # one sentence: a file stands there
     inputs = os.path.join(outdir, "catalog_inputs")
     path = os.path.join(inputs, "catalog.toml")
     if not os.path.isfile(path):  # made once; a rerun resumes the catalog
