@@ -12,6 +12,7 @@ import tempfile
 import numpy as np
 
 from ..common.errors import MemoryInferError
+from ..common.writing import read_json, write_json
 
 # label, masses (detector frame, solar masses), distance (Mpc), inclination, memory amplitude injected
 DEMO_EVENTS = [
@@ -202,6 +203,35 @@ def demo_catalog(folder: str, live_points: int | None = DEMO_LIVE_POINTS, events
     return path
 
 
+MADE_WITH = "made_with.json"  # beside the invented inputs: what made them
+
+
+def inputs_made_with() -> dict:
+    """What the invented inputs depend on: this module's code (events, settings, how they are written) and the
+    versions of the tools that make them."""
+    import importlib.metadata as metadata
+
+    from ..inference.digests import digest_of
+
+    with open(__file__, encoding="utf-8") as handle:
+        code = digest_of(handle.read())
+    versions = {}
+    for package in ("memory_infer", "bilby", "dynesty", "lalsuite", "pesummary", "numpy"):
+        try:
+            versions[package] = metadata.version(package)
+        except metadata.PackageNotFoundError:
+            versions[package] = None
+    return {"code": code, "versions": versions}
+
+
+def recorded_made_with(inputs: str) -> dict | None:
+    """What made the inputs in ``inputs``, as recorded there (None when nothing was recorded)."""
+    try:
+        return read_json(os.path.join(inputs, MADE_WITH), "the record of what made the demo's inputs")
+    except MemoryInferError:
+        return None
+
+
 def check_pesummary() -> None:
     """One sentence when pesummary, which writes the demo's releases, is not installed."""
     import importlib.util
@@ -226,17 +256,24 @@ def run_demo_catalog(args) -> int:
         output_folder(outdir)  # one sentence: a file stands there
     inputs = os.path.join(outdir, "catalog_inputs")
     path = os.path.join(inputs, "catalog.toml")
-    if not os.path.isfile(path):  # made once; a rerun resumes the catalog
+    made_with = inputs_made_with()
+    if not (os.path.isfile(path) and recorded_made_with(inputs) == made_with):  # made once; a rerun resumes
         check_pesummary()
+        if os.path.isdir(inputs):
+            print("the invented events in catalog_inputs were made by other code or tools: making them again")
         print(f"making {len(DEMO_EVENTS)} invented events (open-data strain, short bilby runs, pesummary releases)")
         partial = inputs + ".partial"
         shutil.rmtree(partial, ignore_errors=True)  # left by a run killed before it could clean up
         try:
             made = demo_catalog(partial, live_points=DEMO_LIVE_POINTS, workers=args.workers)
+            write_json(os.path.join(partial, MADE_WITH), made_with)
         except BaseException:  # noqa: BLE001 - failed or interrupted: no half-made inputs stay behind
             shutil.rmtree(partial, ignore_errors=True)
             raise
+        if os.path.isdir(inputs):  # the old inputs replaced only once the new ones are whole
+            os.replace(inputs, inputs + ".old")
         os.replace(os.path.dirname(made), inputs)
+        shutil.rmtree(inputs + ".old", ignore_errors=True)
     code = catalog.run(argparse.Namespace(catalog=path, outdir=os.path.join(outdir, "catalog"),
                                           workers=args.workers, scheduler=None, quiet=False))
     print(f"demo catalog finished in {time.time() - started:.0f} s; open {os.path.join(outdir, 'catalog', 'report.html')}")

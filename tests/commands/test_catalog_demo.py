@@ -50,3 +50,32 @@ def test_a_failed_demo_catalog_leaves_no_partial_folder(tmp_path, monkeypatch, c
     with pytest.raises(RuntimeError):
         main(["demo", "--catalog", "--outdir", str(tmp_path / "out")])
     assert os.listdir(tmp_path / "out") == []
+
+
+def test_demo_inputs_made_by_other_code_are_made_again(tmp_path, monkeypatch, capsys):
+    """The invented inputs are reused only when the code and tools that made them are the same; otherwise they
+    are made again (said so), never served stale."""
+    from memory_infer.cli import main
+    from memory_infer.commands import catalog, catalog_demo
+
+    made = []
+
+    def fake_catalog(folder, **kwargs):
+        os.makedirs(folder)
+        made.append(folder)
+        with open(os.path.join(folder, "catalog.toml"), "w") as handle:
+            handle.write(f"# made {len(made)}\n")
+        return os.path.join(folder, "catalog.toml")
+
+    monkeypatch.setattr(catalog_demo, "demo_catalog", fake_catalog)
+    monkeypatch.setattr(catalog, "run", lambda args: 0)
+    outdir = tmp_path / "out"
+    for _ in range(2):
+        assert main(["demo", "--catalog", "--outdir", str(outdir)]) == 0
+    assert len(made) == 1  # the second run reused them
+    monkeypatch.setattr(catalog_demo, "inputs_made_with", lambda: {"code": "other", "versions": {}})
+    capsys.readouterr()
+    assert main(["demo", "--catalog", "--outdir", str(outdir)]) == 0
+    assert len(made) == 2 and "made by other code or tools: making them again" in capsys.readouterr().out
+    assert (outdir / "catalog_inputs" / "catalog.toml").read_text() == "# made 2\n"
+    assert sorted(os.listdir(outdir)) == ["catalog_inputs"]  # no .partial or .old left
