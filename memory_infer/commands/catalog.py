@@ -33,8 +33,13 @@ def add_arguments(parser):
 
 def event_files(record: dict, outdir: str) -> str | None:
     """Write a finished event's evidence.json and report.html (from its stored record); returns the page's path
-    relative to ``outdir``."""
+    relative to ``outdir``. For an event not finished now (refused or failed on its new inputs), the files of an
+    earlier result are removed: they would show numbers its current inputs did not give."""
     if record["status"] != "done":
+        folder = os.path.join(outdir, "events", _folder(record["label"]))
+        for name in (EventResult.FILE, "report.html"):
+            if os.path.isfile(os.path.join(folder, name)):
+                os.remove(os.path.join(folder, name))
         return None
     result = EventResult.from_json(record["result"], f"the stored result of '{record['label']}'")
     folder = os.path.join(outdir, "events", _folder(record["label"]))

@@ -167,3 +167,17 @@ def test_a_catalog_refused_as_a_whole_writes_nothing(tmp_path, capsys):
     assert main(["catalog", str(tmp_path / "c.toml"), "--outdir", str(tmp_path / "out"), "--quiet"]) == 2
     assert capsys.readouterr().err.startswith("memory-infer catalog: no event of the catalog finished: a: refused")
     assert not (tmp_path / "out").exists()
+
+
+def test_an_event_refused_on_rerun_keeps_no_earlier_result(tmp_path):
+    """An event that finished before and is refused on its changed inputs: its earlier evidence.json and page are
+    removed, not left beside the catalog that lists it as refused."""
+    from memory_infer.commands.catalog import event_files
+
+    folder = tmp_path / "events" / "a"
+    folder.mkdir(parents=True)
+    for name in ("evidence.json", "report.html"):
+        (folder / name).write_text("from the earlier inputs")
+    (folder / "runs").mkdir()
+    assert event_files({"label": "a", "status": "refused", "reason": "bad"}, str(tmp_path)) is None
+    assert sorted(os.listdir(folder)) == ["runs"]
