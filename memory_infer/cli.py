@@ -53,16 +53,28 @@ def show_library_messages() -> None:
 
 
 def main(argv=None) -> int:
-    from .common.performance import tune_allocator
+    command = "memory-infer"
+    try:  # Ctrl-C at any moment, even while the libraries load: one line
+        from .common.performance import tune_allocator
 
-    for name in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):  # before numpy loads: one thread
-        os.environ.setdefault(name, "1")  # per process (parallel work is processes; see campaign.executors)
-    tune_allocator()
-    import bilby  # noqa: F401  (its import sets its logger to INFO; quieten it afterwards)
+        for name in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):  # before numpy loads: one
+            os.environ.setdefault(name, "1")  # thread per process (parallel work is processes; see campaign.executors)
+        tune_allocator()
+        import bilby  # noqa: F401  (its import sets its logger to INFO; quieten it afterwards)
 
-    logging.getLogger("bilby").setLevel(logging.WARNING)
-    show_library_messages()
-    args = build_parser().parse_args(argv)
+        logging.getLogger("bilby").setLevel(logging.WARNING)
+        show_library_messages()
+        args = build_parser().parse_args(argv)
+        command = f"memory-infer {args.command}"
+        return _run(args)
+    except KeyboardInterrupt:
+        sys.stdout.flush()
+        print(f"{command}: interrupted; finished outputs are kept.", file=sys.stderr)
+        return 130
+
+
+def _run(args) -> int:
+    """The chosen command, with its bad input as one sentence (exit 2)."""
     try:
         code = _module(args.command).run(args)
         sys.stdout.flush()  # inside the try: a reader gone before the last line is handled below, not at exit
@@ -72,9 +84,6 @@ def main(argv=None) -> int:
     except MemoryInferError as error:
         print(f"memory-infer {args.command}: {error}.", file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print(f"memory-infer {args.command}: interrupted; finished outputs are kept.", file=sys.stderr)
-        return 130
 
 
 def _reader_gone() -> int:

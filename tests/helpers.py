@@ -134,6 +134,23 @@ def run_store(config_path, outdir, executor, window):
     return stored(outdir)
 
 
+# ---------------------------------------------------------------- processes
+
+def session_processes(session: int) -> list:
+    """Live processes (zombies excluded: they have ended) of one session, from /proc (Linux)."""
+    out = []
+    for entry in os.listdir("/proc"):
+        if entry.isdigit():
+            try:
+                with open(f"/proc/{entry}/stat") as handle:
+                    fields = handle.read().rsplit(")", 1)[1].split()
+            except OSError:
+                continue
+            if int(fields[3]) == session and fields[0] not in ("Z", "X"):  # fields: state, ppid, pgrp, session
+                out.append(int(entry))
+    return out
+
+
 # ---------------------------------------------------------------- references
 
 def bilby_memory_snr(generator, source, detectors, asd_file, minimum_frequency, rate, duration, start):
@@ -182,7 +199,7 @@ def small_catalog(folder, count=5, extra=""):
     import h5py
     import numpy as np
 
-    gappy = os.path.join(folder, "H-H1_GWOSC_4KHZ_R1-1000000000-32-gap.hdf5")
+    gappy = os.path.join(folder, "H-H1_INVENTED_DEMO_4KHZ-1000000000-32-gap.hdf5")
     with h5py.File(os.path.join(folder, event["strain"]["H1"]), "r") as handle:
         strain, start = handle["strain/Strain"][()], handle["strain/Strain"].attrs["Xstart"]
     mask = np.full(32, 127)

@@ -10,7 +10,6 @@ import time
 
 from ..common.errors import MemoryInferError
 from ..common.writing import JSONEncoder, provenance
-from .store import RecordStore
 
 STORE = "events.sqlite"
 
@@ -28,10 +27,51 @@ def safe_name(label: str) -> str:
     return "".join(c if c.isalnum() or c in "-_." else "_" for c in label) or "event"
 
 
-def fingerprint(tasks) -> str:
-    """What makes two catalog runs the same: every event's label and configuration."""
-    text = json.dumps([[t["label"], t["mapping"]] for t in tasks], sort_keys=True, cls=JSONEncoder)
-    return hashlib.sha256(text.encode()).hexdigest()
+def file_paths(value) -> list:
+    """Every existing file a configuration mapping names (strain, PSD, release, calibration tables), sorted."""
+    if isinstance(value, dict):
+        return sorted({path for item in value.values() for path in file_paths(item)})
+    if isinstance(value, (list, tuple)):
+        return sorted({path for item in value for path in file_paths(item)})
+    if isinstance(value, str) and os.path.isabs(value) and os.path.isfile(value):
+        return [value]
+    return []
+
+
+def content_digest(path: str) -> str:
+    """SHA-256 (first 16 hex digits) of a file's content, read in 1 MiB blocks."""
+    hasher = hashlib.sha256()
+    with open(path, "rb") as handle:
+        for block in iter(lambda: handle.read(1 << 20), b""):
+            hasher.update(block)
+    return hasher.hexdigest()[:16]
+
+
+def event_inputs(task: dict, store) -> dict:
+    """What an event's stored result depends on, as digests: its configuration mapping ("settings") and the
+    content of every file it names (by file name)."""
+    files = {}
+    for path in file_paths(task["mapping"]):
+        status = os.stat(path)
+        files[path] = store.file_digest(path, status.st_size, status.st_mtime_ns, lambda: content_digest(path))
+    text = json.dumps(task["mapping"], sort_keys=True, cls=JSONEncoder)
+    return {"settings": hashlib.sha256(text.encode()).hexdigest()[:16], "files": files}
+
+
+def inputs_digest(inputs: dict) -> str:
+    return hashlib.sha256(json.dumps(inputs, sort_keys=True).encode()).hexdigest()[:16]
+
+
+def what_changed(stored: dict | None, current: dict) -> str:
+    """In words, which of an event's inputs differ from those its stored result was made from."""
+    if not isinstance(stored, dict):
+        return "its stored result holds no record of its inputs"
+    parts = ["its settings"] if stored.get("settings") != current["settings"] else []
+    old, new = stored.get("files") or {}, current["files"]
+    changed = sorted({os.path.basename(p) for p in set(old) | set(new) if old.get(p) != new.get(p)})
+    if changed:
+        parts.append(f"the file{'s' if len(changed) > 1 else ''} {', '.join(repr(name) for name in changed)}")
+    return " and ".join(parts) or "its inputs"
 
 
 def run_catalog_event(task: dict) -> dict:
@@ -71,26 +111,49 @@ def run_catalog_event(task: dict) -> dict:
     return record
 
 
-def execute_events(tasks, store: RecordStore, executor, on_record=None, progress: bool = True,
-                   window: int = 8) -> int:
-    """Submit the events not yet stored (a bounded window); commit each record as it arrives, then hand it to
-    ``on_record``. One progress bar over events."""
+def stored_or_todo(tasks, store) -> tuple:
+    """(stored records still valid, tasks to run, one line per event run again and why): a stored event is kept
+    when the digest of its inputs is unchanged and it did not fail; one whose settings or files changed runs again
+    (a fixed event reruns into the same folder), as does one that failed."""
+    stored, kept, todo, notes = store.stored(), [], [], []
+    for task in tasks:
+        task["inputs"] = event_inputs(task, store)
+        task["digest"] = inputs_digest(task["inputs"])
+        digest, record = stored.get(task["label"], (None, None))
+        if record is not None and digest == task["digest"] and record["status"] != "failed":
+            kept.append(dict(record, index=task["index"]))
+            continue
+        if record is not None and digest != task["digest"]:
+            notes.append(f"{task['label']}: {what_changed(record.get('inputs'), task['inputs'])} changed since its "
+                         f"stored result ({record['status']}): running it again")
+        elif record is not None:
+            notes.append(f"{task['label']}: it failed before ({record['reason']}): running it again")
+        todo.append(task)
+    return kept, todo, notes
+
+
+def execute_events(tasks, store, executor, on_record=None, progress: bool = True, window: int = 8,
+                   plan: tuple | None = None) -> list:
+    """Submit the events whose stored result is missing, failed or made from other inputs
+    (:func:`stored_or_todo`, a bounded window); commit each record, with its inputs' digest, as it arrives, then
+    hand it to ``on_record``. One progress bar over events. Returns this catalog's records in its order. ``plan``:
+    the (kept, todo) of :func:`stored_or_todo` when the caller already has it."""
     from tqdm import tqdm
 
-    done = store.done()
-    todo = [t for t in tasks if t["index"] not in done]
-    bar = tqdm(total=len(tasks), initial=len(done), desc="events", unit="event", disable=not progress)
-    pending, position, written = set(), 0, 0
+    kept, todo = plan if plan is not None else stored_or_todo(tasks, store)[:2]
+    records = {record["label"]: record for record in kept}
+    bar = tqdm(total=len(tasks), initial=len(kept), desc="events", unit="event", disable=not progress)
+    pending, position = {}, 0
     try:
         while position < len(todo) or pending:
             while position < len(todo) and len(pending) < window:
-                pending.add(executor.submit(run_catalog_event, todo[position]))
+                pending[executor.submit(run_catalog_event, todo[position])] = todo[position]
                 position += 1
             for future in executor.as_completed(list(pending)):
-                pending.discard(future)
-                record = future.result()
-                store.write(record)
-                written += 1
+                task = pending.pop(future)
+                record = dict(future.result(), inputs=task["inputs"])
+                store.write(record, task["digest"])
+                records[record["label"]] = record
                 bar.update(1)
                 if on_record is not None:
                     on_record(record)
@@ -98,4 +161,4 @@ def execute_events(tasks, store: RecordStore, executor, on_record=None, progress
                     break
     finally:
         bar.close()
-    return written
+    return [records[task["label"]] for task in tasks]

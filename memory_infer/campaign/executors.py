@@ -105,6 +105,24 @@ def one_thread_each():
                 os.environ.pop(name, None)
 
 
+@contextlib.contextmanager
+def ctrl_c_held():
+    """Inside, SIGINT is blocked (held pending, not lost) in this thread, so that processes started inside inherit
+    it blocked: a Ctrl-C while a worker still imports the package (before :func:`die_with` leaves Ctrl-C to the
+    campaign) would otherwise end each worker with a long traceback of its import. On leaving, a Ctrl-C that
+    came meanwhile reaches this process as usual."""
+    import signal
+
+    if not hasattr(signal, "pthread_sigmask"):  # pragma: no cover - not POSIX
+        yield
+        return
+    previous = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
+    try:
+        yield
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, previous)
+
+
 class ProcessExecutor:
     """Local worker processes, each a fresh interpreter ("spawn"), started from the campaign's main thread: they
     inherit no pipes or locks from this threaded process (a forked worker could block for ever on a lock held by
@@ -120,7 +138,7 @@ class ProcessExecutor:
         context = multiprocessing.get_context("spawn")
         self.pool = concurrent.futures.ProcessPoolExecutor(max_workers=workers, mp_context=context,
                                                            initializer=start_worker, initargs=(os.getpid(), setup))
-        with one_thread_each():  # every worker started now (one per submission while none is idle)
+        with one_thread_each(), ctrl_c_held():  # every worker started now (one per submission while none is idle)
             for _ in range(workers):
                 self.pool.submit(int)
 

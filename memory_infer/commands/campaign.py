@@ -8,7 +8,7 @@ from ..campaign.executors import DaskExecutor, InlineExecutor, ProcessExecutor, 
 from ..campaign.store import RecordStore
 from ..campaign.summary import summarize
 from ..common.errors import MemoryInferError
-from ..common.writing import atomic_path, provenance, write_text
+from ..common.writing import atomic_path, output_folder, provenance, write_text
 from ..inputs.campaign_config import load_campaign_settings
 from ..reports.campaign import campaign_page, range_text
 from ..reports.html import number
@@ -49,7 +49,7 @@ def make_executor(args, cluster):
 
 def run(args) -> int:
     settings = load_campaign_settings(args.config)
-    os.makedirs(args.outdir, exist_ok=True)
+    output_folder(args.outdir)
     tasks = plan(settings, os.path.join(os.path.abspath(args.outdir), "work"))
     store = RecordStore(os.path.join(args.outdir, "records.sqlite"), fingerprint(tasks))
     executor, window = make_executor(args, settings.cluster)

@@ -5,12 +5,12 @@ from __future__ import annotations
 
 import os
 
-from ..campaign.catalog_run import STORE, execute_events, fingerprint, plan_events
-from ..campaign.store import RecordStore
+from ..campaign.catalog_run import STORE, execute_events, plan_events, stored_or_todo
+from ..campaign.store import EventStore
 from ..catalog.combine import combine
 from ..catalog.population import PopulationSettings
 from ..common.errors import MemoryInferError
-from ..common.writing import atomic_path, provenance, write_text
+from ..common.writing import atomic_path, output_folder, provenance, write_text
 from ..inputs.catalog_config import load_catalog
 from ..inputs.campaign_config import CAMPAIGN_SCHEMA, cluster_settings
 from ..inputs.config import apply_schema
@@ -36,8 +36,13 @@ def add_arguments(parser):
 
 def event_files(record: dict, outdir: str) -> str | None:
     """Write a finished event's evidence.json and report.html (from its stored record); returns the page's path
-    relative to ``outdir``."""
+    relative to ``outdir``. For an event not finished now (refused or failed on its new inputs), the files of an
+    earlier result are removed: they would show numbers its current inputs did not give."""
     if record["status"] != "done":
+        folder = os.path.join(outdir, "events", _folder(record["label"]))
+        for name in (EventResult.FILE, "report.html"):
+            if os.path.isfile(os.path.join(folder, name)):
+                os.remove(os.path.join(folder, name))
         return None
     result = EventResult.from_json(record["result"], f"the stored result of '{record['label']}'")
     folder = os.path.join(outdir, "events", _folder(record["label"]))
@@ -84,20 +89,33 @@ def run(args) -> int:
     cluster = cluster_settings(apply_schema({"cluster": cluster}, {"cluster": CAMPAIGN_SCHEMA["cluster"]},
                                             "the catalog's [cluster]")["cluster"])
     outdir = os.path.abspath(args.outdir)
-    os.makedirs(outdir, exist_ok=True)
+    made_outdir = not os.path.isdir(outdir)
+    output_folder(outdir)
     tasks = plan_events(events, outdir)
-    store = RecordStore(os.path.join(outdir, STORE), fingerprint(tasks))
-    already = len(store.done())
-    if already:
-        print(f"resuming: {already} of {len(tasks)} events already finished")
-    executor, window = make_executor(args, cluster)
+    path = os.path.join(outdir, STORE)
+    new_store = not os.path.exists(path)
+    store = EventStore(path)
     try:
-        execute_events(tasks, store, executor, on_record=lambda record: event_files(record, outdir),
-                       progress=not args.quiet, window=window)
-    finally:
-        executor.close()
-    records = store.records()
+        kept, todo, notes = stored_or_todo(tasks, store)
+        executor, window = make_executor(args, cluster)
+    except BaseException:
+        store.close()
+        raise
+    if kept:
+        print(f"resuming: {len(kept)} of {len(tasks)} events already finished")
+    for note in notes:
+        print(note)
+    try:
+        records = execute_events(tasks, store, executor, on_record=lambda record: event_files(record, outdir),
+                                 progress=not args.quiet, window=window, plan=(kept, todo))
+    except BaseException:  # interrupted (Ctrl-C) or failed: end the workers now; committed events are kept
+        executor.close(now=True)
+        store.close()
+        raise
+    executor.close()
     store.close()
+    if not any(record["status"] == "done" for record in records) and new_store:
+        forget_store(path, outdir if made_outdir else None)  # refused as a whole: nothing written
     for record in records:  # pages of events finished before an interruption
         if record["status"] == "done" and not os.path.isfile(os.path.join(outdir, "events", _folder(record["label"]),
                                                                           "report.html")):
@@ -118,4 +136,23 @@ def run(args) -> int:
         print(f"left out {item['label']}: {item['reason']}")
     print("a Bayes factor is evidence under the stated models and noise assumptions, not a detection claim")
     print(f"wrote {outdir}/catalog.json, events.csv and report.html (each event under events/)")
+    unfinished = [record for record in records if record["status"] in ("refused", "failed")]
+    if unfinished:
+        print(f"{len(unfinished)} of {len(records)} events were refused or failed (listed above and in report.html); "
+              f"exit status {SOME_EVENTS_NOT_RUN}")
+        return SOME_EVENTS_NOT_RUN
     return 0
+
+
+SOME_EVENTS_NOT_RUN = 3  # the exit status of a catalog written without some events (refused or failed)
+
+
+def forget_store(path: str, made_folder: str | None) -> None:
+    """Remove an event store this run made when no event finished (the catalog is refused as a whole, and nothing
+    stays written), and the output folder if this run made it and it is left empty."""
+    os.remove(path)
+    if made_folder is not None:
+        try:
+            os.rmdir(made_folder)
+        except OSError:  # not empty: an event's working folder (a failed run's checkpoints) stays
+            pass

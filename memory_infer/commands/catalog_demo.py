@@ -1,14 +1,18 @@
 """Invented catalog events made with the trade's own tools: Gaussian noise from bilby's noise curves with the
-signal injected (memory included), written in the open-data archive's layout (32 s at 4096 Hz, named as the
-archive names files); a short bilby run (dynesty through ``bilby.run_sampler``) on the 4 s, 1024 Hz segment cut
+signal injected (memory included), written in the open-data archive's layout (32 s at 4096 Hz, named in the
+archive's pattern but with our own tag, ``INVENTED_DEMO``, never the archive's); a short bilby run (dynesty through ``bilby.run_sampler``) on the 4 s, 1024 Hz segment cut
 from those files, without memory; and its posterior written by pesummary's own writer as a catalog release with
 the run's configuration, PSDs and metadata. Everything here is invented (demo data only)."""
 from __future__ import annotations
 
 import os
+import shutil
 import tempfile
 
 import numpy as np
+
+from ..common.errors import MemoryInferError
+from ..common.writing import read_json, write_json
 
 # label, masses (detector frame, solar masses), distance (Mpc), inclination, memory amplitude injected
 DEMO_EVENTS = [
@@ -41,11 +45,12 @@ def _arguments():
 
 def strain_files(folder: str, trigger: float, injection: dict, seed: int, detectors=("H1", "L1"),
                  curve: str = "ligo-design") -> dict:
-    """Open-data-layout files (32 s at 4096 Hz around ``trigger``) of Gaussian noise with the injection."""
+    """Open-data-layout files (32 s at 4096 Hz around ``trigger``) of Gaussian noise with the injection, named with
+    our own tag (:func:`memory_infer.inputs.open_data.invented_data_name`)."""
     import bilby
 
     from ..inputs.detectors import noise_curve_path
-    from ..inputs.open_data import open_data_name, write_open_data
+    from ..inputs.open_data import invented_data_name, write_open_data
     from ..waveform.generator import waveform_generator
 
     start = int(trigger) - FILE_SECONDS // 2
@@ -59,7 +64,7 @@ def strain_files(folder: str, trigger: float, injection: dict, seed: int, detect
     interferometers.inject_signal(waveform_generator=generator, parameters=injection, raise_error=True)
     files = {}
     for detector in interferometers:
-        name = open_data_name(detector.name, start, FILE_SECONDS, FILE_RATE)
+        name = invented_data_name(detector.name, start, FILE_SECONDS, FILE_RATE)
         write_open_data(os.path.join(folder, name), detector.strain_data.time_domain_strain, FILE_RATE, start,
                         detector.name)
         files[detector.name] = name
@@ -198,6 +203,44 @@ def demo_catalog(folder: str, live_points: int | None = DEMO_LIVE_POINTS, events
     return path
 
 
+MADE_WITH = "made_with.json"  # beside the invented inputs: what made them
+
+
+def inputs_made_with() -> dict:
+    """What the invented inputs depend on: this module's code (events, settings, how they are written) and the
+    versions of the tools that make them."""
+    import importlib.metadata as metadata
+
+    from ..inference.digests import digest_of
+
+    with open(__file__, encoding="utf-8") as handle:
+        code = digest_of(handle.read())
+    versions = {}
+    for package in ("memory_infer", "bilby", "dynesty", "lalsuite", "pesummary", "numpy"):
+        try:
+            versions[package] = metadata.version(package)
+        except metadata.PackageNotFoundError:
+            versions[package] = None
+    return {"code": code, "versions": versions}
+
+
+def recorded_made_with(inputs: str) -> dict | None:
+    """What made the inputs in ``inputs``, as recorded there (None when nothing was recorded)."""
+    try:
+        return read_json(os.path.join(inputs, MADE_WITH), "the record of what made the demo's inputs")
+    except MemoryInferError:
+        return None
+
+
+def check_pesummary() -> None:
+    """One sentence when pesummary, which writes the demo's releases, is not installed."""
+    import importlib.util
+
+    if importlib.util.find_spec("pesummary") is None:
+        raise MemoryInferError("the demo catalog writes its releases with pesummary, which is not installed; "
+                               "install it with pip install \".[test]\" (or pip install \"memory_infer[test]\")")
+
+
 def run_demo_catalog(args) -> int:
     """``memory-infer demo --catalog``: the invented events' files, then the catalog command on them."""
     import argparse
@@ -205,14 +248,32 @@ def run_demo_catalog(args) -> int:
 
     from . import catalog
 
+    from ..common.writing import output_folder
+
     started = time.time()
     outdir = os.path.abspath(args.outdir)
+    if os.path.exists(outdir) and not os.path.isdir(outdir):
+        output_folder(outdir)  # one sentence: a file stands there
     inputs = os.path.join(outdir, "catalog_inputs")
     path = os.path.join(inputs, "catalog.toml")
-    if not os.path.isfile(path):  # made once; a rerun resumes the catalog
+    made_with = inputs_made_with()
+    if not (os.path.isfile(path) and recorded_made_with(inputs) == made_with):  # made once; a rerun resumes
+        check_pesummary()
+        if os.path.isdir(inputs):
+            print("the invented events in catalog_inputs were made by other code or tools: making them again")
         print(f"making {len(DEMO_EVENTS)} invented events (open-data strain, short bilby runs, pesummary releases)")
-        made = demo_catalog(inputs + ".partial", live_points=DEMO_LIVE_POINTS, workers=args.workers)
+        partial = inputs + ".partial"
+        shutil.rmtree(partial, ignore_errors=True)  # left by a run killed before it could clean up
+        try:
+            made = demo_catalog(partial, live_points=DEMO_LIVE_POINTS, workers=args.workers)
+            write_json(os.path.join(partial, MADE_WITH), made_with)
+        except BaseException:  # noqa: BLE001 - failed or interrupted: no half-made inputs stay behind
+            shutil.rmtree(partial, ignore_errors=True)
+            raise
+        if os.path.isdir(inputs):  # the old inputs replaced only once the new ones are whole
+            os.replace(inputs, inputs + ".old")
         os.replace(os.path.dirname(made), inputs)
+        shutil.rmtree(inputs + ".old", ignore_errors=True)
     code = catalog.run(argparse.Namespace(catalog=path, outdir=os.path.join(outdir, "catalog"),
                                           workers=args.workers, scheduler=None, quiet=False))
     print(f"demo catalog finished in {time.time() - started:.0f} s; open {os.path.join(outdir, 'catalog', 'report.html')}")

@@ -5,7 +5,7 @@ import os
 
 from ..catalog.combine import combine, find_records, load_record
 from ..catalog.population import LARGEST_SPREAD, PopulationSettings
-from ..common.writing import atomic_path, provenance, write_text
+from ..common.writing import atomic_path, output_folder, provenance, write_text
 from ..reports.catalog import catalog_page, catalog_size
 from ..reports.html import number
 from ..results.catalog import CatalogResult
@@ -32,7 +32,7 @@ def run(args) -> int:
     page = catalog_page(result)
     import pandas as pd
 
-    os.makedirs(args.outdir, exist_ok=True)
+    output_folder(args.outdir)
     result.save(os.path.join(args.outdir, CatalogResult.FILE))
     with atomic_path(os.path.join(args.outdir, "events.csv")) as temporary:
         pd.DataFrame(result.events + result.controls).to_csv(temporary, index=False)

@@ -180,6 +180,7 @@ def combine_events(outdir: str, event_dirs) -> None:
 def run(args) -> int:
     import argparse
 
+    from ..common.writing import output_folder
     from . import campaign
 
     if getattr(args, "catalog", False):
@@ -187,7 +188,7 @@ def run(args) -> int:
 
         return run_demo_catalog(args)
     started = time.time()
-    outdir = os.path.abspath(args.outdir)
+    outdir = output_folder(os.path.abspath(args.outdir))
     configs = os.path.join(outdir, "configs")
     event_dirs = run_events(outdir, args.live_points, started=started, workers=args.workers)
     print(f"demo [{time.time() - started:5.0f} s]: catalog combination", flush=True)

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import os
 
-from ..common.writing import provenance, write_text
+from ..common.writing import output_folder, provenance, write_text
 from ..inference.runner import run_event
 from ..inference.setup import prepare
 from ..inputs.config import load_evidence_settings
@@ -35,7 +35,7 @@ def run(args) -> int:
         logging.getLogger("bilby").setLevel(logging.INFO)
     settings = load_evidence_settings(args.config)
     setup = prepare(settings, seeded_bilby(settings.data.seed))  # every input checked before anything is written
-    os.makedirs(args.outdir, exist_ok=True)
+    output_folder(args.outdir)
     result = run_event(setup, args.outdir, progress=not getattr(args, "quiet", False))
     result.provenance = provenance(setup.settings.as_mapping(), settings.sampler.seed)
     result = result.reloaded()  # the report sees exactly what the file holds

@@ -6,7 +6,7 @@ import os
 import numpy as np
 
 from ..common.errors import MemoryInferError
-from ..common.writing import atomic_path
+from ..common.writing import atomic_path, output_folder
 from ..inputs.checks import light_binary_caution
 from ..inputs.detectors import NOISE_CURVES, optimal_snr, psd_values
 from ..waveform.models import DEFAULT_APPROXIMANT, SUPPORTED, generate_modes
@@ -59,7 +59,7 @@ def run(args) -> int:
     memory_snr = optimal_snr(memory_fd["plus"], psd, frequencies, args.start_frequency)
     oscillatory_snr = optimal_snr(oscillatory_fd["plus"], psd, frequencies, args.start_frequency)
 
-    os.makedirs(args.outdir, exist_ok=True)
+    output_folder(args.outdir)
     table_path = os.path.join(args.outdir, "memory_waveform.csv")
     figure_path = os.path.join(args.outdir, "memory_waveform.png")
     with atomic_path(table_path) as table_tmp, atomic_path(figure_path) as figure_tmp:

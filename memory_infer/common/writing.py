@@ -32,6 +32,20 @@ def current_umask() -> int:
     return mask
 
 
+def output_folder(path: str, option: str = "--outdir") -> str:
+    """Make the output folder ``path`` (and its parents) if needed; one sentence when a file stands in its place or
+    it cannot be made. Returns it."""
+    try:
+        os.makedirs(path, exist_ok=True)
+    except FileExistsError:
+        raise MemoryInferError(f"{option} '{path}' names a file, not a folder; give a folder") from None
+    except NotADirectoryError:
+        raise MemoryInferError(f"{option} '{path}' lies under a file, not a folder; give a folder") from None
+    except OSError as error:
+        raise MemoryInferError(f"{option} '{path}' cannot be made ({error.strerror})") from None
+    return path
+
+
 @contextlib.contextmanager
 def atomic_path(path: str):
     """Yield a temporary path beside ``path``; rename it onto ``path`` only if the block succeeds, with the

@@ -155,10 +155,23 @@ def binary_caution(approximant: str, injection: dict | None, priors, frame) -> s
     if frame is not None and {"mass_1", "mass_2"} <= set(frame.columns):
         return light_binary_caution(np.median(frame["mass_1"]), np.median(frame["mass_2"]), approximant,
                                     "the posterior samples' binary (medians)")
-    fixed = [priors.get(name) for name in ("mass_1", "mass_2")]
-    if all(prior is not None and getattr(prior, "is_fixed", False) for prior in fixed):
-        return light_binary_caution(fixed[0].peak, fixed[1].peak, approximant, "the binary")
+    fixed = {name: fixed_value(priors.get(name)) for name in ("mass_1", "mass_2", "chirp_mass", "mass_ratio")}
+    if fixed["mass_1"] is None and None not in (fixed["chirp_mass"], fixed["mass_ratio"]):
+        from bilby.gw.conversion import chirp_mass_and_mass_ratio_to_component_masses
+
+        fixed["mass_1"], fixed["mass_2"] = chirp_mass_and_mass_ratio_to_component_masses(fixed["chirp_mass"],
+                                                                                          fixed["mass_ratio"])
+    if fixed["mass_1"] is not None and fixed["mass_2"] is not None:
+        return light_binary_caution(fixed["mass_1"], fixed["mass_2"], approximant, "the binary")
     return None
+
+
+def fixed_value(prior) -> float | None:
+    """The value of a fixed (delta-function) prior; None for a sampled prior, a constraint or no prior (bilby
+    counts a Constraint as fixed, but it holds no value)."""
+    if prior is None or not getattr(prior, "is_fixed", False) or not hasattr(prior, "peak"):
+        return None
+    return float(prior.peak)
 
 
 def check_prior_spins(approximant: str, priors) -> None:
@@ -171,7 +184,7 @@ def check_prior_spins(approximant: str, priors) -> None:
 
     for i in ("1", "2"):
         spin = priors.get(f"a_{i}")
-        spinning = free(f"a_{i}") or (spin is not None and getattr(spin, "is_fixed", False) and spin.peak > 0)
+        spinning = free(f"a_{i}") or (fixed_value(spin) or 0.0) > 0
         if spinning and (free(f"tilt_{i}") or free("phi_12") or free("phi_jl")) \
                 and not takes_precessing_spins(approximant):
             raise MemoryInferError(f"the [priors] sample precessing spins (a_{i} with free tilts or azimuths), but "

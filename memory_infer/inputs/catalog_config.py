@@ -160,13 +160,44 @@ def load_catalog_folder(folder: str) -> tuple:
             events.append((label, {"_refused": f"no strain file in the folder covers the trigger time {trigger:.3f} "
                                                f"of {where}"}))
             continue
+        missing = uncovered_detector(found.get("detectors", (None,))[0], files, strain, trigger, where, folder)
+        if missing:  # never run on fewer detectors than the release analysed without a word
+            events.append((label, {"_refused": missing}))
+            continue
         entry = {"label": label, "release": os.path.relpath(release, folder), "strain": files}
         events.append((label, event_mapping(entry, {}, os.path.abspath(folder), where)))
     labels = [label for label, _ in events]
     duplicates = sorted({label for label in labels if labels.count(label) > 1})
     if duplicates:
-        raise MemoryInferError(f"several releases in '{folder}' name the same event: {', '.join(duplicates)}")
+        named = "; ".join(f"{label} in " + " and ".join(f"'{os.path.relpath(release, folder)}'"
+                                                       for release, (other, _) in zip(releases, events)
+                                                       if other == label) for label in duplicates)
+        raise MemoryInferError(f"several releases in '{folder}' hold the same event ({named}); keep one release per "
+                               "event in the folder, or list the events in a catalog file with labels of their own")
     return os.path.basename(os.path.normpath(folder)), events, {}
+
+
+NEARBY = 64.0  # s: a detector's file ending or starting this close to a trigger is taken as meant for that event
+
+
+def uncovered_detector(analysed, files: dict, strain: list, trigger: float, where: str, folder: str) -> str | None:
+    """One sentence when a detector the release analysed (``analysed``; when the release does not say, a detector
+    with a file within :data:`NEARBY` seconds of the trigger) has no strain file covering the trigger time."""
+    nearby = {detector for detector, start, duration, _ in strain
+              if start - NEARBY <= trigger < start + duration + NEARBY}
+    for detector in sorted(set(analysed or nearby) - set(files)):
+        near = sorted((abs(trigger - (start + duration / 2)), path, start, duration)
+                      for name, start, duration, path in strain if name == detector)
+        said = f"{where} analysed {detector}" if analysed else f"the folder holds {detector} strain near {where}"
+        if near:
+            _, path, start, duration = near[0]
+            return (f"{said}, but no {detector} strain file in the folder covers its trigger time "
+                    f"{trigger:.3f} (the nearest, '{os.path.relpath(path, folder)}', holds {start:.0f} to "
+                    f"{start + duration:.0f}); add the file that covers it, or list the event in a catalog file "
+                    "with the detectors to use")
+        return (f"{where} analysed {detector}, but the folder holds no {detector} strain file; add the file that "
+                "covers its trigger time, or list the event in a catalog file with the detectors to use")
+    return None
 
 
 def load_catalog(path: str) -> tuple:

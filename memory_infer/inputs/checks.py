@@ -50,6 +50,30 @@ def check_physical(values: dict, where: str) -> None:
             raise MemoryInferError(f"'mass_2' in {where} exceeds 'mass_1' (bilby orders the masses)")
 
 
+# the physical range of each parameter a prior may span (closed: a continuous prior's end points carry no mass)
+PRIOR_RANGES = {
+    "mass_1": (0.0, np.inf, "must be positive"), "mass_2": (0.0, np.inf, "must be positive"),
+    "chirp_mass": (0.0, np.inf, "must be positive"), "total_mass": (0.0, np.inf, "must be positive"),
+    "luminosity_distance": (0.0, np.inf, "must be positive"), "mass_ratio": (0.0, 1.0, "must lie in (0, 1]"),
+    "a_1": (0.0, 1.0, "must lie between 0 and 1"), "a_2": (0.0, 1.0, "must lie between 0 and 1"),
+    "chi_1": (-1.0, 1.0, "must lie between -1 and 1"), "chi_2": (-1.0, 1.0, "must lie between -1 and 1"),
+    "theta_jn": (0.0, np.pi, "must lie between 0 and pi"), "tilt_1": (0.0, np.pi, "must lie between 0 and pi"),
+    "tilt_2": (0.0, np.pi, "must lie between 0 and pi"), "dec": (-np.pi / 2, np.pi / 2, "must lie between -pi/2 and pi/2"),
+}
+
+
+def check_prior_range(name: str, minimum: float, maximum: float) -> None:
+    """One sentence when a prior on ``name`` reaches outside the parameter's physical range (a negative distance,
+    a spin magnitude above 1, ...): its waveforms would fail and count as zero likelihood without a word."""
+    if name not in PRIOR_RANGES:
+        return
+    low, high, text = PRIOR_RANGES[name]
+    for end in (float(minimum), float(maximum)):
+        if not low - 1e-12 <= end <= high + 1e-12:
+            raise MemoryInferError(f"the prior for '{name}' reaches {end:g}, but '{name}' {text}; give a prior "
+                                   "inside the physical range")
+
+
 def non_finite_sentence(numeric, columns: list, where: str) -> str:
     """Where the first NaN or infinite value of a table sits (column, and row counted from 1), and how many rows
     and other columns hold one."""

@@ -8,7 +8,7 @@ import os
 import numpy as np
 
 from ..common.errors import MemoryInferError
-from .checks import SOURCE_PARAMETERS, ZERO_DEFAULTS, check_physical
+from .checks import SOURCE_PARAMETERS, ZERO_DEFAULTS, check_physical, check_prior_range
 from .detectors import configured_detectors, detector_of, empty_detectors, interferometers_of, per_interferometer
 
 logger = logging.getLogger("memory_infer")
@@ -36,6 +36,7 @@ def _prior(name: str, spec, injection: dict | None):
     if isinstance(spec, bool) or not isinstance(spec, (int, float, dict)):
         raise MemoryInferError(f"prior for '{name}' must be a number (fixed) or a table with a 'kind'")
     if isinstance(spec, (int, float)):
+        check_physical({name: float(spec)}, "[priors]")
         return prior.DeltaFunction(float(spec), name=name)
     kind = spec.get("kind")
     try:
@@ -46,6 +47,7 @@ def _prior(name: str, spec, injection: dict | None):
             return prior.DeltaFunction(injection[name], name=name)
         if not (np.isfinite(low) and np.isfinite(high) and low < high):
             raise MemoryInferError(f"prior for '{name}' needs finite 'minimum' below 'maximum'")
+        check_prior_range(name, low, high)
         if kind == "uniform":
             return prior.Uniform(low, high, name=name)
         if kind == "periodic":

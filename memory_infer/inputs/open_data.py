@@ -215,9 +215,13 @@ def off_source_psd(path: str, rate: float, start: float, duration: float, psd_du
     return frequencies[keep], psd[keep], note
 
 
-def open_data_name(detector: str, start: int, duration: int, rate: float) -> str:
-    """The archive's file name, e.g. ``H-H1_GWOSC_4KHZ_R1-1000000000-32.hdf5``."""
-    return f"{detector[0]}-{detector}_GWOSC_{int(round(rate / 1024))}KHZ_R1-{int(start)}-{int(duration)}.hdf5"
+INVENTED_TAG = "INVENTED_DEMO"  # our own tag for invented data: never the archive's name
+
+
+def invented_data_name(detector: str, start: int, duration: int, rate: float) -> str:
+    """A file name in the archive's pattern (observatory, detector and tag, GPS start, seconds) but with our own
+    tag, so invented data cannot be taken for published data: ``H-H1_INVENTED_DEMO_4KHZ-1000000000-32.hdf5``."""
+    return f"{detector[0]}-{detector}_{INVENTED_TAG}_{int(round(rate / 1024))}KHZ-{int(start)}-{int(duration)}.hdf5"
 
 
 def write_open_data(path: str, strain, rate: float, start: float, detector: str, data_mask=None) -> None:

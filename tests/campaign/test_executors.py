@@ -15,7 +15,7 @@ from memory_infer.campaign.executors import InlineExecutor, ProcessExecutor, exe
 from memory_infer.campaign.store import RecordStore
 from memory_infer.common.errors import MemoryInferError
 
-from helpers import INJECTIONS, campaign_config, equal_to_rounding, run_store, stored
+from helpers import INJECTIONS, campaign_config, equal_to_rounding, run_store, session_processes, stored
 
 
 def test_kill_and_resume_gives_every_injection_once(tmp_path):
@@ -56,21 +56,6 @@ def test_local_pool_and_dask_cluster_agree(tmp_path):
         cluster.close()
     assert code == 0
     equal_to_rounding(stored(tmp_path / "dask"), local)  # another process: the last bits may round differently
-
-
-def session_processes(session: int) -> list:
-    """Live processes (zombies excluded: they have ended) of one session, from /proc (Linux)."""
-    out = []
-    for entry in os.listdir("/proc"):
-        if entry.isdigit():
-            try:
-                with open(f"/proc/{entry}/stat") as handle:
-                    fields = handle.read().rsplit(")", 1)[1].split()
-            except OSError:
-                continue
-            if int(fields[3]) == session and fields[0] not in ("Z", "X"):  # fields: state, ppid, pgrp, session
-                out.append(int(entry))
-    return out
 
 
 def stores_records(path) -> bool:

@@ -115,8 +115,8 @@ def test_slurm_catalog_equals_the_local_catalog(slurm, tmp_path):
     on_slurm = tmp_path / "events" / "slurm.toml"
     on_slurm.write_text(text + '\n[cluster]\nkind = "slurm"\njobs = 1\ncores = 1\nmemory = "2GB"\n'
                                'walltime = "00:20:00"\n')
-    assert main(["catalog", str(local), "--outdir", str(tmp_path / "here"), "--quiet"]) == 0
-    assert main(["catalog", str(on_slurm), "--outdir", str(tmp_path / "slurm"), "--quiet"]) == 0
+    assert main(["catalog", str(local), "--outdir", str(tmp_path / "here"), "--quiet"]) == 3  # one event refused
+    assert main(["catalog", str(on_slurm), "--outdir", str(tmp_path / "slurm"), "--quiet"]) == 3
     assert list((tmp_path / "slurm" / "work" / "job-logs").glob("*.err"))  # the job really ran under Slurm
     here = json.loads((tmp_path / "here" / "catalog.json").read_text())
     there = json.loads((tmp_path / "slurm" / "catalog.json").read_text())

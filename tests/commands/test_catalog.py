@@ -27,7 +27,7 @@ def _stored(outdir):
         return 0
     try:
         with sqlite3.connect(path, timeout=1) as connection:
-            return connection.execute("SELECT count(*) FROM records").fetchone()[0]
+            return connection.execute("SELECT count(*) FROM events").fetchone()[0]
     except sqlite3.OperationalError:
         return 0
 
@@ -35,7 +35,7 @@ def _stored(outdir):
 @pytest.fixture(scope="module")
 def uninterrupted(catalog, tmp_path_factory):
     outdir = tmp_path_factory.mktemp("whole")
-    assert main(["catalog", catalog, "--outdir", str(outdir), "--quiet"]) == 0
+    assert main(["catalog", catalog, "--outdir", str(outdir), "--quiet"]) == 3  # one event refused
     with open(outdir / "catalog.json") as handle:
         return outdir, json.load(handle)
 
@@ -86,7 +86,7 @@ def test_killed_catalog_resumes_to_the_same_catalog(catalog, uninterrupted, tmp_
     with capsys.disabled():
         print(f"killed with {before} of {EVENTS} events committed")
     capsys.readouterr()
-    assert main(["catalog", catalog, "--outdir", str(outdir), "--quiet"]) == 0
+    assert main(["catalog", catalog, "--outdir", str(outdir), "--quiet"]) == 3
     assert f"resuming: {before} of {EVENTS} events already finished" in capsys.readouterr().out
     assert _stored(outdir) == EVENTS
     resumed = json.loads((outdir / "catalog.json").read_text())
@@ -101,3 +101,83 @@ def test_catalog_file_problems_are_one_sentence(tmp_path, capsys):
     path.write_text('[[events]]\nlabel = "a"\nrelease = "r.h5"\nstrain = { H1 = "x.hdf5" }\ncolour = 1\n')
     assert main(["catalog", str(path), "--outdir", str(tmp_path / "out")]) == 2
     assert "unknown key 'colour' in event 1 of bad.toml" in capsys.readouterr().err
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
+@pytest.mark.parametrize("moment", ["while the command loads", "while its workers load"])
+def test_early_ctrl_c_is_one_line(catalog, tmp_path, moment):
+    """SIGINT to the whole process group, as a terminal's Ctrl-C sends it, before any event ran: exit status 130,
+    one line on standard error (no worker's traceback), no process left."""
+    from helpers import session_processes
+
+    command = [sys.executable, "-m", "memory_infer.cli", "catalog", catalog, "--outdir", str(tmp_path / "out"),
+               "--workers", "2", "--quiet"]
+    env = dict(os.environ, PYTHONPATH=os.getcwd() + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env,
+                               start_new_session=True, preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
+    if moment == "while the command loads":
+        time.sleep(0.3)
+    else:  # the two workers have started and are importing the package
+        deadline = time.time() + 60
+        while time.time() < deadline and len(session_processes(process.pid)) < 3:
+            time.sleep(0.02)
+        time.sleep(0.3)
+    os.killpg(process.pid, signal.SIGINT)
+    output, error = process.communicate(timeout=120)
+    assert process.returncode == 130, error
+    named = "memory-infer" if moment == "while the command loads" else "memory-infer catalog"
+    assert [line for line in error.splitlines() if line.strip()] == [
+        f"{named}: interrupted; finished outputs are kept."], error
+    deadline = time.time() + 5
+    while time.time() < deadline and session_processes(process.pid):
+        time.sleep(0.1)
+    assert session_processes(process.pid) == []
+
+
+@pytest.mark.slow
+def test_a_fixed_event_reruns_into_the_same_folder(catalog, tmp_path, capsys):
+    """One good event and one refused (a data gap in its segment): exit status 3; the refused event's strain then
+    fixed in the catalog file and the same command rerun into the same folder: only that event runs again (said so),
+    exit status 0."""
+    import shutil
+
+    shutil.copytree(os.path.dirname(catalog), tmp_path / "inputs")
+    catalog = str(tmp_path / "inputs" / os.path.basename(catalog))
+    outdir = str(tmp_path / "out")
+    assert main(["catalog", catalog, "--outdir", outdir, "--quiet"]) == 3
+    assert f"1 of {EVENTS} events were refused or failed (listed above and in report.html); exit status 3" in \
+        capsys.readouterr().out
+    text = open(catalog).read()
+    gap = "H-H1_INVENTED_DEMO_4KHZ-1000000000-32-gap.hdf5"  # cut from the last event's file, without the gap
+    good = f"H-H1_INVENTED_DEMO_4KHZ-{1000000000 + 1000 * (EVENTS - 2)}-32.hdf5"
+    open(catalog, "w").write(text.replace(gap, good))
+    assert main(["catalog", catalog, "--outdir", outdir, "--quiet"]) == 0
+    out = capsys.readouterr().out
+    assert f"resuming: {EVENTS - 1} of {EVENTS} events already finished" in out
+    assert (f"gap-inside: its settings and the files '{gap}', '{good}' changed since its stored result (refused): "
+            "running it again") in out
+    runs = {run["label"]: run["status"] for run in json.loads(open(os.path.join(outdir, "catalog.json")).read())[
+        "event_runs"]}
+    assert runs["gap-inside"] != "refused" and len(runs) == EVENTS
+
+
+def test_a_catalog_refused_as_a_whole_writes_nothing(tmp_path, capsys):
+    """Every event refused: one sentence, exit status 2, and no events.sqlite (nor the output folder) left."""
+    (tmp_path / "c.toml").write_text('[[events]]\nlabel = "a"\nrelease = "missing.h5"\nstrain = { H1 = "h.hdf5" }\n')
+    assert main(["catalog", str(tmp_path / "c.toml"), "--outdir", str(tmp_path / "out"), "--quiet"]) == 2
+    assert capsys.readouterr().err.startswith("memory-infer catalog: no event of the catalog finished: a: refused")
+    assert not (tmp_path / "out").exists()
+
+
+def test_an_event_refused_on_rerun_keeps_no_earlier_result(tmp_path):
+    """An event that finished before and is refused on its changed inputs: its earlier evidence.json and page are
+    removed, not left beside the catalog that lists it as refused."""
+    from memory_infer.commands.catalog import event_files
+
+    folder = tmp_path / "events" / "a"
+    folder.mkdir(parents=True)
+    for name in ("evidence.json", "report.html"):
+        (folder / name).write_text("from the earlier inputs")
+    (folder / "runs").mkdir()
+    assert event_files({"label": "a", "status": "refused", "reason": "bad"}, str(tmp_path)) is None
+    assert sorted(os.listdir(folder)) == ["runs"]

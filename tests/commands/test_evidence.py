@@ -353,3 +353,20 @@ def test_the_shipped_example_configurations_are_valid_and_differ_only_in_size():
     assert full["evidence"]["nested_hypotheses"] == ["memory", "none", "flipped", "free"]
     assert quick["injection"] == full["injection"] and quick["priors"] == full["priors"]
     assert quick["sampler"]["live_points"] < full["sampler"]["live_points"]
+
+
+@pytest.mark.parametrize("priors, message", [
+    ('luminosity_distance = { kind = "uniform", minimum = -100.0, maximum = 2000.0 }',
+     "the prior for 'luminosity_distance' reaches -100, but 'luminosity_distance' must be positive; give a prior "
+     "inside the physical range"),
+    ('a_1 = { kind = "uniform", minimum = 0.0, maximum = 1.5 }',
+     "the prior for 'a_1' reaches 1.5, but 'a_1' must lie between 0 and 1; give a prior inside the physical range"),
+    ('theta_jn = { kind = "sine", minimum = 0.0, maximum = 4.0 }',
+     "the prior for 'theta_jn' reaches 4, but 'theta_jn' must lie between 0 and pi; give a prior inside the "
+     "physical range"),
+    ("luminosity_distance = -3.0", "'luminosity_distance' in [priors] must be positive"),
+])
+def test_unphysical_prior_is_refused_before_anything_is_written(tmp_path, capsys, priors, message):
+    config = event_config(tmp_path, priors=priors)
+    assert evidence_case(tmp_path, capsys, config) == f"memory-infer evidence: {message}."
+    assert not (tmp_path / "out").exists()

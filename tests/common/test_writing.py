@@ -61,3 +61,20 @@ def test_outputs_honour_the_umask_and_stay_atomic(tmp_path, mask, expected):
     for name in ("a.json", "b.html", "c.csv"):
         assert stat.S_IMODE(os.stat(tmp_path / name).st_mode) == expected, name
     assert sorted(os.listdir(tmp_path)) == ["a.json", "b.html", "c.csv"]  # no temporary file left
+
+
+@pytest.mark.parametrize("command", [["catalog", "CATALOG"], ["evidence", "CONFIG"],
+                                     ["waveform"], ["demo"], ["demo", "--catalog"]])
+def test_an_outdir_that_names_a_file_is_one_sentence(tmp_path, capsys, command):
+    from memory_infer.cli import main
+
+    from helpers import event_config
+
+    taken = tmp_path / "taken"
+    taken.write_text("an earlier file, kept\n")
+    catalog = tmp_path / "catalog.toml"
+    catalog.write_text('[[events]]\nlabel = "a"\nrelease = "r.h5"\nstrain = { H1 = "h.hdf5" }\n')
+    places = {"CATALOG": str(catalog), "CONFIG": event_config(tmp_path)}
+    assert main([places.get(word, word) for word in command] + ["--outdir", str(taken)]) == 2
+    assert capsys.readouterr().err.strip().endswith(f"--outdir '{taken}' names a file, not a folder; give a folder.")
+    assert taken.read_text() == "an earlier file, kept\n"

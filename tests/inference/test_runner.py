@@ -59,3 +59,31 @@ def test_nested_sampling_resumes_from_its_checkpoint(tmp_path):
     assert record["methods"] == []
     result = json.loads((outdir / "runs" / "test-event_none_result.json").read_text())
     assert np.isfinite(result["log_evidence"]) and result["log_evidence_err"] > 0
+
+
+@pytest.mark.parametrize("change", ["priors", "data"])
+def test_a_changed_input_restarts_the_nested_run_instead_of_resuming(tmp_path, capsys, change):
+    """A finished run leaves its checkpoint; rerun into the same folder with another prior (or other noise), it must
+    start afresh (saying what changed) and give what a fresh run in a new folder gives, not the old numbers."""
+    from memory_infer.cli import main
+
+    phase = 'phase = { kind = "periodic", minimum = 0.0, maximum = 6.283185307179586 }'
+    common = dict(noise="gaussian", hypotheses='["none"]', live_points=30, methods='["nested", "reweighting"]',
+                  evidence_extra="minimum_effective_samples = 10")
+    old = event_config(tmp_path, name="old.toml", seed=4, priors=phase, **common)
+    new = event_config(tmp_path, name="new.toml", seed=4 if change == "priors" else 6,
+                       priors=phase + ('\nluminosity_distance = { kind = "uniform", minimum = 1000.0, maximum = 6000.0 }'
+                                       if change == "priors" else ""), **common)
+    assert main(["evidence", old, "--outdir", str(tmp_path / "same"), "--quiet"]) == 0
+    assert (tmp_path / "same" / "runs" / "test-event_none_resume.pickle").exists()  # what a rerun could resume
+    capsys.readouterr()
+    assert main(["evidence", new, "--outdir", str(tmp_path / "same"), "--quiet"]) == 0
+    out = capsys.readouterr().out
+    assert (f"nested run 'test-event_none' started afresh: its checkpoint in {tmp_path / 'same' / 'runs'} was made "
+            f"with other {change} than this run's") in out
+    assert main(["evidence", new, "--outdir", str(tmp_path / "fresh"), "--quiet"]) == 0
+    rerun, fresh = (json.loads((tmp_path / name / "evidence.json").read_text()) for name in ("same", "fresh"))
+    assert rerun["methods"] == fresh["methods"] and rerun["settings"] == fresh["settings"]
+    capsys.readouterr()
+    assert main(["evidence", new, "--outdir", str(tmp_path / "same"), "--quiet"]) == 0  # unchanged: resumed
+    assert "resuming nested run 'test-event_none' from its checkpoint" in capsys.readouterr().out

@@ -72,3 +72,33 @@ def test_catalog_file_problems(tmp_path, text, message):
     (tmp_path / "c.toml").write_text(text)
     with pytest.raises(MemoryInferError, match=message.replace("[", r"\[").replace("]", r"\]")):
         load_catalog(str(tmp_path / "c.toml"))
+
+
+@pytest.mark.parametrize("detectors", [True, False])
+def test_a_detector_whose_strain_misses_the_trigger_is_refused_not_dropped(tmp_path, detectors):
+    """The release analysed H1 and L1 (or, when it does not say, the folder holds H1 strain just before the
+    trigger); the H1 file ends 8 s before the trigger: the event is refused naming H1 and that file, never run on
+    L1 alone."""
+    path = tmp_path / "IGWN-GWTC-v1-GW200101_120000_PEDataRelease.h5"
+    _release(path, 1000000040.0)
+    if detectors:
+        with h5py.File(path, "a") as handle:
+            handle.create_dataset("C01:IMRPhenomTHM/config_file/config/detectors", data=np.array([b"['H1', 'L1']"]))
+    for name in ("H-H1_GWOSC_4KHZ_R1-1000000000-32.hdf5", "L-L1_GWOSC_4KHZ_R1-1000000000-64.hdf5"):
+        (tmp_path / name).write_bytes(b"")
+    _, events, _ = load_catalog(str(tmp_path))
+    reason = dict(events)["GW200101_120000"].get("_refused", "")
+    said = ("release 'IGWN-GWTC-v1-GW200101_120000_PEDataRelease.h5' analysed H1" if detectors else
+            "the folder holds H1 strain near release 'IGWN-GWTC-v1-GW200101_120000_PEDataRelease.h5'")
+    assert reason.startswith(f"{said}, but no H1 strain file in the folder covers its trigger time 1000000040.000 "
+                             "(the nearest, 'H-H1_GWOSC_4KHZ_R1-1000000000-32.hdf5', holds 1000000000 to 1000000032)")
+
+
+def test_two_releases_of_one_event_are_refused_naming_both_files(tmp_path):
+    _release(tmp_path / "IGWN-GWTC2p1-v2-GW200101_120000_PEDataRelease.h5", 1000000016.0)
+    _release(tmp_path / "IGWN-GWTC3-v1-GW200101_120000_PEDataRelease.h5", 1000000016.0)
+    (tmp_path / "H-H1_GWOSC_4KHZ_R1-1000000000-32.hdf5").write_bytes(b"")
+    with pytest.raises(MemoryInferError) as caught:
+        load_catalog(str(tmp_path))
+    assert ("hold the same event (GW200101_120000 in 'IGWN-GWTC2p1-v2-GW200101_120000_PEDataRelease.h5' and "
+            "'IGWN-GWTC3-v1-GW200101_120000_PEDataRelease.h5')") in str(caught.value)

@@ -11,8 +11,10 @@ import sys
 import numpy as np
 
 from ...common.errors import MemoryInferError
+from ...common.writing import read_json, write_json
 from ...results.estimates import EvidenceEstimate, SignSummary, sign_weight
 from ...results.methods import MethodDescription
+from ..digests import nested_run_inputs
 from ..hypotheses import FLIPPED, FREE, HYPOTHESES, MEMORY, NONE
 from .base import EvidenceMethod, Found, RunState, register
 
@@ -27,13 +29,50 @@ def checkpoint_exists(outdir: str, label: str) -> bool:
     return os.path.exists(os.path.join(outdir, f"{label}_resume.pickle"))
 
 
+def inputs_path(outdir: str, label: str) -> str:
+    """The record, beside a run's checkpoint, of the digests of what the run depends on."""
+    return os.path.join(outdir, f"{label}_inputs.json")
+
+
+def keep_or_discard_checkpoint(outdir: str, label: str, inputs: dict | None) -> str | None:
+    """Resume a checkpoint only if it was made from the same inputs (:mod:`memory_infer.inference.digests`);
+    otherwise remove it, so the run starts afresh, and return one sentence naming what changed. Then record this
+    run's inputs beside the checkpoint it will write."""
+    from ..digests import changed_parts
+
+    if inputs is None:
+        return None
+    note, path = None, inputs_path(outdir, label)
+    if checkpoint_exists(outdir, label):
+        try:
+            stored = read_json(path, "the record of a checkpoint's inputs")
+        except MemoryInferError:
+            stored = None
+        changed = changed_parts(stored, inputs)
+        if changed:
+            made = ("holds no record of its inputs" if stored is None
+                    else f"was made with other {' and '.join(changed)} than this run's")
+            note = f"nested run '{label}' started afresh: its checkpoint in {outdir} {made}"
+            os.remove(os.path.join(outdir, f"{label}_resume.pickle"))
+    os.makedirs(outdir, exist_ok=True)
+    write_json(path, inputs)
+    return note
+
+
 def run_nested(likelihood, priors, label: str, outdir: str, live_points: int = 200, accepted_walks: int = 30,
-               pool: int = 1, seed: int | None = None, checkpoint_seconds: float = 60.0, progress: bool = True):
-    """One dynesty run through bilby; checkpoints to ``outdir`` and resumes from there when rerun."""
+               pool: int = 1, seed: int | None = None, checkpoint_seconds: float = 60.0, progress: bool = True,
+               inputs: dict | None = None):
+    """One dynesty run through bilby; checkpoints to ``outdir`` and resumes from there when rerun with the same
+    ``inputs`` (digests of what the run depends on); a checkpoint made from other inputs is discarded, with a
+    warning naming what changed."""
     import bilby
 
-    if checkpoint_exists(outdir, label):
-        logger.info("resuming nested run '%s' from its checkpoint in %s", label, outdir)
+    note = keep_or_discard_checkpoint(outdir, label, inputs)
+    if note:
+        logger.warning("%s", note)
+    elif checkpoint_exists(outdir, label):
+        logger.info("resuming nested run '%s' from its checkpoint in %s (same priors, data, model and sampler "
+                    "settings)", label, outdir)
     with interrupt_in_one_line():
         return bilby.run_sampler(
             likelihood=likelihood, priors=priors, sampler="dynesty", nlive=int(live_points), sample="acceptance-walk",
@@ -126,11 +165,15 @@ class NestedSampling(EvidenceMethod):
             hypothesis = HYPOTHESES[name]
             likelihood, priors = state.setup.likelihood(hypothesis)
             logger.info("%s: nested sampling, hypothesis '%s'", state.label, hypothesis)
+            seed = int(sampler.seed) + index
+            inputs = nested_run_inputs(state.setup, priors, {"live_points": int(sampler.live_points),
+                                                             "accepted_walks": int(sampler.accepted_walks),
+                                                             "seed": seed})
             state.nested[hypothesis] = run_nested(
                 likelihood, priors, label=f"{state.label}_{hypothesis}", outdir=outdir,
                 live_points=sampler.live_points, accepted_walks=sampler.accepted_walks, pool=sampler.pool,
-                seed=int(sampler.seed) + index, checkpoint_seconds=sampler.checkpoint_seconds,
-                progress=bool(sampler.progress) and state.progress)
+                seed=seed, checkpoint_seconds=sampler.checkpoint_seconds,
+                progress=bool(sampler.progress) and state.progress, inputs=inputs)
         runs, found = state.nested, Found()
         for numerator in (MEMORY, FLIPPED):
             if numerator in runs and NONE in runs:
