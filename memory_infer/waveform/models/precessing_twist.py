@@ -24,6 +24,7 @@ from math import factorial, sqrt
 
 import numpy as np
 
+from ...common.compiled import compiled
 from .lal_modes import _lal
 
 COPRECESSING = ((2, 1), (2, 2), (3, 2), (3, 3), (4, 4))  # (l, m') of the model's co-precessing modes
@@ -61,6 +62,55 @@ def wigner_d(l: int, a: int, b: int, cos_powers, sin_powers) -> np.ndarray:
     return total
 
 
+@lru_cache(maxsize=1)
+def twist_terms():
+    """(J-frame keys in lalsimulation's order, term arrays of :func:`twist_sums`): one entry per term of
+    ``d^l_{m,-m'}`` (positive frequencies) and ``d^l_{m,m'}`` (negative ones) of every co-precessing mode."""
+    keys = tuple((l, m) for l in (4, 3, 2) for m in range(l, -l - 1, -1))  # l, then m, descending
+    rows, sources, sides, orders, coefficients, cos_orders, sin_orders = [], [], [], [], [], [], []
+    for row, (l, m) in enumerate(keys):
+        for j, (ll, mp) in enumerate(COPRECESSING):
+            if ll != l:
+                continue
+            for side, b in ((0, -mp), (1, mp)):
+                for coefficient, p, q in wigner_terms(l, m, b):
+                    rows.append(row), sources.append(j), sides.append(side), orders.append(m + 4)
+                    coefficients.append(coefficient), cos_orders.append(p), sin_orders.append(q)
+    as_int = [np.array(x, dtype=np.int64) for x in (rows, sources, sides, orders, cos_orders, sin_orders)]
+    terms = (*as_int[:4], np.array(coefficients), *as_int[4:])
+    for array in terms:
+        array.flags.writeable = False
+    return keys, terms
+
+
+@compiled
+def twist_sums(turned, cos_beta, spin, rows, sources, sides, orders, coefficients, cos_orders, sin_orders, out):
+    """``out[row, side, t] += coefficient cos(beta/2)^p sin(beta/2)^q e^{-i m alpha} x`` over the terms, with
+    ``x = turned[j, t]`` (side 0, positive frequencies) or its conjugate (side 1)."""
+    sources_n, n = turned.shape
+    cos_powers = np.empty((sources_n, 9))
+    sin_powers = np.empty((sources_n, 9))
+    turns = np.empty((sources_n, 9), dtype=np.complex128)
+    for t in range(n):
+        for j in range(sources_n):
+            c = np.sqrt(0.5 * (1.0 + cos_beta[j, t]))
+            s = np.sqrt(0.5 * (1.0 - cos_beta[j, t]))
+            cos_powers[j, 0], sin_powers[j, 0], turns[j, 4] = 1.0, 1.0, 1.0
+            for p in range(1, 9):
+                cos_powers[j, p] = cos_powers[j, p - 1] * c
+                sin_powers[j, p] = sin_powers[j, p - 1] * s
+            for m in range(1, 5):
+                turns[j, 4 + m] = turns[j, 3 + m] * spin[j, t]
+                turns[j, 4 - m] = np.conj(turns[j, 4 + m])
+        for e in range(rows.size):
+            j = sources[e]
+            value = coefficients[e] * cos_powers[j, cos_orders[e]] * sin_powers[j, sin_orders[e]] * turns[j, orders[e]]
+            if sides[e] == 0:
+                out[rows[e], 0, t] += value * turned[j, t]
+            else:
+                out[rows[e], 1, t] += value * np.conj(turned[j, t])
+
+
 def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, reference_frequency, phase, inclination,
                   distance_m, size) -> dict | None:
     """J-frame modes ``(l, m) -> h_lm`` on ``f = (k - N) delta_f`` (``2 N + 1 = size`` samples, as
@@ -94,40 +144,25 @@ def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, referen
         m1, m2, reference_frequency, phase, inclination, *spins, lal.CreateDict())[4]
         - lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
         m1, m2, reference_frequency, 0.0, inclination, *spins, lal.CreateDict())[4])
-    angles = {}
+    n = hi - lo
+    turned, cos_beta, spin = np.empty((5, n), complex), np.empty((5, n)), np.empty((5, n), complex)
     for mp in sorted({mp for _, mp in COPRECESSING}):
-        alpha, gamma, cos_beta = lalsim.SimIMRPhenomXPMSAAngles(frequencies, m1, m2, *spins, inclination,
-                                                                reference_frequency, mp, None)
-        cos_beta = np.clip(cos_beta.data, -1.0, 1.0)
-        half_cos, half_sin = np.sqrt(0.5 * (1 + cos_beta)), np.sqrt(0.5 * (1 - cos_beta))
-        cos_powers, sin_powers = np.ones((9, hi - lo)), np.ones((9, hi - lo))
-        for p in range(1, 9):
-            cos_powers[p], sin_powers[p] = cos_powers[p - 1] * half_cos, sin_powers[p - 1] * half_sin
-        spin = np.exp(-1j * (alpha.data + turn))  # e^{-i alpha}
-        spin_powers = {0: np.ones(hi - lo, dtype=complex)}
-        for m in range(1, 5):
-            spin_powers[m] = spin_powers[m - 1] * spin
-            spin_powers[-m] = np.conj(spin_powers[m])
-        angles[mp] = (gamma.data, cos_powers, sin_powers, spin_powers)
+        alpha, gamma, cosine = lalsim.SimIMRPhenomXPMSAAngles(frequencies, m1, m2, *spins, inclination,
+                                                              reference_frequency, mp, None)
+        for j, (l, m_prime) in enumerate(COPRECESSING):
+            if m_prime == mp:  # e^{-i m' eps} h' with eps = -gamma; e^{-i alpha}
+                turned[j] = np.exp(1j * mp * gamma.data) * coprecessing[(l, mp)][lo:hi]
+                cos_beta[j] = np.clip(cosine.data, -1.0, 1.0)
+                spin[j] = np.exp(-1j * (alpha.data + turn))
+    keys, terms = twist_terms()
+    out = np.zeros((len(keys), 2, n), dtype=complex)
+    twist_sums(turned, cos_beta, spin, *terms, out)
     modes = {}
-    for l in (4, 3, 2):  # lalsimulation's order: l, then m, descending
-        sign = (-1) ** l
-        parts = []
-        for (ll, mp) in COPRECESSING:
-            if ll != l:
-                continue
-            gamma, cos_powers, sin_powers, spin_powers = angles[mp]
-            turned = np.exp(1j * mp * gamma) * coprecessing[(l, mp)][lo:hi]  # e^{-i m' eps} h', eps = -gamma
-            parts.append((mp, turned, cos_powers, sin_powers, spin_powers))
-        for m in range(l, -l - 1, -1):
-            positive, negative = 0.0, 0.0
-            for mp, turned, cos_powers, sin_powers, spin_powers in parts:
-                positive = positive + turned * (wigner_d(l, m, -mp, cos_powers, sin_powers) * spin_powers[m])
-                negative = negative + np.conj(turned) * (wigner_d(l, m, mp, cos_powers, sin_powers) * spin_powers[m])
-            mode = np.zeros(size, dtype=complex)
-            mode[half + lo:half + hi] = positive
-            mode[half - hi + 1:half - lo + 1] = (sign * negative)[::-1]
-            modes[(l, m)] = mode
+    for row, (l, m) in enumerate(keys):
+        mode = np.zeros(size, dtype=complex)
+        mode[half + lo:half + hi] = out[row, 0]
+        mode[half - hi + 1:half - lo + 1] = ((-1) ** l * out[row, 1])[::-1]
+        modes[(l, m)] = mode
     if not all(np.all(np.isfinite(v)) for v in modes.values()):
         return None
     if not _agrees(modes, m1, m2, spins, delta_f, lo, hi, half, reference_frequency, phase, inclination, distance_m):
