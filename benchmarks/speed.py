@@ -196,9 +196,10 @@ def campaign_rates():
     return float(steady), float(overall), float(startup), float(cpu), (rounds[:, 0].min(), rounds[:, 0].max())
 
 
-def reweighting_vs_bilby(approximant, point_changes=None):
+def reweighting_vs_bilby(approximant, point_changes=None, samples_per_round: int = 20):
     """Reweighting cost per sample (81 amplitudes, memory included) over one bilby likelihood evaluation of the
-    same model on the same data (bilby's own lal_binary_black_hole; 4 s, H1+L1, 2048 Hz)."""
+    same model on the same data (bilby's own lal_binary_black_hole; 4 s, H1+L1, 2048 Hz): median of
+    ``SETTINGS["repeats"]`` rounds, each timing bilby and then the reweighting on the same fresh samples."""
     import bilby
     import pandas as pd
 
@@ -213,18 +214,24 @@ def reweighting_vs_bilby(approximant, point_changes=None):
     # bilby's own source model: SimInspiralChooseFDWaveform, or SimInspiralFD for a time-domain approximant
     standard = _likelihood(detectors, bilby.gw.source.lal_binary_black_hole, arguments)
     rng = np.random.default_rng(1)
-    n = 40
+    n = samples_per_round
     samples = pd.DataFrame([dict(point, mass_1=point["mass_1"] + rng.normal(0, 0.5),
                                  phase=rng.uniform(0, 6.28), luminosity_distance=rng.uniform(300, 600))
-                            for _ in range(n)])
+                            for _ in range(n * SETTINGS["repeats"] + 2)])
     grid = grid_with_hypotheses(-4.0, 4.0, 81)
-    log_likelihood_grid(likelihood, samples.iloc[:2], grid)
-    start = time.perf_counter()
-    log_likelihood_grid(likelihood, samples, grid)
-    t_sample = (time.perf_counter() - start) / n
-    t_bilby = timed(lambda i: standard.log_likelihood_ratio(dict(samples.iloc[i % n])), 20)
-    return t_sample / t_bilby, (f"{t_sample * 1e3:.1f} ms per sample vs {t_bilby * 1e3:.1f} ms per bilby "
-                                f"likelihood ({approximant}, 4 s, H1+L1)")
+    log_likelihood_grid(likelihood, samples.iloc[-2:], grid)  # warm-up on samples no round uses
+    standard.log_likelihood_ratio(dict(samples.iloc[-1]))
+
+    def batch(i):  # i counts calls; one call is one sample
+        if i % n == 0:
+            log_likelihood_grid(likelihood, samples.iloc[i:i + n], grid)
+
+    def bilby_call(i):
+        standard.log_likelihood_ratio(dict(samples.iloc[i]))
+
+    t_sample, t_bilby, ratio, (low, high) = interleaved(batch, bilby_call, n, SETTINGS["repeats"], warm=False)
+    return ratio, (f"{t_sample * 1e3:.1f} ms per sample vs {t_bilby * 1e3:.1f} ms per bilby likelihood "
+                   f"({approximant}, 4 s, H1+L1; rounds {low:.2f}-{high:.2f}, {n} samples each)")
 
 
 def table(rows):

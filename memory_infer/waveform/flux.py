@@ -44,14 +44,15 @@ def harmonic_set(modes: tuple) -> HarmonicSet:
 
 
 @lru_cache(maxsize=64)
-def flux_tables(keys: tuple, mirrored: bool):
+def flux_tables(keys: tuple, mirrored: bool, real: bool | None = None):
     """(keys stacked, coupling tables in the real layout): the quadratic form of the rate in the real
     vector ``y = [Re dh_own, Im dh_own]`` of the stacked modes' derivatives, with the ``-2Y`` harmonics still to
     be contracted: ``rate = y^T (sum_k Y_k tables[k]) y``, and the same for the m_i = m_j pairs only.
 
     With the mirror symmetry only m >= 0 are stacked and differenced; the m < 0 modes are
     ``(-1)^l conj`` of their partners, which the tables absorb. The tables also hold the 1/144 of
-    :func:`differences` (``12 step dh/dt``). Without the symmetry: complex tables over every mode."""
+    :func:`differences` (``12 step dh/dt``). Without the symmetry: complex tables over every mode, or with
+    ``real`` the real layout over every mode (``y = [Re dh; Im dh]`` of all of them)."""
     harmonics, table = _direction_tables(keys)
     own = tuple(k for k in keys if k[1] >= 0) if mirrored else keys
     count = len(own)
@@ -72,18 +73,20 @@ def flux_tables(keys: tuple, mirrored: bool):
         q = (q + np.swapaxes(q, 1, 2)) / 2  # only the symmetric part acts on y^T Q y
         return np.ascontiguousarray(np.concatenate([q.real, q.imag], axis=1))
 
-    if not mirrored:  # the complex form is the smaller one here: y would be twice as long as dh
+    if not mirrored and not real:  # the complex form is the smaller one here: y would be twice as long as dh
         return own, harmonics, (table * scale).astype(complex), (table * same_m * scale).astype(complex)
     return own, harmonics, real_form(table), real_form(table * same_m)
 
 
 @lru_cache(maxsize=64)
-def pair_tables(keys: tuple):
+def pair_tables(keys: tuple, mirrored: bool = True):
     """The mirrored real form of :func:`flux_tables` on the pairs ``a <= b`` of its real rows, which is all a
     symmetric form needs: ``y^T Q y = sum_{a <= b} c_ab y_a y_b`` with ``c_ab = Q_ab + Q_ba`` (``Q_aa`` on the
     diagonal). Pairs whose coefficient vanishes for every harmonic are dropped. Returns ``(own, harmonics,
-    every pair, the m_i = m_j pairs)``, each pair set ``(first rows, second rows, tables (k, 2, pairs))``."""
-    own, harmonics, tables, same_m_tables = flux_tables(keys, True)
+    every pair, the m_i = m_j pairs)``, each pair set ``(first rows, second rows, tables (k, 2, pairs))``.
+    Not ``mirrored``: the same on the real rows of every mode (no symmetry; compiled, where the complex form's
+    matrix product went through BLAS on a few thousand samples)."""
+    own, harmonics, tables, same_m_tables = flux_tables(keys, mirrored, True)
     rows = tables.shape[2]
     first, second = np.triu_indices(rows)
 

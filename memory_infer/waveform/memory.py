@@ -148,7 +148,7 @@ def _slow_inspiral_end(h22, step) -> int:
 
 
 def memory_at_direction(modes: dict, times, theta: float, phi: float, early_inspiral: bool = False,
-                        symmetric_mass_ratio: float | None = None, finer=(), smooth_inspiral: bool = True,
+                        symmetric_mass_ratio: float | None = None, finer=(), smooth_inspiral: bool | None = True,
                         mode_scale: float = 1.0) -> np.ndarray:
     """Complex memory strain ``h+_mem - i hx_mem`` (r h / M) towards (theta, phi), every degree kept.
 
@@ -163,7 +163,9 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
     carrier, on every ``INSPIRAL_STRIDE``-th sample; the pairs with m_i != m_j oscillate at multiples of the
     orbital frequency and there add only a small oscillation (their integral over one orbit vanishes): measured
     for 12-40 M_sun, at most 2e-4 of the memory's peak for inclinations of 0.3 or more, 8e-4 at 0.05 (nearly
-    face-on, where the memory itself nearly vanishes). ``smooth_inspiral=False`` keeps every pair on every sample (exact).
+    face-on, where the memory itself nearly vanishes). ``smooth_inspiral=False`` keeps every pair on every sample
+    (exact); without the symmetry every pair is always kept, and ``smooth_inspiral=None`` there selects the complex
+    form ``sum_i dh_i (W conj(dh))_i`` instead of the real one (the same numbers to rounding).
     """
     keys = tuple(sorted(modes))
     times = np.asarray(times, float)
@@ -173,7 +175,11 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
         values = harmonics(theta, phi) * (LALSIMULATION_SIGN / mode_scale)  # the memory is quadratic in the modes
         slow_weights = weights_on_pairs(same_m_pairs, values) if smooth_inspiral else None
         memory = _real_form_memory(modes, times, step, own, weights_on_pairs(pairs, values), slow_weights, finer)
-    else:
+    elif smooth_inspiral is not None:  # no symmetry: the real form over every mode, every pair on every sample
+        own, harmonics, pairs, _ = pair_tables(keys, False)
+        values = harmonics(theta, phi) * (LALSIMULATION_SIGN / mode_scale)
+        memory = _real_form_memory(modes, times, step, own, weights_on_pairs(pairs, values), None, finer)
+    else:  # the complex form (kept as the reference of the real one, tests/waveform/test_memory.py)
         own, harmonics, tables, _ = flux_tables(keys, False)
         values = harmonics(theta, phi) * (LALSIMULATION_SIGN / mode_scale)
         weights = contract(tables, values)

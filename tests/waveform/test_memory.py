@@ -106,8 +106,8 @@ def test_smooth_early_inspiral_is_close_to_every_pair(direction):
 @pytest.mark.parametrize("spins", [((0, 0, 0.3), (0, 0, -0.2)), ((0.4, 0.2, 0.3), (-0.1, 0.3, 0.2))])
 def test_strain_units_give_the_same_memory(spins):
     # the memory is quadratic in the modes: SI modes with mode_scale = M / r give the geometric result times
-    # M / r (identity of the flux form, Wiseman & Will, PRD 44, R2945 (1991)); aligned (mirror-symmetric rows,
-    # real form) and precessing (complex form) spins, finer levels and the early-inspiral offset included
+    # M / r (identity of the flux form, PRD 44, R2945 (1991)); aligned (mirror-symmetric rows, real form on
+    # the m >= 0 modes) and precessing (real form on every mode) spins, finer levels and the early-inspiral offset included
     approximant = "IMRPhenomTPHM" if spins[0][0] else "IMRPhenomTHM"
     series = generate_modes(approximant, 30.0, 25.0, 100.0, 1 / 1024, 20.0, *spins, 20.0)
     times, modes = series.geometric()
@@ -119,6 +119,18 @@ def test_strain_units_give_the_same_memory(spins):
                                  symmetric_mass_ratio=series.symmetric_mass_ratio,
                                  finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale)
     assert np.max(np.abs(direct - geometric)) < 1e-12 * np.max(np.abs(geometric))
+
+
+def test_real_form_without_symmetry_equals_complex_form():
+    # identity of the quadratic form (no outside source): sum_ij W_ij dh_i conj(dh_j) written on the real rows
+    # [Re dh; Im dh] of every mode gives the complex form's memory to rounding; precessing modes (no mirror
+    # symmetry), finer levels and the early-inspiral offset included
+    series = generate_modes("IMRPhenomTPHM", 30.0, 25.0, 100.0, 1 / 1024, 20.0, (0.4, 0.2, 0.3), (-0.1, 0.3, 0.2), 20.0)
+    times, modes = series.geometric()
+    memories = [memory_at_direction(modes, times, 1.1, 0.4, early_inspiral=True,
+                                    symmetric_mass_ratio=series.symmetric_mass_ratio, finer=series.geometric_finer(),
+                                    smooth_inspiral=smooth) for smooth in (True, None)]
+    assert np.max(np.abs(memories[0] - memories[1])) < 1e-12 * np.max(np.abs(memories[1]))
 
 
 def test_truncated_degree_converges(thm_modes):

@@ -36,6 +36,7 @@ import numpy as np
 
 from ...common.errors import WaveformError
 from .lal_modes import _explain, _lal, _quiet, waveform_dictionary
+from .precessing_twist import twisted_modes
 from ..compiled import loud_end
 from .refine import QUIET_AMPLITUDE
 from .series import MEGAPARSEC_METRES, SOLAR_MASS_SECONDS, ModeSeries
@@ -125,6 +126,18 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
     arguments = (mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2, delta_f, start, f_max,
                  reference_frequency, phi_ref, luminosity_distance * MEGAPARSEC_METRES, float(inclination), params,
                  lalsim.GetApproximantFromString(approximant))
+    if precessing and not mode_list:  # the J-frame modes from one generation of the co-precessing modes
+        with _quiet(None):
+            try:
+                twisted = twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, reference_frequency,
+                                        phi_ref, float(inclination), luminosity_distance * MEGAPARSEC_METRES,
+                                        2 * int(round(f_max / delta_f)) + 1)
+            except RuntimeError:  # lalsimulation's own call below explains the error
+                twisted = None
+        if twisted is not None:
+            return _conditioned(twisted, delta_f, start, minimum_frequency, lead, tail, approximant, mass_1, mass_2,
+                                luminosity_distance, reference_frequency, phase, inclination, spin_1, spin_2,
+                                precessing, aligned, mode_list)
     try:
         with _quiet(None):
             linked = lalsim.SimInspiralChooseFDModes(*arguments)
@@ -142,6 +155,17 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
     while linked is not None:
         modes[(int(linked.l), int(linked.m))] = np.array(linked.mode.data.data, dtype=complex)
         linked = linked.next
+    return _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approximant, mass_1, mass_2,
+                        luminosity_distance, reference_frequency, phase, inclination, spin_1, spin_2, precessing,
+                        aligned, mode_list)
+
+
+def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approximant, mass_1, mass_2,
+                 luminosity_distance, reference_frequency, phase, inclination, spin_1, spin_2, precessing, aligned,
+                 mode_list) -> ModeSpectra:
+    """The :class:`ModeSpectra` of lalsimulation's two-sided modes: lalsimulation's half-cosine window between
+    the start and the minimum frequency, and the observer in the modes' frame."""
+    lal, lalsim = _lal()
     if mode_list:
         modes = {k: v for k, v in modes.items() if k in {tuple(x) for x in mode_list}}
     size = next(iter(modes.values())).size
