@@ -286,6 +286,7 @@ CACHES = {
     "waveform.flux._mirror_layout": "mode keys and signs (tuples, an array, read only)",
     "waveform.models.refine._interpolation_layout": "mode keys, orders, signs and row placement (read only)",
     "catalog.amplitude_spread.weight_table": "truncated-normal weights on a grid (an array, read only)",
+    "waveform.models.pyseobnr_modes._generator": "pyseobnr's GenerateWaveform class (or None)",
     "waveform.models.precessing_twist.default_precession_version": "an int",
     "waveform.models.precessing_twist.wigner_terms": "Wigner-d terms (a tuple of floats and ints)",
     "waveform.models.precessing_twist.twist_terms": "mode keys and term tables (a tuple, arrays, read only)",

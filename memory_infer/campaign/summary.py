@@ -240,11 +240,11 @@ def forecast(detected, campaign):
     column = lambda name: [r[name] for r in usable]
     out = {
         "expected": dict(distribution(column("ln_bf_plus_expected")),
-                         note="expected ln BF+ per detected event over Gaussian noise: the two-point estimator at "
+                         note="expected ln BF₊ per detected event over Gaussian noise: the two-point estimator at "
                               "the true parameters, averaged by Gauss-Hermite quadrature (exact up to "
                               "quadrature_error)"),
         "spread": dict(distribution(column("ln_bf_plus_expected_spread")),
-                       note="standard deviation of one event's ln BF+ over noise"),
+                       note="standard deviation of one event's ln BF₊ over noise"),
         "quadrature_error": max(column("ln_bf_plus_expected_err"), default=None),
         "known_sign": dict(distribution(column("ln_bf_plus_known_sign")),
                            note="known-sign bound per event: A_t rho^2 - rho^2/2 = rho^2/2 for A_t = 1 (parameters "
@@ -255,7 +255,7 @@ def forecast(detected, campaign):
         "expected_minus": dict(distribution(column("ln_bf_minus_expected")),
                                note="expected ln BF- (flipped sign against no memory) per detected event"),
         "events_from_mean": dict(expected_events(column("ln_bf_plus_expected"), threshold, bootstrap, seed),
-                                 method="threshold / mean expected ln BF+ (no noise scatter), 90% range over "
+                                 method="threshold / mean expected ln BF₊ (no noise scatter), 90% range over "
                                         "resampled injections"),
         "events_known_sign": dict(expected_events(column("ln_bf_plus_known_sign"), threshold, bootstrap, seed),
                                   method="threshold / mean known-sign bound"),
@@ -288,7 +288,7 @@ def summarize(records, campaign) -> CampaignSummary:
         label=campaign.label, n_injections=len(records), n_failed=len(records) - len(ok),
         n_detected=len(detected), detection_snr=campaign.detection_snr,
         ln_bf=dict(distribution(values), method=key,
-                   note="ln BF+ (A = +1 vs 0) over detected injections, each on its own simulated data"),
+                   note="ln BF₊ (A = +1 vs 0) over detected injections, each on its own simulated data"),
         memory_snr=distribution([r["memory_snr"] for r in detected]),
         events_to_threshold=events, cumulative=bands, forecast=outlook,
         pp=pp_test(ok, campaign), calibration=calibration(detected),

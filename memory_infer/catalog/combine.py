@@ -96,7 +96,7 @@ def _select(record: EventResult, source: str) -> EventEntry:
     chosen = event_pair(methods)
     if chosen is not None and "flipped" not in chosen:
         return EventEntry(label, chosen["memory"].ln_bf, None, None, method=sample_set_name(chosen["memory"]),
-                          included=False, reason="no sample set holds ln BF- (A = -1 vs 0) beside ln BF+",
+                          included=False, reason="no sample set holds ln BF₋ (A = -1 vs 0) beside ln BF₊",
                           memory_snr=snr, source=source)
     if chosen is not None:
         plus, minus = chosen["memory"], chosen["flipped"]
@@ -176,7 +176,7 @@ def combinations(entries) -> dict:
         float(np.hypot(shared_weight * plus_error, (1 - shared_weight) * minus_error))
     return {
         "consistent_sign": {"ln_bf": total_plus, "ln_bf_err": plus_error,
-                            "formula": "sum of ln BF+ (A = +1 vs 0)", "note": note},
+                            "formula": "sum of ln BF₊ (A = +1 vs 0)", "note": note},
         "shared_unknown_sign": {"ln_bf": float(np.logaddexp(total_plus, total_minus) - np.log(2)),
                                 "ln_bf_err": shared_error, "formula": "ln((prod BF+ + prod BF-)/2)",
                                 "weight_plus": shared_weight,

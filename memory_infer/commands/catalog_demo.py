@@ -274,7 +274,10 @@ def run_demo_catalog(args) -> int:
             os.replace(inputs, inputs + ".old")
         os.replace(os.path.dirname(made), inputs)
         shutil.rmtree(inputs + ".old", ignore_errors=True)
+    from ..catalog.population import LARGEST_SPREAD
+
     code = catalog.run(argparse.Namespace(catalog=path, outdir=os.path.join(outdir, "catalog"),
-                                          workers=args.workers, scheduler=None, quiet=False))
+                                          workers=args.workers, scheduler=None, quiet=False,
+                                          largest_spread=LARGEST_SPREAD))
     print(f"demo catalog finished in {time.time() - started:.0f} s; open {os.path.join(outdir, 'catalog', 'report.html')}")
     return code

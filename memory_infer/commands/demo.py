@@ -174,7 +174,10 @@ def combine_events(outdir: str, event_dirs) -> None:
 
     from . import combine
 
-    combine.run(argparse.Namespace(results=list(event_dirs), outdir=os.path.join(outdir, "catalog")))
+    from ..catalog.population import LARGEST_SPREAD
+
+    combine.run(argparse.Namespace(results=list(event_dirs), outdir=os.path.join(outdir, "catalog"),
+                                   largest_spread=LARGEST_SPREAD))
 
 
 def run(args) -> int:
@@ -208,7 +211,8 @@ def run(args) -> int:
 
 
 def index_page(outdir, labels) -> str:
-    """The demo's index: each event's one ln BF+ and ln BF- (as in the catalog) and links to every report."""
+    """The demo's index: each event's one ln BF₊ and ln BF₋ (as in the catalog), controls marked, and links to every
+    report."""
     from ..common.writing import write_text
     from ..reports.html import link, number, page, table
     from ..results.cautions import INVENTED
@@ -224,12 +228,13 @@ def index_page(outdir, labels) -> str:
                      "—" if sign is None else number(sign.ln_bf_sign, sign.ln_bf_sign_err, 3),
                      headline.get("method", "no usable estimate"),
                      "—" if not result.memory_snr else f"{result.memory_snr['value']:.2f}",
-                     link(f"events/{label}/report.html", "report")))
+                     link(f"events/{label}/report.html", "report"),
+                     f"control, kept out of the catalog's sums: {result.control}" if result.control else ""))
     links = "".join(f"<li><a href='{html.escape(target)}'>{html.escape(name)}</a></li>" for name, target in
                     [("catalog report", "catalog/report.html"), ("campaign report", "campaign/report.html")]
                     + [(f"event {label}", f"events/{label}/report.html") for label in labels])
     body = table(["event", "ln BF₊ (A = +1 vs 0)", "ln BF₋ (A = −1 vs 0)", "sign ln BF (+ vs −)",
-                  "method and sample set (one per event, as in the catalog)", "memory SNR", "report"], rows)
+                  "method and sample set (one per event, as in the catalog)", "memory SNR", "report", "control"], rows)
     text = page("memory_infer demo: an invented catalog", [("Reports", f"<ul>{links}</ul>"), ("Events", body)],
                 INVENTED)
     path = os.path.join(outdir, "index.html")

@@ -62,6 +62,16 @@ class EventSetup:
         settings = self.settings.likelihood
         return bool(settings.distance_marginalization or settings.time_marginalization)
 
+    def parameter_roles(self) -> dict:
+        """{"sampled": names, "fixed": {name: value}}: which source parameters the priors sample and which they fix
+        (with reweighting alone and no priors, the samples' own columns are what is sampled)."""
+        priors = self.priors or {}
+        sampled = [name for name in sampled_columns(priors)]
+        fixed = {name: float(prior.peak) for name, prior in priors.items()
+                 if getattr(prior, "is_fixed", False) and name != "memory_amplitude"
+                 and isinstance(getattr(prior, "peak", None), (int, float))}
+        return {"sampled": sorted(sampled), "fixed": dict(sorted(fixed.items()))}
+
     def settings_fingerprint(self) -> dict:
         settings = self.settings
         model, data, likelihood = settings.model, settings.data, settings.likelihood
@@ -80,6 +90,7 @@ class EventSetup:
                 "amplitude_grid": [float(x) for x in self.grid],
                 "calibration": dict(calibration, detectors=list(self.calibration)),
                 "data_notes": list(self.data_notes), "origins": dict(settings.origins),
+                "parameters": self.parameter_roles(),
                 "segment": {"start_time": data.start_time, "duration": data.duration,
                             "sampling_rate": data.sampling_rate, "maximum_frequency": data.maximum_frequency}}
 

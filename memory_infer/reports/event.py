@@ -149,13 +149,43 @@ def injection_text(result: EventResult) -> str:
     """The injected parameters, the memory amplitude A first, and whether the event is a control."""
     injection = dict(result.injection)
     order = ["memory_amplitude"] + sorted(k for k in injection if k != "memory_amplitude")
-    rows = [("memory amplitude A" if key == "memory_amplitude" else key, f"{injection[key]:.6g}",
+    rows = [("memory amplitude A" if key == "memory_amplitude" else key, parameter_value(key, injection[key]),
              INJECTION_UNITS.get(key, "")) for key in order if key in injection]
     text = table(["parameter", "injected value", "unit"], rows)
     if result.control:
         text += (f"<p>A control event ({html.escape(result.control)}): a catalog keeps it out of its sums and "
                  "shows it apart.</p>")
     return text
+
+
+def parameter_value(name: str, value) -> str:
+    """A parameter's value for a page: GPS times to the millisecond (``1e+09`` hides the event time), others to six
+    significant figures."""
+    if name.endswith("_time"):
+        return f"{float(value):.3f}"
+    return f"{float(value):.6g}"
+
+
+def expected_ln_bf_text(snr_value: float, injected_amplitude) -> str:
+    """What a perfectly known signal would give in expectation: ln BF+ = (A_true - 1/2) rho^2 for data holding memory
+    of amplitude A_true (Finn, PRD 46, 5236 (1992)); for data of unknown content, the values under GR and without
+    memory."""
+    rho2 = snr_value ** 2
+    if injected_amplitude is not None:
+        amplitude = float(injected_amplitude)
+        return (f"Expected ln BF₊ for a perfectly known signal with the injected memory amplitude A = {amplitude:g}: "
+                f"(A − 1/2) ρ² = {(amplitude - 0.5) * rho2:.3f} (Finn, PRD 46, 5236 (1992)).")
+    return (f"Expected ln BF₊ for a perfectly known signal: ρ²/2 = {rho2 / 2:.3f} if the data hold the memory general "
+            f"relativity predicts, −ρ²/2 = {-rho2 / 2:.3f} if they hold none (Finn, PRD 46, 5236 (1992)).")
+
+
+def parameters_html(roles: dict) -> str:
+    """Which parameters were sampled and which fixed (and at what value)."""
+    sampled = ", ".join(html.escape(name) for name in roles.get("sampled") or []) or "none"
+    fixed = roles.get("fixed") or {}
+    rows = [(html.escape(name), parameter_value(name, value), INJECTION_UNITS.get(name, "")) for name, value in fixed.items()]
+    return (f"<p>Sampled: {sampled}.</p>" + (table(["fixed parameter", "value", "unit"], rows) if rows else
+                                             "<p>No parameter fixed.</p>"))
 
 
 def _monte_carlo(family: str) -> bool:
@@ -193,9 +223,9 @@ def event_page(result: EventResult) -> str:
             + f"<p>{html.escape(sign.note)}</p>"))
     snr = result.memory_snr
     if snr:
+        injected = (result.injection or {}).get("memory_amplitude") if result.injection else None
         sections.append(("Memory signal-to-noise ratio", f"<p>{snr['value']:.3f} at {html.escape(snr['point'])}; "
-                         f"{html.escape(snr['method'])}. Expected ln BF for a perfectly known signal: ρ²/2 = "
-                         f"{snr['value'] ** 2 / 2:.3f} (Finn, PRD 46, 5236 (1992)).</p>"))
+                         f"{html.escape(snr['method'])}. {expected_ln_bf_text(snr['value'], injected)}</p>"))
     if result.injection:
         sections.append(("Injection (simulated data)", injection_text(result)))
     free = result.free_amplitude
@@ -213,6 +243,8 @@ def event_page(result: EventResult) -> str:
                          + ("" if reference is None else f", reference frequency {reference:g} Hz (from "
                             f"{html.escape(str(settings.get('reference_frequency_from', 'configuration')))})")
                          + ".</p><p>Calibration: " + "; ".join(html.escape(c) for c in calibration) + ".</p>"))
+    if settings.get("parameters"):
+        sections.append(("Parameters sampled and fixed", parameters_html(settings["parameters"])))
     if settings.get("origins") or settings.get("data_notes"):
         sections.append(("Where each setting came from", _origins_html(settings)))
     if result.warnings:

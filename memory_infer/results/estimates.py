@@ -13,9 +13,9 @@ import numpy as np
 from ..common.errors import MemoryInferError
 from .methods import family_of, preference_order, preference_rank
 
-RULE = ("ln BF+ (A = +1 vs 0) and ln BF- (A = -1 vs 0) from one family and one sample set that holds both: "
-        "the reliable pair with the smallest Monte-Carlo error on ln BF+ (importance reweighting or nested "
-        "sampling); the two-point approximation, which has no error, only when neither is available; ln BF+ "
+RULE = ("ln BF₊ (A = +1 vs 0) and ln BF₋ (A = -1 vs 0) from one family and one sample set that holds both: "
+        "the reliable pair with the smallest Monte-Carlo error on ln BF₊ (importance reweighting or nested "
+        "sampling); the two-point approximation, which has no error, only when neither is available; ln BF₊ "
         "alone when no sample set holds both; the other estimates are reported as cross-checks")
 ERROR_UNDEFINED_TEXT = "error undefined: fewer than two effective samples"
 

@@ -55,6 +55,10 @@ def _catalog_agrees_with_index(outdir):
         assert row[2] == number(entry["ln_bf_minus"], entry["ln_bf_minus_err"], 3)
         assert row[4] == entry["method"] == table[entry["label"]]["method"]
         assert float(table[entry["label"]]["ln_bf_plus"]) == entry["ln_bf_plus"]
+    for entry in catalog["controls"]:  # a control is marked as one on the index too
+        assert index[entry["label"]][7].startswith("control, kept out of the catalog's sums")
+    for entry in catalog["events"]:
+        assert index[entry["label"]][7] == ""
     return catalog
 
 

@@ -62,3 +62,20 @@ def test_figures_name_quantity_and_unit_and_keep_to_the_band():
     legend = [t.get_text() for t in amplitude.get_legend().get_texts()]
     assert "general relativity (A = 1)" in legend and "no memory (A = 0)" in legend
     assert "A = 0" in weights_label("none") and "A = 1" in weights_label("memory")
+
+
+def test_a_control_page_expects_a_negative_ln_bf_and_shows_times_and_parameter_roles():
+    # the expectation for a known signal in Gaussian noise: ln BF+ = (A_true - 1/2) rho^2 (Finn, PRD 46, 5236 (1992))
+    from memory_infer.reports.event import event_page
+    from memory_infer.results.event import EventResult
+
+    result = EventResult(event="control", injection={"memory_amplitude": 0.0, "geocent_time": 1_000_000_002.0},
+                         memory_snr={"value": 4.0, "point": "the injection", "method": "noise-weighted inner product"},
+                         settings={"parameters": {"sampled": ["phase"], "fixed": {"mass_1": 36.0,
+                                                                                  "geocent_time": 1_000_000_002.0}}})
+    page = event_page(result)
+    assert "(A − 1/2) ρ² = -8.000" in page and "ρ²/2 = 8.000" not in page
+    assert "1000000002.000" in page and "1e+09" not in page
+    assert "Sampled: phase." in page and "Parameters sampled and fixed" in page
+    free = event_page(EventResult(event="real", memory_snr={"value": 4.0, "point": "p", "method": "m"}))
+    assert "ρ²/2 = 8.000 if the data hold the memory" in free and "−ρ²/2 = -8.000 if they hold none" in free
