@@ -49,6 +49,11 @@ class EventEntry:
     source: str = ""
     control: str = ""  # why the event is a control, kept out of the sums and shown apart ("" otherwise)
     injected_amplitude: float | None = None
+    # how far this tool's ln L at A = 0 departs from the samples' own (median and spread, nats), when they carry one
+    likelihood_mismatch_median: float | None = None
+    likelihood_mismatch_spread: float | None = None
+    effective_samples: float | None = None  # of the summed estimate, when it has them
+    number_of_samples: int | None = None
     curve: dict | None = field(default=None, repr=False)
 
     def public(self) -> dict:
@@ -124,6 +129,15 @@ def select_events(records: list, sources=None) -> tuple:
     for entry, record in zip(entries, records):
         entry.control = record.control or ""
         entry.injected_amplitude = None if record.injection is None else record.injection.get("memory_amplitude")
+        mismatches = [check.get("mismatch") for check in (record.sample_checks or {}).values()
+                      if isinstance(check, dict) and check.get("mismatch")]
+        if mismatches:
+            entry.likelihood_mismatch_median = float(mismatches[0]["median"])
+            entry.likelihood_mismatch_spread = float(mismatches[0]["spread"])
+        chosen = [m for m in record.methods if m.method == entry.method and m.numerator == "memory"]
+        if chosen and chosen[0].effective_sample_size is not None:
+            entry.effective_samples = float(chosen[0].effective_sample_size)
+            entry.number_of_samples = chosen[0].number_of_samples
     settings = [json.dumps({k: (r.settings or {}).get(k) for k in CONSISTENCY_KEYS}, sort_keys=True)
                 for r in records]
     reference = Counter(settings).most_common(1)[0][0] if settings else None

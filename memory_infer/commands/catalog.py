@@ -83,6 +83,22 @@ def catalog_result(records: list, name: str, outdir: str, population_settings=No
     return result
 
 
+def event_table(result) -> str:
+    """One line per event: ln BF₊ with its error and method, effective samples, and how far this tool's ln L at A = 0
+    departs from the samples' own (median, spread)."""
+    lines = [f"{'event':<16} {'ln BF₊':>20} {'effective samples':>18} {'ln L departure (median, spread)':>32}  method"]
+    for entry in result.events + result.controls:
+        plus = ("—" if entry.get("ln_bf_plus") is None else
+                number(entry["ln_bf_plus"], entry.get("ln_bf_plus_err") or entry.get("ln_bf_err")))
+        samples = ("—" if entry.get("effective_samples") is None else
+                   f"{entry['effective_samples']:.0f} of {entry.get('number_of_samples')}")
+        departure = ("—" if entry.get("likelihood_mismatch_spread") is None else
+                     f"{entry['likelihood_mismatch_median']:+.3g}, {entry['likelihood_mismatch_spread']:.3g} nats")
+        mark = " (control)" if entry.get("control") else ("" if entry.get("included", True) else " (left out)")
+        lines.append(f"{entry['label'] + mark:<16} {plus:>20} {samples:>18} {departure:>32}  {entry.get('method', '')}")
+    return "\n".join(lines)
+
+
 def run(args) -> int:
     settings = PopulationSettings(largest_spread=args.largest_spread)
     name, events, cluster = load_catalog(args.catalog)
@@ -126,9 +142,18 @@ def run(args) -> int:
 
     result.save(os.path.join(outdir, CatalogResult.FILE))
     with atomic_path(os.path.join(outdir, "events.csv")) as temporary:
-        pd.DataFrame(result.event_runs).merge(pd.DataFrame(result.events), on="label", how="left",
-                                              suffixes=("", "_combination")).to_csv(temporary, index=False)
+        runs = pd.DataFrame(result.event_runs)
+        entries = pd.DataFrame(result.events + result.controls)
+        if len(entries):  # one column per quantity: the run's own columns give way to the combination's
+            runs = runs.drop(columns=[c for c in runs.columns if c in entries.columns and c != "label"])
+            runs = runs.merge(entries, on="label", how="left")
+        for column in ("page", "source"):  # paths inside the output folder, not the machine's
+            if column in runs.columns:
+                runs[column] = [os.path.relpath(v, outdir) if isinstance(v, str) and os.path.isabs(v) else v
+                                for v in runs[column]]
+        runs.to_csv(temporary, index=False)
     write_text(os.path.join(outdir, "report.html"), page)
+    print(event_table(result))
     c = result.consistent_sign
     print(f"catalog '{name}': {result.n_events} of {len(records)} events combined; consistent-sign ln BF = "
           f"{number(c['ln_bf'], c['ln_bf_err'])}; wrong sign {result.wrong_sign['ln_bf']:.2f}")

@@ -60,6 +60,20 @@ def amplitude_figure(result) -> str:
     return figure_to_html(fig, "catalog amplitude posterior")
 
 
+def samples_text(entry: dict) -> str:
+    """'ESS of N' for an event's summed estimate, when it has effective samples."""
+    if entry.get("effective_samples") is None:
+        return "—"
+    return f"{entry['effective_samples']:.0f} of {entry.get('number_of_samples')}"
+
+
+def departure_text(entry: dict) -> str:
+    """How far this tool's ln L at A = 0 departs from the samples' own log-likelihood (median, spread), when known."""
+    if entry.get("likelihood_mismatch_spread") is None:
+        return "—"
+    return f"{entry['likelihood_mismatch_median']:+.3g}, {entry['likelihood_mismatch_spread']:.3g} nats"
+
+
 def catalog_page(result: CatalogResult) -> str:
     """The catalog report, drawn from a :class:`CatalogResult` alone."""
     sums = [(name.replace("_", " "), getattr(result, name)["formula"],
@@ -80,7 +94,8 @@ def catalog_page(result: CatalogResult) -> str:
                      f"{'; inside the catalog 90% interval' if f['inside_catalog_90'] else ''}.</p>"
                      for f in (amplitude.get("effective_samples") or {}).get("flagged", [])))
     rows = [(e["label"], number(e["ln_bf_plus"], e["ln_bf_plus_err"]), number(e["ln_bf_minus"], e["ln_bf_minus_err"]),
-             e["method"], "yes" if e["included"] else "no", e["reason"]) for e in result.events]
+             e["method"], samples_text(e), departure_text(e), "yes" if e["included"] else "no", e["reason"])
+            for e in result.events]
     sections = [
         ("Catalog Bayes factors", table(["combination", "formula", "ln BF ± error"], sums)
          + f"<p>Method per event: {result.method_rule}.</p>"),
@@ -90,7 +105,8 @@ def catalog_page(result: CatalogResult) -> str:
         ("Population models of the amplitude", population_text(result.population)),
         ("Cumulative evidence", cumulative_figure(result)),
         ("Per-event contributions", contributions_figure(result)),
-        ("Events", table(["event", "ln BF₊", "ln BF₋", "method and sample set", "included", "reason dropped"],
+        ("Events", table(["event", "ln BF₊", "ln BF₋", "method and sample set", "effective samples",
+                          "ln L at A = 0 against the samples' own (median, spread)", "included", "reason dropped"],
                          rows)),
     ]
     if result.controls:

@@ -65,6 +65,14 @@ def test_catalog_lists_every_event_with_its_page_or_reason(uninterrupted):
     event = json.loads((outdir / done[0]["page"]).with_name("evidence.json").read_text())
     assert event["settings"]["origins"]["start_time"].startswith("trigger time (")
     assert event["settings"]["origins"]["priors"].startswith("not needed")
+    import pandas as pd
+
+    table = pd.read_csv(outdir / "events.csv")  # one column per quantity, paths inside the folder
+    assert not [c for c in table.columns if c.endswith("_combination")] and list(table.columns).count("ln_bf_err") == 1
+    assert not any(str(v).startswith("/") for v in table["page"].dropna())
+    assert {"likelihood_mismatch_median", "likelihood_mismatch_spread", "effective_samples"} <= set(table.columns)
+    summed = [e for e in content["events"] if e["included"]]
+    assert all(e["effective_samples"] is not None and e["effective_samples"] <= e["number_of_samples"] for e in summed)
 
 
 @pytest.mark.slow
