@@ -3,6 +3,7 @@ distribution, and, only when they have data, the PP test and the fast-against-fu
 from __future__ import annotations
 
 import html
+import os
 
 import numpy as np
 
@@ -40,7 +41,7 @@ def _cumulative_figure(summary):
     axis.set_xlabel("number of detected events in the catalog")
     axis.set_ylabel("catalog ln BF₊")
     axis.set_ylim(min(-2.0, float(np.min(bands["lower_90"]))), 2.5 * threshold["threshold"])
-    axis.legend(fontsize=7, loc="upper left")
+    axis.legend(fontsize=9, loc="upper left")
     return figure_to_html(fig, "catalog ln BF against catalog size")
 
 
@@ -56,7 +57,7 @@ def _pp_figure(pp):
                       color="0.85", label="90% band for uniform")
     axis.plot(quantiles, ranks / n, color="C0", label=f"A (KS p = {pp['ks_pvalue']:.2f})")
     axis.plot(grid, grid, color="k", lw=0.6)
-    axis.legend(fontsize=7)
+    axis.legend(fontsize=9)
     axis.set_xlabel("posterior quantile of the injected A")
     axis.set_ylabel("fraction of injections")
     return figure_to_html(fig, "PP plot")
@@ -125,6 +126,28 @@ def _forecast_rows(summary):
     return rows
 
 
+def setup_rows(summary) -> list:
+    """What the campaign simulated: network, noise, population, injected amplitude, model and recovery method, from
+    the configuration its provenance records."""
+    configuration = (summary.get("provenance") or {}).get("configuration") or {}
+    campaign, model = configuration.get("campaign") or {}, configuration.get("model") or {}
+    data = configuration.get("data") or {}
+    if not campaign:
+        return []
+    noise = campaign.get("noise", "gaussian")
+    noise_text = ("none: noise-free simulated data" if noise == "zero"
+                  else f"{noise} noise from each detector's noise curve")
+    rows = [("detector network", campaign.get("network", "—")), ("noise", noise_text),
+            ("population of sources", os.path.basename(str(campaign.get("injections", "—")))),
+            ("injected memory amplitude", str(campaign.get("injected_amplitude", "—"))),
+            ("waveform model", f"{model.get('approximant') or '—'} (reference frequency "
+                               f"{model.get('reference_frequency') or 'default'} Hz)"),
+            ("segment", f"{data.get('duration', '—')} s at {data.get('sampling_rate', '—')} Hz from "
+                        f"{data.get('minimum_frequency', '—')} Hz"),
+            ("recovery method", str(campaign.get("method", "—")))]
+    return [(name, html.escape(str(value))) for name, value in rows]
+
+
 def campaign_page(result: CampaignSummary) -> str:
     """The campaign report, drawn from a :class:`CampaignSummary` alone."""
     summary = result.to_json()
@@ -139,7 +162,12 @@ def campaign_page(result: CampaignSummary) -> str:
               f"{calibration['rms_difference']:.3f} over {calibration['count']}")]
     notes = "".join(f"<p class='caution'>{html.escape(w)}</p>" for w in summary.get("warnings") or [])
     method = summary["events_to_threshold"].get("method", "")
-    sections = [("Summary", notes + table(["quantity", "value"], rows)
+    setup = setup_rows(summary)
+    if setup:
+        sections = [("What was simulated", table(["setting", "value"], setup))]
+    else:
+        sections = []
+    sections += [("Summary", notes + table(["quantity", "value"], rows)
                  + f"<p>Events to the threshold: {html.escape(method)}.</p>"
                  + (forecast_note(summary) if summary.get("forecast") else ""))]
     if summary["cumulative"]["events"]:

@@ -16,13 +16,17 @@ def cumulative_figure(result) -> str:
     values = np.asarray(result.cumulative_ln_bf_plus)
     errors = np.asarray(result.cumulative_ln_bf_plus_err)
     count = np.arange(1, values.size + 1)
-    axis.plot(count, values, "o-", color="C3", label="consistent sign, Σ ln BF₊")
-    axis.fill_between(count, values - errors, values + errors, color="C3", alpha=0.2, label="± error")
+    axis.errorbar(count, values, yerr=errors, fmt="o-", color="C3", capsize=3,
+                  label=f"consistent sign, Σ ln BF₊ ± error (largest error {np.max(errors, initial=0):.2g})")
+    axis.fill_between(count, values - errors, values + errors, color="C3", alpha=0.35, lw=0)
     axis.axhline(8.0, color="k", ls="--", lw=0.8, label="ln BF = 8 (common threshold)")
     axis.axhline(0.0, color="0.5", lw=0.6)
     axis.set_xlabel("number of events (ranked by contribution)")
     axis.set_ylabel("cumulative ln BF")
-    axis.legend(fontsize=7)
+    from matplotlib.ticker import MaxNLocator
+
+    axis.xaxis.set_major_locator(MaxNLocator(integer=True))  # a count of events has no half events
+    axis.legend(fontsize=9)
     return figure_to_html(fig, "cumulative ln BF")
 
 
@@ -34,12 +38,13 @@ def contributions_figure(result) -> str:
     for offset, key, colour, name in ((-0.15, "plus", "C3", "ln BF₊ (A = +1)"), (0.15, "minus", "C0", "ln BF₋ (A = −1)")):
         values = [events[l][f"ln_bf_{key}"] for l in labels]
         errors = [events[l][f"ln_bf_{key}_err"] or 0.0 for l in labels]
-        axis.errorbar(values, y + offset, xerr=errors, fmt="o", color=colour, label=name, ms=4)
+        axis.errorbar(values, y + offset, xerr=errors, fmt="o", color=colour, ms=4, capsize=4,
+                      label=f"{name} ± error (largest {max(errors, default=0.0):.2g})")
     axis.set_yticks(y, labels)
     axis.invert_yaxis()
     axis.axvline(0, color="0.5", lw=0.6)
     axis.set_xlabel("ln Bayes factor against no memory")
-    axis.legend(fontsize=7)
+    axis.legend(fontsize=9)
     return figure_to_html(fig, "per-event contributions")
 
 
@@ -52,7 +57,7 @@ def amplitude_figure(result) -> str:
             axis.plot(grid, normalized_density(grid, curve), lw=0.8, alpha=0.6, label=label)
         axis.plot(grid, np.exp(amplitude["ln_density"]), color="k", lw=2, label="catalog")
         axis.axvline(1.0, color="k", ls="--", lw=0.8, label="general relativity (A = 1)")
-        axis.legend(fontsize=6, ncol=2)
+        axis.legend(fontsize=8, ncol=2)
     else:
         axis.text(0.5, 0.5, amplitude.get("note", "no amplitude curves"), transform=axis.transAxes, ha="center")
     axis.set_xlabel("shared memory amplitude A (dimensionless; 1 = general relativity)")

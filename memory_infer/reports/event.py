@@ -14,15 +14,23 @@ from .html import figure_to_html, new_figure, number, number_or_undefined, page,
 
 
 def whitened_figure(whitened: dict) -> str:
-    """Whitened data with the model with and without memory, per detector, around the merger."""
-    fig, axes = new_figure(len(whitened), 1, figsize=(8, 2.4 * len(whitened)), squeeze=False)
-    for axis, (name, series) in zip(axes[:, 0], whitened.items()):
-        axis.plot(series["time"], series["data"], color="0.7", lw=0.7, label="whitened data")
-        axis.plot(series["time"], series["model_without_memory"], color="C0", lw=1.0, label="model, no memory (A = 0)")
-        axis.plot(series["time"], series["model_with_memory"], color="C3", lw=1.0, ls="--",
-                  label="model, GR memory (A = 1)")
-        axis.set_ylabel(f"{name} whitened strain\n[noise standard deviations]", fontsize=8)
-        axis.legend(fontsize=7, loc="upper left")
+    """Whitened data with the model with and without memory, per detector, around the merger; below each, the
+    residual (data minus the model without memory) and the memory alone (the two models' difference)."""
+    fig, axes = new_figure(2 * len(whitened), 1, figsize=(8, 4.4 * len(whitened)), squeeze=False)
+    for index, (name, series) in enumerate(whitened.items()):
+        axis, lower = axes[2 * index, 0], axes[2 * index + 1, 0]
+        time = np.asarray(series["time"])
+        data, without = np.asarray(series["data"]), np.asarray(series["model_without_memory"])
+        with_memory = np.asarray(series["model_with_memory"])
+        axis.plot(time, data, color="0.7", lw=0.7, label="whitened data")
+        axis.plot(time, without, color="C0", lw=1.0, label="model, no memory (A = 0)")
+        axis.plot(time, with_memory, color="C3", lw=1.0, ls="--", label="model, GR memory (A = 1)")
+        axis.set_ylabel(f"{name} whitened strain\n[noise standard deviations]", fontsize=9)
+        axis.legend(fontsize=9, loc="upper left")
+        lower.plot(time, data - without, color="0.7", lw=0.7, label="residual: data − model without memory")
+        lower.plot(time, with_memory - without, color="C3", lw=1.2, label="memory alone (A = 1 model − A = 0 model)")
+        lower.set_ylabel(f"{name} residual and memory\n[noise standard deviations]", fontsize=9)
+        lower.legend(fontsize=9, loc="upper left")
     axes[-1, 0].set_xlabel("time from merger at geocentre [s]")
     return figure_to_html(fig, "whitened data and models")
 
@@ -47,7 +55,7 @@ def draw_spectrum(spectrum: dict):
     axis.set_xlim(low, high if high > low else None)
     axis.set_xlabel("frequency [Hz]")
     axis.set_ylabel("strain amplitude spectral density [1/√Hz]")
-    axis.legend(fontsize=7)
+    axis.legend(fontsize=9)
     return fig
 
 
@@ -81,7 +89,7 @@ def draw_amplitude(result: EventResult):
     axis.axvline(0.0, color="0.5", lw=0.8, ls=":", label="no memory (A = 0)")
     axis.set_xlabel("memory amplitude A (dimensionless; 1 = general relativity)")
     axis.set_ylabel("posterior density [per unit A]")
-    axis.legend(fontsize=7)
+    axis.legend(fontsize=9)
     if not drawn:
         axis.text(0.5, 0.5, "no free-amplitude run or reweighting", transform=axis.transAxes, ha="center")
     return fig
@@ -110,7 +118,7 @@ def weights_figure(weights: dict) -> str:
     axis.set_xlabel("log10 of the importance weight relative to the largest (dimensionless)")
     axis.set_ylabel("samples (count)")
     if weights:
-        axis.legend(fontsize=7)
+        axis.legend(fontsize=9)
     return figure_to_html(fig, "importance weights")
 
 

@@ -44,7 +44,7 @@ def spread_figure(spread: dict) -> str:
     axis.set_ylim(-0.03 * sigma[-1], sigma[-1])
     axis.set_xlabel("mean amplitude μ (1 = general relativity)")
     axis.set_ylabel("spread σ of the amplitudes")
-    axis.legend(fontsize=7, loc="upper right")
+    axis.legend(fontsize=9, loc="upper right")
     return figure_to_html(fig, "joint posterior of the mean and spread of the amplitudes")
 
 

@@ -48,3 +48,15 @@ def test_the_page_says_what_the_forecast_is_and_that_it_can_be_negative():
     assert "at least 5% of the detected injections have a negative expected ln BF₊" in page
     positive = dict(forecast, expected=dict(forecast["expected"], lower_90=0.001))
     assert "have a negative expected" not in campaign_page(summary(forecast=positive))
+
+
+def test_the_page_says_what_was_simulated():
+    configuration = {"campaign": {"network": "hlv-design", "noise": "zero", "injections": "/a_private_folder/bbh_population.toml",
+                                  "injected_amplitude": 1.0, "method": "fast"},
+                     "model": {"approximant": "IMRPhenomTHM", "reference_frequency": 20.0},
+                     "data": {"duration": 8.0, "sampling_rate": 2048.0, "minimum_frequency": 20.0}}
+    page = campaign_page(summary(provenance={"configuration": configuration, "versions": {}, "seed": 1,
+                                             "command": []}))
+    assert "What was simulated" in page and "hlv-design" in page and "noise-free simulated data" in page
+    assert "bbh_population.toml" in page and "a_private_folder" not in page and "IMRPhenomTHM" in page
+    assert "What was simulated" not in campaign_page(summary())  # an old summary without its configuration
