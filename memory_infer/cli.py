@@ -68,7 +68,10 @@ def main(argv=None) -> int:
         command = f"memory-infer {args.command}"
         return _run(args)
     except KeyboardInterrupt:
-        sys.stdout.flush()
+        import signal
+
+        signal.signal(signal.SIGINT, signal.SIG_IGN)  # one interruption is enough: a late second one must not turn
+        sys.stdout.flush()  # the exit into a death by signal while the interpreter shuts down
         print(f"{command}: interrupted; finished outputs are kept.", file=sys.stderr)
         return 130
 
