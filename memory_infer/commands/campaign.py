@@ -74,7 +74,7 @@ def run(args) -> int:
     expected = (summary.forecast.get("expected") or {}).get("mean")
     known = (summary.forecast.get("known_sign") or {}).get("mean")
     print(f"{summary.n_injections} injections, {summary.n_failed} failed, {summary.n_detected} detected; "
-          f"expected ln BF+ per detected event over noise {number(expected, None, 5)} "
+          f"expected ln BF₊ per detected event over noise {number(expected, None, 5)} "
           f"(known-sign bound {number(known, None, 5)})")
     print(f"events to ln BF = {threshold['threshold']:g} with noise scatter: median (90% range) {range_text(threshold)}; "
           "± is the Monte-Carlo error")
