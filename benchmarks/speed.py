@@ -211,8 +211,13 @@ def reweighting_vs_bilby(approximant, point_changes=None, samples_per_round: int
     arguments = dict(waveform_approximant=approximant, minimum_frequency=20.0, reference_frequency=20.0)
     point = dict(POINT, **(point_changes or {}))
     likelihood = MemoryTransient(detectors, waveform_generator(DURATION, RATE, START, arguments))
-    # bilby's own source model: SimInspiralChooseFDWaveform, or SimInspiralFD for a time-domain approximant
-    standard = _likelihood(detectors, bilby.gw.source.lal_binary_black_hole, arguments)
+    # bilby's own source model: SimInspiralChooseFDWaveform, or SimInspiralFD for a time-domain approximant, or
+    # gwsignal's route (pyseobnr) for SEOBNRv5PHM
+    from memory_infer.waveform.conditioning import GWSIGNAL_MODELS
+
+    model = (bilby.gw.source.gwsignal_binary_black_hole if approximant in GWSIGNAL_MODELS
+             else bilby.gw.source.lal_binary_black_hole)
+    standard = _likelihood(detectors, model, arguments)
     rng = np.random.default_rng(1)
     n = samples_per_round
     samples = pd.DataFrame([dict(point, mass_1=point["mass_1"] + rng.normal(0, 0.5),
@@ -286,6 +291,15 @@ def main(argv=None):
     ratio, note = reweighting_vs_bilby("IMRPhenomXPHM", dict(tilt_1=0.6, tilt_2=1.9, phi_12=0.8))
     rows.append(("reweighting per sample / bilby IMRPhenomXPHM likelihood", ratio, 1.4, "lower", "bilby XPHM, same run",
                  note))
+    from memory_infer.waveform.models import pyseobnr_modes
+
+    if pyseobnr_modes.available():
+        for label, changes in (("aligned", {}), ("precessing", dict(tilt_1=0.6, tilt_2=1.9, phi_12=0.8))):
+            ratio, note = reweighting_vs_bilby("SEOBNRv5PHM", changes)
+            rows.append((f"reweighting per sample / bilby SEOBNRv5PHM likelihood, {label}", ratio, 1.25, "lower",
+                         "bilby SEOBNRv5PHM (gwsignal), same run", note))
+    else:
+        print("SEOBNRv5PHM rows skipped: pyseobnr is not installed (bash scripts/install_seobnr.sh)")
     rate, overall, startup, cpu, (low, high) = campaign_rates()
     rows.append(("fast campaign, injections per second on 2 cores", rate, 40, "higher", "none (absolute rate)",
                  f"{SETTINGS['injections']} HLV-design injections, 4 s at 2048 Hz, all recovered; steady rate (after "
@@ -302,12 +316,47 @@ def main(argv=None):
     print(table(rows), flush=True)
     if options.quick:
         return
+    print(partial_read_memory())
     ratio, note = slurm_overhead()
     # not a goal: the batch scheduler's overhead, measured the same way
     if ratio is not None:
         print(f"campaign time on one-node Slurm / local pool: {ratio:.2f}  ({note})")
     else:
         print(f"campaign on one-node Slurm: {note}")
+
+
+def partial_read_memory(seconds: int = 4096, rate: float = 16384.0) -> str:
+    """Peak memory of reading an event's stretch (8 s segment and its filter margin) from a 4096 s, 16 kHz strain
+    file in the open-data layout, against reading the whole file; each in a fresh process (not a goal row)."""
+    import os
+    import subprocess
+    import sys
+    import tempfile
+
+    import h5py
+
+    with tempfile.TemporaryDirectory() as folder:
+        path = os.path.join(folder, "long.hdf5")
+        with h5py.File(path, "w") as handle:  # written in pieces: the benchmark itself never holds the whole file
+            dataset = handle.create_dataset("strain/Strain", shape=(int(seconds * rate),), dtype="f8")
+            dataset.attrs["Xspacing"], dataset.attrs["Xstart"] = 1.0 / rate, START
+            rng = np.random.default_rng(2)
+            step = int(64 * rate)
+            for first in range(0, dataset.shape[0], step):
+                dataset[first:first + step] = rng.normal(size=min(step, dataset.shape[0] - first))
+        probe = ("import resource, sys; from memory_infer.inputs.open_data import segment_from_file; "
+                 "from memory_infer.inputs.readers import read_strain; "
+                 "f = segment_from_file if sys.argv[1] == 'part' else (lambda p, *a: read_strain(p)); "
+                 f"f(sys.argv[2], 2048.0, {START + 2000.0}, 8.0); "
+                 "print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)")
+        peaks = {}
+        for kind in ("part", "whole"):
+            done = subprocess.run([sys.executable, "-c", probe, kind, path], capture_output=True, text=True)
+            peaks[kind] = int(done.stdout.split()[-1]) / 1024 if done.returncode == 0 else float("nan")
+    size = seconds * rate * 8 / 2 ** 20
+    return (f"peak memory of one process reading an 8 s segment from a {seconds} s, {rate / 1024:g} kHz file "
+            f"({size:.0f} MiB of strain): {peaks['part']:.0f} MiB read in part, {peaks['whole']:.0f} MiB read whole "
+            "(maximum resident set, imports included)")
 
 
 def end_to_end_commands():

@@ -86,7 +86,7 @@ def catalog_result(records: list, name: str, outdir: str, population_settings=No
 def event_table(result) -> str:
     """One line per event: ln BF₊ with its error and method, effective samples, and how far this tool's ln L at A = 0
     departs from the samples' own (median, spread)."""
-    lines = [f"{'event':<16} {'ln BF₊':>20} {'effective samples':>18} {'ln L departure (median, spread)':>32}  method"]
+    lines = [f"{'event':<20} {'ln BF₊':>20} {'effective samples':>18} {'ln L departure (median, spread)':>32}  method"]
     for entry in result.events + result.controls:
         plus = ("—" if entry.get("ln_bf_plus") is None else
                 number(entry["ln_bf_plus"], entry.get("ln_bf_plus_err") or entry.get("ln_bf_err")))
@@ -95,7 +95,7 @@ def event_table(result) -> str:
         departure = ("—" if entry.get("likelihood_mismatch_spread") is None else
                      f"{entry['likelihood_mismatch_median']:+.3g}, {entry['likelihood_mismatch_spread']:.3g} nats")
         mark = " (control)" if entry.get("control") else ("" if entry.get("included", True) else " (left out)")
-        lines.append(f"{entry['label'] + mark:<16} {plus:>20} {samples:>18} {departure:>32}  {entry.get('method', '')}")
+        lines.append(f"{entry['label'] + mark:<20} {plus:>20} {samples:>18} {departure:>32}  {entry.get('method', '')}")
     return "\n".join(lines)
 
 
