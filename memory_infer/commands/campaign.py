@@ -78,6 +78,10 @@ def run(args) -> int:
           f"(known-sign bound {number(known, None, 5)})")
     print(f"events to ln BF = {threshold['threshold']:g} with noise scatter: median (90% range) {range_text(threshold)}; "
           "± is the Monte-Carlo error")
+    spread = summary.forecast.get("events_to_bound_spread") or {}
+    if spread.get("median") is not None:
+        print(f"events to bound the amplitudes' spread below {spread['bound']:g} (90%), all events GR: "
+              f"{range_text(spread)} (a Fisher estimate, optimistic by about a factor 2)")
     for warning in summary.warnings:
         print(f"warning: {warning}")
     print(f"wrote {args.outdir}/campaign.json, injections.csv and report.html")

@@ -119,6 +119,10 @@ def _forecast_rows(summary):
                  ("spread of one event's ln BF₊ over noise (mean)", number(forecast["spread"]["mean"], None, 4))]
     rows.append((f"events to ln BF = {threshold['threshold']:g} with noise scatter: median (90%), ± Monte-Carlo error",
                  f"{range_text(threshold)}; catalogs simulated out to {count_text(threshold.get('horizon'))} events"))
+    spread = forecast.get("events_to_bound_spread") if forecast else None
+    if spread and spread.get("median") is not None:
+        rows.append((f"events to bound the amplitudes' spread σ below {spread['bound']:g} (90%), all events GR",
+                     f"{range_text(spread)}; {spread['method']}"))
     if forecast:
         rows += [(f"events to ln BF = {threshold['threshold']:g} from the mean alone", range_text(forecast["events_from_mean"])),
                  (f"events to ln BF = {threshold['threshold']:g} at the known-sign bound",
