@@ -31,8 +31,12 @@ PLACES = {
     "resampling_method": (CONFIG + "resampling-method", CONFIG + "resampling_method"),
     "mode_array": (CONFIG + "mode-array", CONFIG + "mode_array"),
     "waveform_arguments": (CONFIG + "waveform-arguments-dict", CONFIG + "waveform_arguments_dict"),
+    "distance_marginalization": (CONFIG + "distance-marginalization", CONFIG + "distance_marginalization"),
+    "time_marginalization": (CONFIG + "time-marginalization", CONFIG + "time_marginalization"),
+    "phase_marginalization": (CONFIG + "phase-marginalization", CONFIG + "phase_marginalization"),
 }
-TEXT_SETTINGS = ("waveform_model", "mode_array", "waveform_arguments", "resampling_method")
+MARGINALIZATIONS = ("distance_marginalization", "time_marginalization", "phase_marginalization")
+TEXT_SETTINGS = ("waveform_model", "mode_array", "waveform_arguments", "resampling_method", *MARGINALIZATIONS)
 EMPTY_TEXT = ("", "none", "None", "{}", "[]")
 DEFAULT_POST_TRIGGER = 2.0  # s, the usual post-trigger duration when the release does not give one
 ORIGIN_USER = "configuration"
@@ -145,7 +149,7 @@ def apply_release_settings(settings, found: dict):
     given = settings.given
     data, model, calibration = settings.data, settings.model, settings.calibration
     detectors = list(data.files) or list(data.detectors)
-    origins, changes = {}, {"data": {}, "model": {}, "calibration": {}}
+    origins, changes = {}, {"data": {}, "model": {}, "calibration": {}, "evidence": {}}
 
     def take(section, key, setting, convert=float):
         if key in given.get(section, []):
@@ -170,6 +174,19 @@ def apply_release_settings(settings, found: dict):
         raise MemoryInferError(f"the release's waveform arguments {text} ({where}) change the model, and this tool "
                                "cannot yet pass them to both the oscillatory signal and the memory's modes; this "
                                "release is refused rather than reweighted with another model")
+    marginalized = [name.split("_")[0] for name in MARGINALIZATIONS
+                    if str(found.get(name, ("", ""))[0]).strip().lower() in ("true", "1", "yes")]
+    if marginalized:
+        where = found[f"{marginalized[0]}_marginalization"][1]
+        if "samples_log_likelihood" in given.get("evidence", []):
+            origins["samples_log_likelihood"] = ORIGIN_USER
+        else:  # its column is a marginalized likelihood, not the joint one at each (reconstructed) sample
+            changes["evidence"]["samples_log_likelihood"] = ""
+            origins["samples_log_likelihood"] = (
+                f"not used: the release marginalized over {' and '.join(marginalized)} ({where}), so its "
+                "log_likelihood column is a marginalized likelihood, not the joint one at each sample; reweighting "
+                "takes L(A)/L(0) at each sample of the joint posterior the release reconstructs, and no departure "
+                "from the column is computed")
     if "modes" in given.get("model", []):
         origins["mode_array"] = ORIGIN_USER
     elif "mode_array" in found:
@@ -209,7 +226,8 @@ def apply_release_settings(settings, found: dict):
         origins["calibration"] = "none (the release holds no envelope for every detector)"
     resolved = dataclasses.replace(settings, data=dataclasses.replace(data, **changes["data"]),
                                    model=dataclasses.replace(model, **changes["model"]),
-                                   calibration=dataclasses.replace(calibration, **changes["calibration"]))
+                                   calibration=dataclasses.replace(calibration, **changes["calibration"]),
+                                   evidence=dataclasses.replace(settings.evidence, **changes["evidence"]))
     return resolved, origins
 
 

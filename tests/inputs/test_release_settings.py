@@ -129,3 +129,19 @@ def test_the_releases_resampling_method_is_followed(tmp_path):
     odd = _release_with(tmp_path, "resampling-method = cubic\n")
     with pytest.raises(MemoryInferError, match="resampling method 'cubic'"):
         apply_release_settings(_config({}), read_release_settings(odd))
+
+
+def test_a_marginalized_release_does_not_lend_its_log_likelihood_column(tmp_path):
+    # reference library: bilby_pipe's distance-marginalization key as pesummary stores the run's configuration; bilby's
+    # generate_posterior_samples_from_marginalized_likelihood reconstructs the marginalized parameters and leaves the
+    # sampler's (marginalized) log_likelihood column as it was
+    path = _release_with(tmp_path, "distance-marginalization = True\ntime-marginalization = False\n")
+    settings, origins = apply_release_settings(_config({}), read_release_settings(path))
+    assert settings.evidence.samples_log_likelihood == ""
+    assert origins["samples_log_likelihood"].startswith("not used: the release marginalized over distance")
+    kept, origins = apply_release_settings(_config({"evidence": {"samples_log_likelihood": "log_likelihood"}}),
+                                           read_release_settings(path))
+    assert kept.evidence.samples_log_likelihood == "log_likelihood" and origins["samples_log_likelihood"] == "configuration"
+    plain = _release_with(tmp_path, "distance-marginalization = False\n")
+    assert apply_release_settings(_config({}), read_release_settings(plain))[0].evidence.samples_log_likelihood == \
+        "log_likelihood"
