@@ -66,5 +66,5 @@ def test_release_reweighted_with_its_own_model(tmp_path):
     assert {m["numerator"] for m in estimates} >= {"memory", "flipped"}
     for estimate in estimates:
         assert np.isfinite(estimate["ln_bf"]) and np.isfinite(estimate["ln_bf_err"])
-        assert estimate["effective_sample_size"] >= 0.5 * estimate["number_of_samples"]
+        assert estimate["effective_sample_size"] >= 0.9 * estimate["number_of_samples"]  # measured 218 of 218
     assert record["headline"]["method"] in {m["method"] for m in estimates}  # the headline is by reweighting
