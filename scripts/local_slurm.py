@@ -42,7 +42,8 @@ def install_if_missing() -> None:
     if os.geteuid() != 0 or shutil.which("apt-get") is None:
         fail(f"{', '.join(missing)} not found, and installing Debian's {' and '.join(PACKAGES)} needs root and "
              "apt-get; install them by hand or run this as root on Debian")
-    print(f"local_slurm: installing {' and '.join(PACKAGES)} with apt-get", flush=True)
+    # standard error: standard output is what `eval "$(local_slurm.py up)"` runs (.ci/run)
+    print(f"local_slurm: installing {' and '.join(PACKAGES)} with apt-get", file=sys.stderr, flush=True)
     environment = dict(os.environ, DEBIAN_FRONTEND="noninteractive")
     for command in (["apt-get", "update", "-qq"],
                     ["apt-get", "install", "-y", "-qq", "--no-install-recommends", *PACKAGES]):
