@@ -354,10 +354,11 @@ def _parts(frequency_array, parameters, cache) -> dict:
         mem = to_frequency_domain(memory * scale, delta_t, shift, frequency_array, phase)
     else:
         osc = _oscillatory(frequency_array, signal, plan, values, dict(parameters, **settings), scale)
-        memory_only = TimeSignal(signal.times, np.zeros(signal.times.size, complex), signal.memory,
-                                 signal.early_inspiral_memory)
-        _, memory, shift = circular_layout(memory_only, n_buffer, delta_t, taper, 0.0)
-        mem = to_frequency_domain(memory * scale, delta_t, shift, frequency_array)
+        if include_memory:
+            memory_only = TimeSignal(signal.times, np.zeros(signal.times.size, complex), signal.memory,
+                                     signal.early_inspiral_memory)
+            _, memory, shift = circular_layout(memory_only, n_buffer, delta_t, taper, 0.0)
+            mem = to_frequency_domain(memory * scale, delta_t, shift, frequency_array)
     if not include_memory:
         mem = {"plus": np.zeros_like(osc["plus"]), "cross": np.zeros_like(osc["cross"])}
     return {"plus": osc["plus"], "cross": osc["cross"], "memory_plus": mem["plus"], "memory_cross": mem["cross"]}
