@@ -24,7 +24,7 @@ import math
 import numpy as np
 
 from ...common.errors import WaveformError
-from .precessing_twist import wigner_d
+from ..sphere import wigner_d
 from .refine import interpolated_level
 from .series import ModeSeries
 
@@ -130,7 +130,8 @@ class CoprecessingFrame:
         alpha, gamma = first + second, first - second
         half_cos, half_sin = np.sqrt(w * w + z * z), np.sqrt(x * x + y * y)  # cos(beta/2), sin(beta/2)
         lmax = max(l for l, _ in self.series.modes)
-        cos_powers, sin_powers = half_cos ** np.arange(2 * lmax + 1)[:, None], half_sin ** np.arange(2 * lmax + 1)[:, None]
+        powers = np.arange(2 * lmax + 1)[:, None]
+        cos_powers, sin_powers = half_cos ** powers, half_sin ** powers
         turns = {mp: np.exp(-1j * mp * gamma) for mp in range(-lmax, lmax + 1)}
         modes = {}
         for l, m in self.series.modes:

@@ -86,7 +86,12 @@ def test_precessing_finer_levels_need_no_second_call(monkeypatch):
 
     calls = []
     original = pyseobnr_modes._generator()
-    monkeypatch.setattr(pyseobnr_modes, "_generator", lambda: lambda parameters: calls.append(1) or original(parameters))
+
+    def counted(parameters):
+        calls.append(1)
+        return original(parameters)
+
+    monkeypatch.setattr(pyseobnr_modes, "_generator", lambda: counted)
     series = generate_modes("SEOBNRv5PHM", 36.0, 29.0, 100.0, 1 / 2048, 20.0, (0.4, 0.2, 0.3), (-0.1, 0.3, 0.2), 20.0)
     assert len(calls) == 1 and series.finer and not series.finer[0].aligned_spins
     level = series.finer[-1]
