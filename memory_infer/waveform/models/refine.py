@@ -26,7 +26,8 @@ used, about 0.3 tau earlier). Models that accept a reference frequency below the
 original one (same phase convention); the others (TaylorT4) get the level's start frequency as reference and
 are rotated about the orbital axis onto the coarse level (aligned spins only). For precessing spins a later
 reference frequency would describe another binary, so the fine level is generated from the original start
-and reference frequencies (slower, exact).
+and reference frequencies (slower, exact), unless the model gives its own interpolated levels (``interpolate``:
+SEOBNRv5PHM's co-precessing modes and rotation from the same call, :mod:`.pyseobnr_modes`).
 """
 from __future__ import annotations
 
