@@ -288,7 +288,7 @@ CACHES = {
     "catalog.amplitude_spread.weight_table": "truncated-normal weights on a grid (an array, read only)",
     "waveform.models.pyseobnr_modes._generator": "pyseobnr's GenerateWaveform class (or None)",
     "waveform.models.precessing_twist.default_precession_version": "an int",
-    "waveform.models.precessing_twist.wigner_terms": "Wigner-d terms (a tuple of floats and ints)",
+    "waveform.sphere.wigner_terms": "Wigner-d terms (a tuple of floats and ints)",
     "waveform.models.precessing_twist.twist_terms": "mode keys and term tables (a tuple, arrays, read only)",
 }
 BILBY_BUILDERS = ("bilby", "waveform_generator", "network_detectors", "configured_detectors", "empty_detectors",

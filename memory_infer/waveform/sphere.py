@@ -1,4 +1,4 @@
-"""Spin-weighted spherical harmonics, Wigner 3j symbols and the memory coupling tables.
+"""Spin-weighted spherical harmonics, Wigner 3j symbols and small-d functions, and the memory coupling tables.
 
 Conventions (stated once here, tested in tests/test_sphere.py):
 - ``sY_lm`` follows Goldberg et al., J. Math. Phys. 8, 2155 (1967) with the Condon-Shortley
@@ -167,3 +167,25 @@ def direction_matrix(input_modes: tuple, theta: float, phi: float) -> np.ndarray
     """
     harmonics, table = _direction_tables(tuple(input_modes))
     return np.einsum("k,kij->ij", harmonics(theta, phi), table)  # einsum: independent of BLAS threads
+
+
+@lru_cache(maxsize=64)
+def wigner_terms(l: int, a: int, b: int):
+    """``d^l_{ab}(beta) = sum coefficient cos(beta/2)^p sin(beta/2)^q`` as ((coefficient, p, q), ...)."""
+    terms = []
+    for k in range(2 * l + 1):
+        if l + b - k < 0 or a - b + k < 0 or l - a - k < 0:
+            continue
+        norm = sqrt(factorial(l + a) * factorial(l - a) * factorial(l + b) * factorial(l - b))
+        coefficient = (-1) ** (a - b + k) * norm / (factorial(l + b - k) * factorial(k) * factorial(a - b + k)
+                                                    * factorial(l - a - k))
+        terms.append((coefficient, 2 * l + b - a - 2 * k, a - b + 2 * k))
+    return tuple(terms)
+
+
+def wigner_d(l: int, a: int, b: int, cos_powers, sin_powers) -> np.ndarray:
+    """``d^l_{ab}(beta)`` from the powers ``cos(beta/2)^p``, ``sin(beta/2)^q`` (rows p, q = 0..2l)."""
+    total = 0.0
+    for coefficient, p, q in wigner_terms(l, a, b):
+        total = total + coefficient * cos_powers[p] * sin_powers[q]
+    return total

@@ -47,9 +47,16 @@ def generate_modes(approximant: str, mass_1: float, mass_2: float, luminosity_di
         return lal_modes.choose_td_modes(approximant, mass_1, mass_2, luminosity_distance, step, start,
                                          spin_1, spin_2, reference, mode_list)
 
-    series = generate(delta_t, minimum_frequency, reference_frequency)
+    frame = None
+    if approximant in pyseobnr_modes.PRECESSING and finer_for_memory:  # its finer levels come from the same call
+        series, frame = pyseobnr_modes.seobnr_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t,
+                                                    minimum_frequency, spin_1, spin_2, reference_frequency, mode_list,
+                                                    keep_frame=True)
+    else:
+        series = generate(delta_t, minimum_frequency, reference_frequency)
     if finer_for_memory:
-        series.finer = finer_levels(series, generate, minimum_frequency, reference_frequency)
+        series.finer = finer_levels(series, generate, minimum_frequency, reference_frequency,
+                                    interpolate=frame.level if frame is not None else None)
     return series
 
 

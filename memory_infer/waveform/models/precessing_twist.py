@@ -20,11 +20,11 @@ be set up) return None: the caller then uses ``SimInspiralChooseFDModes``.
 from __future__ import annotations
 
 from functools import lru_cache
-from math import factorial, sqrt
 
 import numpy as np
 
 from ...common.compiled import compiled
+from ..sphere import wigner_d, wigner_terms  # noqa: F401 (wigner_d: this module's twist, and its tests)
 from .lal_modes import _lal
 
 COPRECESSING = ((2, 1), (2, 2), (3, 2), (3, 3), (4, 4))  # (l, m') of the model's co-precessing modes
@@ -38,28 +38,6 @@ def default_precession_version() -> int:
     lal, lalsim = _lal()
     version = int(lalsim.SimInspiralWaveformParamsLookupPhenomXPrecVersion(lal.CreateDict()))
     return 223 if version == 300 else version
-
-
-@lru_cache(maxsize=64)
-def wigner_terms(l: int, a: int, b: int):
-    """``d^l_{ab}(beta) = sum coefficient cos(beta/2)^p sin(beta/2)^q`` as ((coefficient, p, q), ...)."""
-    terms = []
-    for k in range(2 * l + 1):
-        if l + b - k < 0 or a - b + k < 0 or l - a - k < 0:
-            continue
-        norm = sqrt(factorial(l + a) * factorial(l - a) * factorial(l + b) * factorial(l - b))
-        coefficient = (-1) ** (a - b + k) * norm / (factorial(l + b - k) * factorial(k) * factorial(a - b + k)
-                                                    * factorial(l - a - k))
-        terms.append((coefficient, 2 * l + b - a - 2 * k, a - b + 2 * k))
-    return tuple(terms)
-
-
-def wigner_d(l: int, a: int, b: int, cos_powers, sin_powers) -> np.ndarray:
-    """``d^l_{ab}(beta)`` from the powers ``cos(beta/2)^p``, ``sin(beta/2)^q`` (rows p, q = 0..2l)."""
-    total = 0.0
-    for coefficient, p, q in wigner_terms(l, a, b):
-        total = total + coefficient * cos_powers[p] * sin_powers[q]
-    return total
 
 
 @lru_cache(maxsize=1)

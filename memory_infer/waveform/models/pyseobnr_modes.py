@@ -6,15 +6,26 @@ makes as lalsimulation's ``SimInspiralFD`` does (lowered start, ``SimInspiralTDC
 in lalsimulation's convention: with ``phi_ref = 0`` they summed at ``(inclination, pi/2 - phase)`` give its
 polarizations (pinned by tests/waveform/models/test_pyseobnr_modes.py against bilby's own model, 4e-9 relative with
 aligned spins, 3e-10 precessing). Times are seconds from the model's peak.
+
+With precessing spins the memory's finer samplings (:mod:`.refine`) come from the same call: SEOBNRv5PHM builds its
+inertial modes as ``h_lm = sum_m' h'_lm' e^{-i m alpha} d^l_{m m'}(beta) e^{-i m' gamma}`` from its smooth
+co-precessing modes ``h'`` and the rotation from the co-precessing to the inertial frame (quaternion
+``q_I2J q_J2P``, z-y-z Euler angles; Phys. Rev. D 108, 124037 (2023), Sec. II; reproduced here to 3e-12 of its own
+inertial modes). :class:`CoprecessingFrame` interpolates each co-precessing mode (m < 0 too: they carry an
+antisymmetric part) as aligned spins are (:func:`.refine.interpolated_level`) and the quaternion's components
+(cubic spline), then rotates: no second call at a finer step.
 """
 from __future__ import annotations
 
+import dataclasses
 import functools
 import math
 
 import numpy as np
 
 from ...common.errors import WaveformError
+from ..sphere import wigner_d
+from .refine import interpolated_level
 from .series import ModeSeries
 
 MODELS = ("SEOBNRv5PHM", "SEOBNRv5HM")
@@ -45,9 +56,10 @@ def require(approximant: str) -> None:
 
 
 def seobnr_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t, minimum_frequency, spin_1, spin_2,
-                 reference_frequency, mode_list=None) -> ModeSeries:
+                 reference_frequency, mode_list=None, keep_frame: bool = False):
     """Modes at phi_ref = 0 in lalsimulation's convention, starting at ``minimum_frequency`` (Hz) on the step
-    ``delta_t`` (s), spins at ``reference_frequency``."""
+    ``delta_t`` (s), spins at ``reference_frequency``. With ``keep_frame``: ``(modes, frame)``, ``frame`` the
+    :class:`CoprecessingFrame` of a precessing binary (None with aligned spins)."""
     require(approximant)
     spin_1, spin_2 = np.asarray(spin_1, float), np.asarray(spin_2, float)
     if not (mass_1 > 0 and mass_2 > 0 and luminosity_distance > 0):
@@ -67,7 +79,8 @@ def seobnr_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t, mini
     if mode_list:
         parameters["ModeArray"] = [tuple(int(x) for x in mode) for mode in mode_list if int(mode[1]) > 0]
     try:
-        times, modes = _generator()(parameters).generate_td_modes()
+        generator = _generator()(parameters)
+        times, modes = generator.generate_td_modes()
     except Exception as error:  # pyseobnr raises plain Python errors (ValueError, RuntimeError, ...)
         detail = (str(error).strip().splitlines() or [type(error).__name__])[0].rstrip(".")
         raise WaveformError(f"waveform model '{approximant}' could not generate masses {mass_1:g} and {mass_2:g} "
@@ -77,6 +90,67 @@ def seobnr_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t, mini
         wanted = {tuple(int(x) for x in mode) for mode in mode_list}
         modes = {key: value for key, value in modes.items() if key in wanted}
     total = mass_1 + mass_2
-    return ModeSeries(times=np.asarray(times, dtype=float), modes=modes, total_mass=total,
-                      luminosity_distance=luminosity_distance, symmetric_mass_ratio=mass_1 * mass_2 / total ** 2,
-                      approximant=approximant, aligned_spins=aligned)
+    series = ModeSeries(times=np.asarray(times, dtype=float), modes=modes, total_mass=total,
+                        luminosity_distance=luminosity_distance, symmetric_mass_ratio=mass_1 * mass_2 / total ** 2,
+                        approximant=approximant, aligned_spins=aligned)
+    if not keep_frame:
+        return series
+    return series, (None if aligned else CoprecessingFrame.of(series, generator))
+
+
+class CoprecessingFrame:
+    """A precessing SEOBNRv5PHM call's co-precessing modes and rotation, which make its finer samplings."""
+
+    def __init__(self, series: ModeSeries, coprecessing: ModeSeries, rotation: np.ndarray, flip_odd: bool):
+        self.series, self.coprecessing, self.rotation, self.flip_odd = series, coprecessing, rotation, flip_odd
+
+    @classmethod
+    def of(cls, series: ModeSeries, generator) -> "CoprecessingFrame | None":
+        """From pyseobnr's model object after ``generate_td_modes`` (None when its internals are not as expected)."""
+        import quaternion  # pyseobnr's own dependency
+
+        model = getattr(generator, "_model", None)
+        if model is None or not hasattr(model, "imr_full") or not hasattr(model, "quatP2J"):
+            return None
+        if model.quatP2J.size != series.times.size or (2, 2) not in model.imr_full:
+            return None
+        # pyseobnr's conversion to SI strain: -M / r (lalsimulation's sign)
+        modes = {key: -series.strain_scale * np.asarray(value, dtype=complex) for key, value in model.imr_full.items()}
+        coprecessing = dataclasses.replace(series, modes=modes, aligned_spins=True, finer=[])
+        rotation = quaternion.as_float_array(model.quatI2J * model.quatP2J)
+        signs = np.sign(np.einsum("ij,ij->i", rotation[1:], rotation[:-1]))  # one hemisphere: smooth components
+        rotation[1:] *= np.cumprod(np.where(signs == 0, 1.0, signs))[:, None]
+        return cls(series, coprecessing, rotation, bool(generator.swap_masses))
+
+    def inertial(self, coprecessing: dict, rotation: np.ndarray) -> dict:
+        """``h_lm = sum_m' h'_lm' e^{-i m alpha} d^l_{m m'}(beta) e^{-i m' gamma}`` for the series' keys, the
+        z-y-z Euler angles of the unit quaternions ``rotation`` (rows w, x, y, z)."""
+        w, x, y, z = (rotation / np.linalg.norm(rotation, axis=1)[:, None]).T
+        first, second = np.arctan2(z, w), np.arctan2(-x, y)
+        alpha, gamma = first + second, first - second
+        half_cos, half_sin = np.sqrt(w * w + z * z), np.sqrt(x * x + y * y)  # cos(beta/2), sin(beta/2)
+        lmax = max(l for l, _ in self.series.modes)
+        powers = np.arange(2 * lmax + 1)[:, None]
+        cos_powers, sin_powers = half_cos ** powers, half_sin ** powers
+        turns = {mp: np.exp(-1j * mp * gamma) for mp in range(-lmax, lmax + 1)}
+        modes = {}
+        for l, m in self.series.modes:
+            total = np.zeros(alpha.size, dtype=complex)
+            for mp in range(-l, l + 1):
+                if (l, mp) in coprecessing:
+                    total += coprecessing[(l, mp)] * wigner_d(l, m, mp, cos_powers, sin_powers) * turns[mp]
+            total *= np.exp(-1j * m * alpha)
+            modes[(l, m)] = -total if (self.flip_odd and m % 2) else total
+        return modes
+
+    def level(self, join_time: float, factor: int) -> ModeSeries:
+        """The late part at a ``factor`` times finer step from a few samples before ``join_time`` (s): the
+        co-precessing modes interpolated (:func:`.refine.interpolated_level`), the rotation's components by a cubic
+        spline through the data's samples, then rotated to the inertial frame."""
+        from scipy.interpolate import CubicSpline
+
+        fine = interpolated_level(self.coprecessing, join_time, factor, mirrored=False)
+        times = self.series.times
+        first = max(int(np.searchsorted(times, fine.times[0])) - 8, 0)
+        rotation = CubicSpline(times[first:], self.rotation[first:], axis=0)(fine.times)
+        return dataclasses.replace(fine, modes=self.inertial(fine.modes, rotation), aligned_spins=False)

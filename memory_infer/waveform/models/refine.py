@@ -26,11 +26,13 @@ used, about 0.3 tau earlier). Models that accept a reference frequency below the
 original one (same phase convention); the others (TaylorT4) get the level's start frequency as reference and
 are rotated about the orbital axis onto the coarse level (aligned spins only). For precessing spins a later
 reference frequency would describe another binary, so the fine level is generated from the original start
-and reference frequencies (slower, exact).
+and reference frequencies (slower, exact), unless the model gives its own interpolated levels (``interpolate``:
+SEOBNRv5PHM's co-precessing modes and rotation from the same call, :mod:`.pyseobnr_modes`).
 """
 from __future__ import annotations
 
 import dataclasses
+import functools
 import logging
 from functools import lru_cache
 
@@ -123,13 +125,15 @@ def _lagrange_weights(factor: int, points: int = 6, end: bool = False) -> np.nda
     return weights
 
 
-def interpolated_level(series: ModeSeries, join_time: float, factor: int) -> ModeSeries:
+def interpolated_level(series: ModeSeries, join_time: float, factor: int, mirrored: bool = True) -> ModeSeries:
     """The late part of an aligned-spin series at a ``factor`` times finer step, by interpolating each
     mode's amplitude and continued phase (sixth-order Lagrange through the data's samples; no new model
     call), from a few samples before ``join_time`` until every mode is below ``QUIET_AMPLITUDE`` of the
-    (2, 2) peak, or to the last sample when the modes end loud (end-biased stencils on the last two intervals)."""
+    (2, 2) peak, or to the last sample when the modes end loud (end-biased stencils on the last two intervals).
+    ``mirrored=False``: the m < 0 modes are interpolated too, not mirrored (co-precessing modes with an antisymmetric
+    part)."""
     times, delta_t = series.times, series.delta_t
-    keys, orders, signs, placement = _interpolation_layout(tuple(series.modes))
+    keys, orders, signs, placement = _interpolation_layout(tuple(series.modes), mirrored)
     first = max(min(int(np.searchsorted(times, join_time)) - 8, times.size - 16), 0)  # at least 16 samples
     # each mode's amplitude and continued phase, interpolated (sixth-order Lagrange), back to complex values
     values = interpolated_rows(tuple(np.ascontiguousarray(series.modes[k], dtype=complex) for k in keys), first,
@@ -146,10 +150,11 @@ def interpolated_level(series: ModeSeries, join_time: float, factor: int) -> Mod
 
 
 @lru_cache(maxsize=32)
-def _interpolation_layout(series_keys: tuple):
-    """(interpolated keys: the (2, 2) mode first, then the other m >= 0 modes; their orders m; the signs (-1)^l as
-    a column; for each of ``series_keys``, its row and whether it is the row's mirror h_{l,-m})."""
-    keys = ((2, 2),) + tuple(sorted(k for k in series_keys if k[1] >= 0 and k != (2, 2)))
+def _interpolation_layout(series_keys: tuple, mirrored: bool = True):
+    """(interpolated keys: the (2, 2) mode first, then the other m >= 0 modes (every other mode unless
+    ``mirrored``); their orders m; the signs (-1)^l as a column; for each of ``series_keys``, its row and whether it
+    is the row's mirror h_{l,-m})."""
+    keys = ((2, 2),) + tuple(sorted(k for k in series_keys if (k[1] >= 0 or not mirrored) and k != (2, 2)))
     orders = np.array([float(m) for _, m in keys])
     signs = np.array([(-1.0) ** l for l, _ in keys])[:, None]
     placement = tuple((keys.index(k), False) if k in keys else (keys.index((k[0], -k[1])), True)
@@ -203,7 +208,7 @@ def _interpolable(series: ModeSeries) -> bool:
 
 
 def finer_levels(series: ModeSeries, generate, minimum_frequency: float, reference_frequency: float,
-                 cut_from_spectra: bool = False) -> list:
+                 cut_from_spectra: bool = False, interpolate=None) -> list:
     """The finer samplings ``series`` needs for its memory, coarse to fine (empty when it needs none).
 
     ``generate(delta_t, minimum_frequency, reference_frequency)`` returns the same binary's modes.
@@ -211,16 +216,23 @@ def finer_levels(series: ModeSeries, generate, minimum_frequency: float, referen
     ``cut_from_spectra``: ``generate`` cuts the levels from the same mode spectra (frequency-domain models), so a
     level from a later start is the same binary for any spins and exact at every step: every level is generated
     that way, none interpolated from ``series`` (whose band ends at the data's Nyquist frequency).
+    ``interpolate(join_time, factor)``: a precessing model's own interpolated level (SEOBNRv5PHM's co-precessing
+    modes and rotation, :class:`.pyseobnr_modes.CoprecessingFrame`), used as the aligned-spin interpolation is, on
+    data grids of at most ``INTERPOLATION_STEP`` M.
     """
     levels, current = [], series
-    if not cut_from_spectra and _interpolable(series):
+    if interpolate is None and _interpolable(series):
+        interpolate = functools.partial(interpolated_level, series)
+    elif interpolate is not None and series.delta_t > INTERPOLATION_STEP * series.mass_seconds:
+        interpolate = None
+    if not cut_from_spectra and interpolate is not None:
         factor = 1
         for _ in range(MAX_LEVELS):
             failure = first_unresolved(current)
             if failure is None:
                 return levels
             factor *= LEVEL_FACTOR
-            current = interpolated_level(series, failure[0], factor)
+            current = interpolate(failure[0], factor)
             levels.append(current)
         raise WaveformError(f"the merger of this binary is not resolved after {MAX_LEVELS} finer samplings; "
                             "its memory cannot be computed reliably")

@@ -65,3 +65,35 @@ def test_a_missing_pyseobnr_is_one_sentence(monkeypatch):
 def test_in_plane_spins_for_the_aligned_model_are_one_sentence():
     with pytest.raises(WaveformError, match="takes aligned spins only"):
         pyseobnr_modes.seobnr_modes("SEOBNRv5HM", 36.0, 29.0, 1.0, 1 / 2048, 20.0, (0.3, 0, 0), (0, 0, 0), 20.0)
+
+
+@needs_pyseobnr
+def test_rotation_of_the_coprecessing_modes_is_pyseobnrs_own():
+    # reference library: pyseobnr's own inertial modes (its rotation of the same co-precessing modes by scri);
+    # measured 2e-15 of the (2, 2) peak
+    series, frame = pyseobnr_modes.seobnr_modes("SEOBNRv5PHM", 36.0, 29.0, 100.0, 1 / 2048, 20.0, (0.4, 0.2, 0.3),
+                                                (-0.1, 0.3, 0.2), 20.0, keep_frame=True)
+    twisted = frame.inertial(frame.coprecessing.modes, frame.rotation)
+    peak = np.max(np.abs(series.modes[(2, 2)]))
+    assert set(twisted) == set(series.modes)
+    for key, mode in series.modes.items():
+        assert np.max(np.abs(twisted[key] - mode)) < 1e-11 * peak, key
+
+
+@needs_pyseobnr
+def test_precessing_finer_levels_need_no_second_call(monkeypatch):
+    from memory_infer.waveform.models import generate_modes
+
+    calls = []
+    original = pyseobnr_modes._generator()
+
+    def counted(parameters):
+        calls.append(1)
+        return original(parameters)
+
+    monkeypatch.setattr(pyseobnr_modes, "_generator", lambda: counted)
+    series = generate_modes("SEOBNRv5PHM", 36.0, 29.0, 100.0, 1 / 2048, 20.0, (0.4, 0.2, 0.3), (-0.1, 0.3, 0.2), 20.0)
+    assert len(calls) == 1 and series.finer and not series.finer[0].aligned_spins
+    level = series.finer[-1]
+    assert level.delta_t < 0.4 * series.mass_seconds and level.times[-1] <= series.times[-1]
+    assert set(level.modes) == set(series.modes)

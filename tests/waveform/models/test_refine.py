@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 
 from memory_infer.waveform.memory import memory_at_direction
-from memory_infer.waveform.models import generate_modes
+from memory_infer.waveform.models import generate_modes, pyseobnr_modes
 from memory_infer.waveform.models.analytic import NAME as LEADING_ORDER, leading_order_inspiral
 from memory_infer.waveform.models.refine import PHASE_STEP_LIMIT, dominant_phase_step
 from memory_infer.waveform.source import TimeSignal, circular_layout, observer_angles, to_frequency_domain
@@ -40,12 +40,14 @@ CASES = {
     "18-aligned-spins": ("IMRPhenomTHM", binary(18.0, (0, 0, 0.7), (0, 0, 0.4))),
     "18-precessing": ("IMRPhenomTPHM", binary(18.0, (0.4, 0.2, 0.3), (-0.1, 0.3, 0.2))),
     "65-SEOBNRv4PHM": ("SEOBNRv4PHM", binary(65.0)),
+    "65-SEOBNRv5PHM-precessing": ("SEOBNRv5PHM", binary(65.0, (0.4, 0.2, 0.3), (-0.1, 0.3, 0.2))),
     "TaylorT4-8+6": ("TaylorT4", (8.0, 6.0, (0, 0, 0), (0, 0, 0))),
     "TaylorT4-20+15": ("TaylorT4", (20.0, 15.0, (0, 0, 0), (0, 0, 0))),
     "TaylorT4-30+10": ("TaylorT4", (30.0, 10.0, (0, 0, 0), (0, 0, 0))),
     "leading-order-8+6": (LEADING_ORDER, (8.0, 6.0, (0, 0, 0), (0, 0, 0))),
 }
-RATES = {"65-SEOBNRv4PHM": (2048.0, 4096.0)}  # SEOBNRv4PHM refuses a ringdown above the Nyquist frequency
+RATES = {"65-SEOBNRv4PHM": (2048.0, 4096.0),  # SEOBNRv4PHM refuses a ringdown above the Nyquist frequency
+         "65-SEOBNRv5PHM-precessing": (2048.0, 4096.0)}  # and SEOBNRv5PHM a (4, 4) ringdown above it
 ENDS_BEFORE_MERGER = ("TaylorT4", LEADING_ORDER)
 
 
@@ -131,6 +133,8 @@ def network_snr(times, memory, rate, distance=100.0, network="hlv-design"):
 @pytest.mark.parametrize("case", list(CASES))
 def test_memory_converged_at_every_data_rate(case):
     approximant, (m1, m2, s1, s2) = CASES[case]
+    if approximant in pyseobnr_modes.MODELS and not pyseobnr_modes.available():
+        pytest.skip("pyseobnr (the optional seobnr extra) is not installed")
     for rate in rates(case):
         series = generate_modes(approximant, m1, m2, 100.0, 1 / rate, 20.0, s1, s2, 20.0)
         ours = direction_memory(series)
