@@ -106,7 +106,7 @@ def _likelihood(detectors, model, arguments, duration=DURATION):
     import bilby
 
     from memory_infer.waveform.generator import waveform_generator
-    from memory_infer.waveform.source import memory_binary_black_hole
+    from memory_infer.waveform.source_model import memory_binary_black_hole
 
     if model is memory_binary_black_hole:  # our generator, with its own caches, as the likelihood uses it
         generator = waveform_generator(duration, RATE, START, arguments)
@@ -118,7 +118,7 @@ def _likelihood(detectors, model, arguments, duration=DURATION):
 
 def memory_likelihood_cost(masses):
     """Memory likelihood over the same likelihood without memory (HL, 8 s, 2048 Hz)."""
-    from memory_infer.waveform.source import memory_binary_black_hole
+    from memory_infer.waveform.source_model import memory_binary_black_hole
 
     detectors = _detectors(MEMORY_DURATION)
     base = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)
@@ -137,7 +137,7 @@ def bilby_comparison():
     """Memory likelihood over bilby's standard frequency-domain likelihood with IMRPhenomXHM (4 s, HL)."""
     import bilby
 
-    from memory_infer.waveform.source import memory_binary_black_hole
+    from memory_infer.waveform.source_model import memory_binary_black_hole
 
     detectors = _detectors()
     base = dict(waveform_approximant="IMRPhenomTHM", minimum_frequency=20.0, reference_frequency=20.0)

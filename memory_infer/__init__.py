@@ -11,7 +11,7 @@ __version__ = "0.1.0"
 _PUBLIC = {
     # waveform
     "generate_modes": "waveform.models", "memory_modes": "waveform.memory", "memory_at_direction": "waveform.memory",
-    "memory_binary_black_hole": "waveform.source", "MemoryWaveformGenerator": "waveform.generator",
+    "memory_binary_black_hole": "waveform.source_model", "MemoryWaveformGenerator": "waveform.generator",
     "waveform_generator": "waveform.generator",
     # inputs
     "load_evidence_config": "inputs.config", "load_evidence_settings": "inputs.config",

@@ -282,7 +282,7 @@ CACHES = {
     "waveform.flux.pair_tables": "stacking keys and coupling tables on the form's pairs (arrays, read only)",
     "waveform.source._half_hann": "a taper's window (an array, read only)",
     "waveform.models.lal_modes.approximant_number": "an int",
-    "waveform.models.lal_modes._lal": "the lal and lalsimulation modules",
+    "waveform.models.lal_call.lal_modules": "the lal and lalsimulation modules",
     "waveform.flux._mirror_layout": "mode keys and signs (tuples, an array, read only)",
     "waveform.models.refine._interpolation_layout": "mode keys, orders, signs and row placement (read only)",
     "catalog.amplitude_spread.weight_table": "truncated-normal weights on a grid (an array, read only)",

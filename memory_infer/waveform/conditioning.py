@@ -31,16 +31,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..common.errors import WaveformError
+from .models.lal_call import lal_modules, quiet
 
 LOWERED_START, START_TAPER, LIBRARY = "lowered start", "start taper", "library"
 ROUTES = {"IMRPhenomTHM": LOWERED_START, "IMRPhenomTPHM": LOWERED_START, "SEOBNRv4PHM": START_TAPER,
           "SEOBNRv5PHM": LOWERED_START, "SEOBNRv5HM": LOWERED_START}
 GWSIGNAL_MODELS = ("SEOBNRv5PHM", "SEOBNRv5HM")  # bilby's gwsignal_binary_black_hole (pyseobnr) is their model
 EXTRA_TIME_FRACTION, EXTRA_CYCLES = 0.1, 3.0  # lalsimulation's SimInspiralTD
-# the waveform arguments bilby's lal_binary_black_hole takes
-BILBY_KEYS = ("waveform_approximant", "reference_frequency", "minimum_frequency", "maximum_frequency",
-              "catch_waveform_errors", "pn_spin_order", "pn_tidal_order", "pn_phase_order", "pn_amplitude_order",
-              "mode_array", "lal_waveform_dictionary")
 
 
 @dataclass(frozen=True)
@@ -65,9 +62,7 @@ def route(approximant: str) -> str:
 def conditioning(approximant: str, mass_1: float, mass_2: float, spin_1z: float, spin_2z: float,
                  minimum_frequency: float, maximum_frequency: float, frequency_array) -> Conditioning:
     """The conditioning ``SimInspiralFD`` applies to this binary (masses in solar masses)."""
-    from .models.lal_modes import _lal
-
-    lal, lalsim = _lal()
+    lal, lalsim = lal_modules()
     delta_f = float(frequency_array[1] - frequency_array[0])
     count = int(round(maximum_frequency / delta_f))
     nyquist = maximum_frequency if count & (count - 1) == 0 else 2 ** math.ceil(math.log2(count)) * delta_f
@@ -92,15 +87,13 @@ def conditioned_series(start_time: float, strain: np.ndarray, plan: Conditioning
     """(plus, cross, start time) of the complex ``h+ - i hx`` (at ``plan.delta_t`` from ``start_time``) after
     ``SimInspiralTD``'s conditioning and ``SimInspiralFD``'s cut to ``plan.n_samples``; lalsimulation's own
     functions do the conditioning and keep its epoch arithmetic (nanoseconds)."""
-    from .models.lal_modes import _lal, _quiet
-
-    lal, lalsim = _lal()
+    lal, lalsim = lal_modules()
     epoch = lal.LIGOTimeGPS(start_time)
     plus = lal.CreateREAL8TimeSeries("plus", epoch, 0.0, plan.delta_t, lal.DimensionlessUnit, strain.size)
     cross = lal.CreateREAL8TimeSeries("cross", epoch, 0.0, plan.delta_t, lal.DimensionlessUnit, strain.size)
     plus.data.data, cross.data.data = strain.real, -strain.imag
     try:
-        with _quiet(None):
+        with quiet():
             if plan.route == LOWERED_START:
                 lalsim.SimInspiralTDConditionStage1(plus, cross, plan.taper_duration, plan.minimum_frequency)
                 lalsim.SimInspiralTDConditionStage2(plus, cross, plan.stage_two_minimum, plan.stage_two_maximum)
@@ -119,29 +112,26 @@ def frequency_bounds(frequency_array, plan: Conditioning) -> np.ndarray:
     return (frequency_array >= plan.minimum_frequency) & (frequency_array <= plan.maximum_frequency)
 
 
-def library_polarizations(frequency_array, values: dict, settings: dict) -> dict:
-    """bilby's own ``lal_binary_black_hole`` polarizations for the approximant in ``settings``."""
+def library_polarizations(frequency_array, binary, options) -> dict:
+    """bilby's own ``lal_binary_black_hole`` polarizations of a :class:`.options.Binary` for
+    :class:`.options.SourceOptions` (bilby's own waveform arguments included)."""
     import bilby
 
-    kwargs = {k: settings[k] for k in BILBY_KEYS if k in settings and settings[k] is not None}
-    if settings.get("mode_list") and "mode_array" not in kwargs:
-        kwargs["mode_array"] = [list(mode) for mode in settings["mode_list"]]
-    kwargs["catch_waveform_errors"] = True
-    names = ("mass_1", "mass_2", "luminosity_distance", "a_1", "tilt_1", "phi_12", "a_2", "tilt_2", "phi_jl",
-             "theta_jn", "phase")
-    model = (bilby.gw.source.gwsignal_binary_black_hole if settings["waveform_approximant"] in GWSIGNAL_MODELS
+    kwargs = dict(options.bilby_arguments(), catch_waveform_errors=True)
+    model = (bilby.gw.source.gwsignal_binary_black_hole if options.approximant in GWSIGNAL_MODELS
              else bilby.gw.source.lal_binary_black_hole)
     if model is not bilby.gw.source.lal_binary_black_hole:
         kwargs = {k: v for k, v in kwargs.items() if k in ("waveform_approximant", "reference_frequency",
                                                             "minimum_frequency", "maximum_frequency",
                                                             "catch_waveform_errors", "mode_array")}
+    names = ("mass_1", "mass_2", "luminosity_distance", "a_1", "tilt_1", "phi_12", "a_2", "tilt_2", "phi_jl",
+             "theta_jn", "phase")
+    failure = (f"waveform model '{options.approximant}' could not generate masses {binary.mass_1:g} and "
+               f"{binary.mass_2:g} solar masses with these settings")
     try:
-        polarizations = model(frequency_array, **{k: values[k] for k in names}, **kwargs)
+        polarizations = model(frequency_array, **{k: getattr(binary, k) for k in names}, **kwargs)
     except RuntimeError as error:  # bilby passes on lalsimulation's errors other than a domain error
-        raise WaveformError(f"waveform model '{settings['waveform_approximant']}' could not generate masses "
-                            f"{values['mass_1']:g} and {values['mass_2']:g} solar masses with these settings "
-                            f"({error})") from None
+        raise WaveformError(f"{failure} ({error})") from None
     if polarizations is None:
-        raise WaveformError(f"waveform model '{settings['waveform_approximant']}' could not generate masses "
-                            f"{values['mass_1']:g} and {values['mass_2']:g} solar masses with these settings")
+        raise WaveformError(failure)
     return polarizations

@@ -13,16 +13,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..common.errors import WaveformError
 from .conditioning import library_polarizations
 from .memory import memory_at_direction
-from .models.fd_modes import (MEMORY_LEAD, PRECESSING, ModeSpectra, band_step, is_frequency_domain, late_modes,
-                              mode_spectra, time_modes)
+from .models.fd_modes import MEMORY_LEAD, ModeSpectra, band_step, late_modes, mode_spectra, time_modes
 from .models.refine import finer_levels
+from .models.registry import takes_precessing_spins
 from .models.series import ModeSeries
-from .source import (_INTRINSIC, _SETTINGS, TimeSignal, circular_layout, lalsimulation_spins, observer_angles,
-                     segment_geometry, to_frequency_domain)
-from .source import signal_parts as time_domain_parts
+from .options import Binary, ModesRequest, SourceOptions
+from .source import (TimeSignal, circular_layout, lalsimulation_spins, observer_angles, segment_geometry,
+                     to_frequency_domain)
 
 @dataclass
 class FrequencyModes:
@@ -62,7 +61,7 @@ def frequency_modes(approximant, mass_1, mass_2, delta_t, minimum_frequency, spi
 def observer(modes: FrequencyModes, inclination: float, phase: float):
     """(theta, phi, rotation): the observer in the modes' frame and the turn onto lalsimulation's polarizations."""
     spectra = modes.spectra
-    if spectra.approximant in PRECESSING:  # J-frame modes, generated at this phase and inclination
+    if takes_precessing_spins(spectra.approximant):  # J-frame modes, generated at this phase and inclination
         return spectra.theta, spectra.phi, spectra.rotation
     theta, phi = observer_angles(inclination, phase)  # modes at phi_ref = 0, as for the time-domain models
     return theta, phi, 1.0
@@ -79,46 +78,31 @@ def memory_strain(modes: FrequencyModes, inclination: float, phase: float, early
     return memory * rotation
 
 
-def frequency_parts(frequency_array, parameters: dict, settings: dict, values: dict, cache) -> dict:
-    """Oscillatory (bilby's own polarizations) and memory parts of a frequency-domain mode model."""
+def frequency_parts(frequency_array, binary: Binary, options: SourceOptions, cache) -> dict:
+    """Oscillatory (bilby's own polarizations) and memory parts of a frequency-domain mode model, SI at the
+    distance; the modes come from ``cache``."""
     n_buffer, delta_t = segment_geometry(frequency_array)
-    oscillatory = library_polarizations(frequency_array, values, settings)
-    if not settings["include_memory"]:
+    oscillatory = library_polarizations(frequency_array, binary, options)
+    if not options.include_memory:
         return {"plus": oscillatory["plus"], "cross": oscillatory["cross"],
                 "memory_plus": np.zeros_like(oscillatory["plus"]), "memory_cross": np.zeros_like(oscillatory["cross"])}
-    reference = float(settings["reference_frequency"])
-    inclination, spin_1, spin_2 = lalsimulation_spins(values, reference)
-    approximant = settings["waveform_approximant"]
-    mode_list = tuple(tuple(int(x) for x in m) for m in settings["mode_list"]) if settings["mode_list"] else None
-    observer_key = (float(inclination), values["phase"]) if approximant in PRECESSING else ()
-    arguments = (approximant, values["mass_1"], values["mass_2"], delta_t, float(settings["minimum_frequency"]),
-                 tuple(float(x) for x in spin_1), tuple(float(x) for x in spin_2), reference, *observer_key)
+    inclination, spin_1, spin_2 = lalsimulation_spins(binary, options.reference_frequency)
+    request = ModesRequest(options.approximant, binary.mass_1, binary.mass_2, delta_t, options.minimum_frequency,
+                           tuple(float(x) for x in spin_1), tuple(float(x) for x in spin_2),
+                           options.reference_frequency, options.mode_list,
+                           observer=(float(inclination), binary.phase) if takes_precessing_spins(options.approximant)
+                           else ())
 
     def make():
-        angles = observer_key or (0.0, 0.0)
-        return frequency_modes(*arguments[:8], *angles, 0.0, mode_list)
+        inclination, phase = request.observer or (0.0, 0.0)
+        return frequency_modes(request.approximant, request.mass_1, request.mass_2, request.delta_t,
+                               request.minimum_frequency, request.spin_1, request.spin_2, request.reference_frequency,
+                               inclination, phase, 0.0, request.mode_list)
 
-    modes = make() if cache is None else cache._recall(cache.modes, arguments + (mode_list,), make, cache.modes_size)
-    memory = memory_strain(modes, inclination, values["phase"], bool(settings["early_inspiral_memory"]))
+    modes = make() if cache is None else cache.recall_modes(request, make)
+    memory = memory_strain(modes, inclination, binary.phase, options.early_inspiral)
     signal = TimeSignal(modes.series.times, np.zeros(memory.size, complex), memory, float(abs(memory[0])))
-    _, buffer, shift = circular_layout(signal, n_buffer, delta_t, float(settings["memory_taper_duration"]), 0.0)
-    parts = to_frequency_domain(buffer / values["luminosity_distance"], delta_t, shift, frequency_array)
+    _, buffer, shift = circular_layout(signal, n_buffer, delta_t, options.taper_duration, 0.0)
+    parts = to_frequency_domain(buffer / binary.luminosity_distance, delta_t, shift, frequency_array)
     return {"plus": oscillatory["plus"], "cross": oscillatory["cross"], "memory_plus": parts["plus"],
             "memory_cross": parts["cross"]}
-
-
-def signal_parts(frequency_array, cache=None, **parameters) -> dict:
-    """:func:`.source.signal_parts` for every model: frequency-domain mode models here, the others there."""
-    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
-    if not is_frequency_domain(settings["waveform_approximant"]):
-        return time_domain_parts(frequency_array, cache=cache, **parameters)
-    if not float(parameters.get("luminosity_distance", 0.0)) > 0:
-        raise WaveformError("the luminosity distance must be positive")
-    values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
-    if cache is None:
-        return frequency_parts(frequency_array, parameters, dict(parameters, **settings), values, None)
-    key = (tuple(values.values()), tuple((k, str(v)) for k, v in settings.items()), frequency_array.size,
-           float(frequency_array[-1]))
-    return cache._recall(cache.parts, key, lambda: frequency_parts(frequency_array, parameters,
-                                                                    dict(parameters, **settings), values, cache),
-                         cache.parts_size)

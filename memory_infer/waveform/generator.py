@@ -12,9 +12,8 @@ import logging
 import bilby
 
 from ..common.errors import WaveformError
-from .frequency_source import signal_parts
-from .models.fd_modes import is_frequency_domain
-from .source import DEFAULT_APPROXIMANT, SourceCache, combined, memory_binary_black_hole, signal_strain
+from .source import SourceCache, combined
+from .source_model import memory_binary_black_hole, signal_parts
 
 logger = logging.getLogger("memory_infer")
 
@@ -61,20 +60,10 @@ class MemoryWaveformGenerator(bilby.gw.WaveformGenerator):
     def _strain_from_model(self, model_data_points, model, parameters):
         if model is not memory_binary_black_hole:
             return super()._strain_from_model(model_data_points, model, parameters)
-        amplitude = float(parameters.get("memory_amplitude", 1.0))
-        if is_frequency_domain(parameters.get("waveform_approximant", DEFAULT_APPROXIMANT)):
-            oscillatory, memory = self._parts(parameters)  # the model's own polarizations plus A x memory
-            if oscillatory is None:
-                return None
-            return combined(oscillatory, memory, amplitude)
-        try:  # bilby has converted the parameters already; one transform of oscillatory + A x memory
-            return signal_strain(self.frequency_array, amplitude, cache=self.source_cache, **parameters)
-        except WaveformError as error:
-            if not parameters.get("catch_waveform_errors", False):
-                raise
-            self.failures += 1
-            logger.debug("waveform failed, likelihood set to zero: %s", error)
+        oscillatory, memory = self._parts(parameters)  # bilby has converted the parameters already
+        if oscillatory is None:
             return None
+        return combined(oscillatory, memory, float(parameters.get("memory_amplitude", 1.0)))
 
 
 def waveform_generator(duration, sampling_frequency, start_time, waveform_arguments) -> MemoryWaveformGenerator:
@@ -84,7 +73,7 @@ def waveform_generator(duration, sampling_frequency, start_time, waveform_argume
 
 def segment_note(generator: MemoryWaveformGenerator, band_start: float, parameters: dict) -> str | None:
     """One sentence when the generator's segment is too short for the binary's in-band inspiral, else None."""
-    from .source import segment_note as note
+    from .source_model import segment_note as note
 
     formatted = generator._format_parameters(dict(parameters, memory_amplitude=0.0))
     return note(generator.frequency_array, band_start, cache=generator.source_cache, **formatted)

@@ -11,7 +11,7 @@ the permanent step has no wrap-around jump and its taper's spectrum lies below t
 from __future__ import annotations
 
 import dataclasses
-import logging
+import functools
 from collections import OrderedDict
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -24,14 +24,11 @@ from .compiled import phase_ramp, split_spectrum, weighted_sum
 from .memory import memory_at_direction
 from .conditioning import (LIBRARY, Conditioning, conditioned_series, conditioning, frequency_bounds,
                            library_polarizations)
-from .models import DEFAULT_APPROXIMANT, DEFAULT_MINIMUM_FREQUENCY, DEFAULT_REFERENCE_FREQUENCY, ModeSeries, generate_modes
+from .models import ModeSeries, generate_modes
 from .models import analytic
-from .models.fd_modes import is_frequency_domain
+from .options import Binary, ModesRequest, SourceOptions
 from .sphere import HarmonicSet
 
-logger = logging.getLogger("memory_infer")
-
-DEFAULT_TAPER_DURATION = 1.0  # s, memory taper after the ringdown
 MINIMUM_TAPER_DURATION = 0.1  # s, below this the taper leaks into the band
 
 
@@ -175,20 +172,6 @@ def truncated_start_frequency(series: ModeSeries, n_buffer: int, taper_duration:
     return float(abs(np.angle(h[1] * np.conj(h[0]))) / (2 * np.pi * delta_t))
 
 
-def segment_note(frequency_array, band_start: float, cache: SourceCache | None = None, **parameters) -> str | None:
-    """One sentence when the segment is too short to hold the model's in-band inspiral, else None."""
-    n_buffer, _ = segment_geometry(frequency_array)
-    if is_frequency_domain(parameters.get("waveform_approximant", DEFAULT_APPROXIMANT)):
-        return None  # the model's own frequency-domain signal; the memory keeps what a dropped start accumulated
-    settings, _, _, series, _ = _source(frequency_array, parameters, cache)
-    start = truncated_start_frequency(series, n_buffer, float(settings["memory_taper_duration"]))
-    if start is None or start <= band_start:
-        return None
-    return (f"the {n_buffer * series.delta_t:g} s segment is too short for this binary: the model's inspiral below "
-            f"{start:.1f} Hz is dropped although the analysis starts at {band_start:g} Hz (the memory keeps "
-            "what that part accumulated); use a longer segment")
-
-
 def to_frequency_domain(buffer: np.ndarray, delta_t: float, shift: float, frequency_array, phase=None) -> dict:
     """One-sided transform ``h(f) = dt * FFT`` of a complex ``h+ - i hx`` buffer, as plus and cross.
 
@@ -222,35 +205,26 @@ def segment_geometry(frequency_array):
     return n_buffer, delta_t
 
 
-def lalsimulation_spins(parameters: dict, reference_frequency: float):
+def lalsimulation_spins(binary: Binary, reference_frequency: float):
     """(inclination, spin_1, spin_2) in lalsimulation's frame from bilby's spin angles."""
     from bilby.gw.conversion import bilby_to_lalsimulation_spins
 
-    a_1, a_2 = parameters.get("a_1", 0.0), parameters.get("a_2", 0.0)
-    tilt_1, tilt_2 = parameters.get("tilt_1", 0.0), parameters.get("tilt_2", 0.0)
+    a_1, a_2, tilt_1, tilt_2 = binary.a_1, binary.a_2, binary.tilt_1, binary.tilt_2
     if max(abs(np.sin(tilt_1)), abs(np.sin(tilt_2))) <= 1e-8 or (a_1 == 0 and a_2 == 0):  # as np.allclose
-        return (parameters["theta_jn"], (0.0, 0.0, a_1 * np.cos(tilt_1)), (0.0, 0.0, a_2 * np.cos(tilt_2)))
+        return (binary.theta_jn, (0.0, 0.0, a_1 * np.cos(tilt_1)), (0.0, 0.0, a_2 * np.cos(tilt_2)))
     from bilby.core.utils import solar_mass
 
     iota, s1x, s1y, s1z, s2x, s2y, s2z = bilby_to_lalsimulation_spins(
-        theta_jn=parameters["theta_jn"], phi_jl=parameters.get("phi_jl", 0.0), tilt_1=tilt_1, tilt_2=tilt_2,
-        phi_12=parameters.get("phi_12", 0.0), a_1=a_1, a_2=a_2, mass_1=parameters["mass_1"] * solar_mass,
-        mass_2=parameters["mass_2"] * solar_mass, reference_frequency=reference_frequency,
-        phase=parameters["phase"])
+        theta_jn=binary.theta_jn, phi_jl=binary.phi_jl, tilt_1=tilt_1, tilt_2=tilt_2, phi_12=binary.phi_12, a_1=a_1,
+        a_2=a_2, mass_1=binary.mass_1 * solar_mass, mass_2=binary.mass_2 * solar_mass,
+        reference_frequency=reference_frequency, phase=binary.phase)
     return iota, (s1x, s1y, s1z), (s2x, s2y, s2z)
-
-
-_INTRINSIC = ("mass_1", "mass_2", "luminosity_distance", "a_1", "a_2", "tilt_1", "tilt_2", "phi_12",
-              "phi_jl", "theta_jn", "phase")
-_SETTINGS = {"waveform_approximant": DEFAULT_APPROXIMANT, "reference_frequency": DEFAULT_REFERENCE_FREQUENCY,
-             "minimum_frequency": DEFAULT_MINIMUM_FREQUENCY, "maximum_frequency": None, "memory_taper_duration": DEFAULT_TAPER_DURATION,
-             "early_inspiral_memory": True, "mode_list": None, "include_memory": True}
 
 
 @dataclass
 class SourceCache:
-    """Recent results of one waveform generator: modes at 1 Mpc keyed on the intrinsic parameters
-    (distance only rescales, angles only re-sum) and frequency-domain parts keyed on every parameter
+    """Recent results of one waveform generator: modes at 1 Mpc keyed on their :class:`.options.ModesRequest`
+    (distance only rescales, angles only re-sum) and frequency-domain parts keyed on the binary and the options
     (varying only the memory amplitude costs nothing). Owned by one generator, never shared."""
 
     modes_size: int = 8
@@ -269,91 +243,68 @@ class SourceCache:
             table.popitem(last=False)
         return value
 
+    def recall_modes(self, request: ModesRequest, make):
+        return self._recall(self.modes, request, make, self.modes_size)
 
-def _unit_distance_modes(approximant, mass_1, mass_2, delta_t, minimum_frequency, spin_1, spin_2,
-                         reference_frequency, mode_list, finer_for_memory=True) -> ModeSeries:
-    """Modes at 1 Mpc: distance, inclination and phase reuse them."""
-    return generate_modes(approximant, mass_1, mass_2, 1.0, delta_t, minimum_frequency, spin_1, spin_2,
-                          reference_frequency, mode_list, finer_for_memory=finer_for_memory)
+    def recall_parts(self, key, make):
+        return self._recall(self.parts, key, make, self.parts_size)
 
 
-def _plan(frequency_array, settings, values, spin_1, spin_2) -> Conditioning | None:
+def _plan(frequency_array, binary: Binary, options: SourceOptions, spin_1, spin_2) -> Conditioning | None:
     """How the model's oscillatory signal is conditioned as bilby does (None for the analytic test model).
 
     The modes are generated where the conditioning starts them, on its step; when that step is not the data's
     (a maximum frequency below the data's Nyquist frequency that rounds to a smaller power of two) the
     oscillatory signal is bilby's own call and the memory's modes are generated on the data's step."""
-    approximant = settings["waveform_approximant"]
-    if approximant == analytic.NAME:
+    if options.approximant == analytic.NAME:
         return None
     _, delta_t = segment_geometry(frequency_array)
-    maximum = settings["maximum_frequency"]
-    maximum = float(frequency_array[-1]) if maximum is None else float(maximum)
-    minimum = float(settings["minimum_frequency"])
-    plan = conditioning(approximant, values["mass_1"], values["mass_2"], float(spin_1[2]), float(spin_2[2]),
+    maximum = float(frequency_array[-1]) if options.maximum_frequency is None else options.maximum_frequency
+    minimum = options.minimum_frequency
+    plan = conditioning(options.approximant, binary.mass_1, binary.mass_2, float(spin_1[2]), float(spin_2[2]),
                         minimum, maximum, frequency_array)
     if plan.route != LIBRARY and abs(plan.delta_t - delta_t) > 1e-12 * delta_t:
         plan = dataclasses.replace(plan, route=LIBRARY, start_frequency=minimum, delta_t=delta_t)
     return plan
 
 
-def _source(frequency_array, parameters, cache: SourceCache | None = None):
-    """(settings, values, inclination, modes at 1 Mpc, conditioning) for bilby's parameters; the modes come from
-    ``cache``."""
-    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
-    values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
+def unit_distance_modes(request: ModesRequest) -> ModeSeries:
+    """The modes of ``request`` at 1 Mpc: distance, inclination and phase reuse them."""
+    return generate_modes(request.approximant, request.mass_1, request.mass_2, 1.0, request.delta_t,
+                          request.minimum_frequency, request.spin_1, request.spin_2, request.reference_frequency,
+                          request.mode_list, finer_for_memory=request.finer_for_memory)
+
+
+def time_domain_modes(frequency_array, binary: Binary, options: SourceOptions, cache: SourceCache | None = None):
+    """(inclination, modes at 1 Mpc, conditioning) of a time-domain model; the modes come from ``cache``."""
     _, delta_t = segment_geometry(frequency_array)
-    inclination, spin_1, spin_2 = lalsimulation_spins(values, settings["reference_frequency"])
-    plan = _plan(frequency_array, settings, values, spin_1, spin_2)
-    start = float(settings["minimum_frequency"]) if plan is None else plan.start_frequency
-    mode_list = tuple(tuple(int(x) for x in mode) for mode in settings["mode_list"]) if settings["mode_list"] else None
-    arguments = (settings["waveform_approximant"], values["mass_1"], values["mass_2"], delta_t, start,
-                 tuple(float(x) for x in spin_1), tuple(float(x) for x in spin_2),
-                 float(settings["reference_frequency"]), mode_list, bool(settings["include_memory"]))
-    if cache is None:
-        series = _unit_distance_modes(*arguments)
-    else:
-        series = cache._recall(cache.modes, arguments, lambda: _unit_distance_modes(*arguments), cache.modes_size)
-    return settings, values, inclination, series, plan
+    inclination, spin_1, spin_2 = lalsimulation_spins(binary, options.reference_frequency)
+    plan = _plan(frequency_array, binary, options, spin_1, spin_2)
+    request = ModesRequest(options.approximant, binary.mass_1, binary.mass_2, delta_t,
+                           options.minimum_frequency if plan is None else plan.start_frequency,
+                           tuple(float(x) for x in spin_1), tuple(float(x) for x in spin_2),
+                           options.reference_frequency, options.mode_list, options.include_memory)
+    make = functools.partial(unit_distance_modes, request)
+    return inclination, (make() if cache is None else cache.recall_modes(request, make)), plan
 
 
-def signal_parts(frequency_array, cache: SourceCache | None = None, **parameters) -> dict:
-    """Frequency-domain oscillatory (``plus``, ``cross``) and memory (``memory_plus``, ``memory_cross``)
-    parts for bilby's binary-black-hole parameters.
-
-    With a ``cache`` (one per generator) the last few results and modes are reused.
-    """
-    if cache is None:
-        return _parts(frequency_array, parameters, None)
-    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
-    values = {k: float(parameters.get(k, 0.0)) for k in _INTRINSIC}
-    key = (tuple(values.values()), tuple((k, str(v)) for k, v in settings.items()),
-           frequency_array.size, float(frequency_array[-1]))
-    return cache._recall(cache.parts, key, lambda: _parts(frequency_array, parameters, cache), cache.parts_size)
-
-
-def _parts(frequency_array, parameters, cache) -> dict:
-    """The four parts of :func:`signal_parts`, SI at the distance."""
-    if not float(parameters.get("luminosity_distance", 0.0)) > 0:
-        raise WaveformError("the luminosity distance must be positive")
-    settings = {k: parameters.get(k, v) for k, v in _SETTINGS.items()}
-    if is_frequency_domain(settings["waveform_approximant"]):
-        raise WaveformError(f"waveform model '{settings['waveform_approximant']}' gives frequency-domain modes: use "
-                            "memory_infer.waveform.frequency_source.signal_parts (the generator does)")
+def time_domain_parts(frequency_array, binary: Binary, options: SourceOptions, cache: SourceCache | None) -> dict:
+    """Frequency-domain oscillatory (``plus``, ``cross``) and memory (``memory_plus``, ``memory_cross``) parts of a
+    time-domain model, SI at the distance."""
     n_buffer, delta_t = segment_geometry(frequency_array)
-    settings, values, inclination, series, plan = _source(frequency_array, parameters, cache)
-    include_memory = bool(settings["include_memory"])
-    signal = time_signal(series, inclination, values["phase"], bool(settings["early_inspiral_memory"]), include_memory)
-    scale = 1.0 / values["luminosity_distance"]
-    taper = float(settings["memory_taper_duration"])
+    inclination, series, plan = time_domain_modes(frequency_array, binary, options, cache)
+    include_memory = options.include_memory
+    signal = time_signal(series, inclination, binary.phase, options.early_inspiral, include_memory)
+    scale = 1.0 / binary.luminosity_distance
+    taper = options.taper_duration
     if plan is None:  # the analytic test model: its own layout, a half-Hann rise over two cycles at the start
-        start_duration = 2.0 / max(settings["minimum_frequency"], 1.0)
+        start_duration = 2.0 / max(options.minimum_frequency, 1.0)
         oscillatory, memory, shift = circular_layout(signal, n_buffer, delta_t, taper, start_duration)
         phase = shift_phase(frequency_array, shift, delta_t)
         osc = to_frequency_domain(oscillatory * scale, delta_t, shift, frequency_array, phase)
         mem = to_frequency_domain(memory * scale, delta_t, shift, frequency_array, phase)
     else:
-        osc = _oscillatory(frequency_array, signal, plan, values, dict(parameters, **settings), scale)
+        osc = _oscillatory(frequency_array, signal, plan, binary, options, scale)
         if include_memory:
             memory_only = TimeSignal(signal.times, np.zeros(signal.times.size, complex), signal.memory,
                                      signal.early_inspiral_memory)
@@ -364,40 +315,11 @@ def _parts(frequency_array, parameters, cache) -> dict:
     return {"plus": osc["plus"], "cross": osc["cross"], "memory_plus": mem["plus"], "memory_cross": mem["cross"]}
 
 
-def _oscillatory(frequency_array, signal: TimeSignal, plan: Conditioning, values, settings, scale) -> dict:
+def _oscillatory(frequency_array, signal: TimeSignal, plan: Conditioning, binary, options, scale) -> dict:
     """The oscillatory polarizations as bilby's ``lal_binary_black_hole`` gives them (:mod:`.conditioning`)."""
     if plan.route == LIBRARY:
-        return library_polarizations(frequency_array, values, settings)  # settings hold bilby's own arguments too
+        return library_polarizations(frequency_array, binary, options)
     plus, cross, start = conditioned_series(float(signal.times[0]), signal.oscillatory, plan)
     spectra = to_frequency_domain(plus - 1j * cross, plan.delta_t, start, frequency_array)
     keep = frequency_bounds(frequency_array, plan) * scale
     return {"plus": spectra["plus"] * keep, "cross": spectra["cross"] * keep}
-
-
-def signal_strain(frequency_array, amplitude: float, cache: SourceCache | None = None, **parameters) -> dict:
-    """Frequency-domain ``plus`` and ``cross`` of the oscillatory signal plus ``amplitude`` x memory (the parts
-    of :func:`signal_parts` combined; parts already in ``cache`` are reused)."""
-    parts = signal_parts(frequency_array, cache=cache, **parameters)
-    return combined({"plus": parts["plus"], "cross": parts["cross"]},
-                    {"plus": parts["memory_plus"], "cross": parts["memory_cross"]}, amplitude)
-
-
-def memory_binary_black_hole(frequency_array, mass_1, mass_2, luminosity_distance, a_1, tilt_1, phi_12,
-                             a_2, tilt_2, phi_jl, theta_jn, phase, memory_amplitude=1.0, **waveform_kwargs):
-    """bilby frequency-domain source model: oscillatory signal plus ``memory_amplitude`` x memory.
-
-    ``memory_amplitude`` = 1 is general relativity, 0 no memory, -1 the flipped sign. Waveform
-    arguments: ``waveform_approximant`` (default IMRPhenomTHM), ``reference_frequency``,
-    ``minimum_frequency``, ``memory_taper_duration`` (s), ``early_inspiral_memory`` (bool),
-    ``mode_list`` (list of (l, m)), ``include_memory`` (False skips the memory altogether). Use it in ``bilby.gw.WaveformGenerator``.
-    """
-    parameters = dict(mass_1=mass_1, mass_2=mass_2, luminosity_distance=luminosity_distance, a_1=a_1,
-                      tilt_1=tilt_1, phi_12=phi_12, a_2=a_2, tilt_2=tilt_2, phi_jl=phi_jl,
-                      theta_jn=theta_jn, phase=phase, **waveform_kwargs)
-    try:
-        return signal_strain(np.asarray(frequency_array), float(memory_amplitude), **parameters)
-    except WaveformError as error:
-        if waveform_kwargs.get("catch_waveform_errors", False):
-            logger.debug("waveform failed, likelihood set to zero: %s", error)
-            return None
-        raise

@@ -8,7 +8,7 @@ import pytest
 
 from memory_infer.inference.likelihood import MemoryTransient
 from memory_infer.waveform.conditioning import LIBRARY, LOWERED_START, START_TAPER, conditioning, route
-from memory_infer.waveform.frequency_source import signal_parts
+from memory_infer.waveform.source_model import signal_parts
 from memory_infer.waveform.generator import waveform_generator
 from memory_infer.waveform.models import pyseobnr_modes
 

@@ -34,8 +34,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ...common.errors import WaveformError
-from .lal_modes import _explain, _lal, _quiet, waveform_dictionary
+from .lal_call import call, checked_binary, lal_modules, quiet, walk, waveform_dictionary
 from .precessing_twist import twisted_modes
 from ..compiled import loud_end
 from .refine import QUIET_AMPLITUDE
@@ -77,13 +76,9 @@ class ModeSpectra:
     aligned_spins: bool
 
 
-def is_frequency_domain(approximant: str) -> bool:
-    return approximant in FD_MODELS
-
-
 def time_bounds(mass_1, mass_2, spin_1z, spin_2z, minimum_frequency):
     """(start frequency, lead before t = 0, tail after it) by lalsimulation's bounds, as in SimInspiralFD."""
-    lal, lalsim = _lal()
+    lal, lalsim = lal_modules()
     m1, m2 = mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI
     chirp = lalsim.SimInspiralChirpTimeBound(minimum_frequency, m1, m2, spin_1z, spin_2z)
     final_spin = lalsim.SimInspiralFinalBlackHoleSpinBound(spin_1z, spin_2z)
@@ -103,14 +98,10 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
     ``memory_lead`` (s): start the modes that long before the merger when that is after the minimum frequency
     (``MEMORY_LEAD``); None starts them at the minimum frequency. ``maximum_frequency`` (Hz): generate the spectra
     at least that far (by default to the model's cutoff)."""
-    lal, lalsim = _lal()
-    spin_1, spin_2 = np.asarray(spin_1, float), np.asarray(spin_2, float)
-    if not (mass_1 > 0 and mass_2 > 0 and luminosity_distance > 0):
-        raise WaveformError("masses and luminosity distance must be positive")
+    lal, lalsim = lal_modules()
     precessing = approximant in PRECESSING
-    aligned = bool(max(abs(spin_1[0]), abs(spin_1[1]), abs(spin_2[0]), abs(spin_2[1])) <= 1e-8)  # as np.allclose
-    if not precessing and not aligned:
-        raise WaveformError(f"waveform model '{approximant}' takes aligned spins only; use IMRPhenomXPHM")
+    spin_1, spin_2, aligned = checked_binary(approximant, mass_1, mass_2, luminosity_distance, spin_1, spin_2,
+                                             precessing, "IMRPhenomXPHM")
     if memory_lead:
         later = lalsim.SimInspiralChirpStartFrequencyBound(float(memory_lead), mass_1 * lal.MSUN_SI,
                                                             mass_2 * lal.MSUN_SI)
@@ -127,7 +118,7 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
                  reference_frequency, phi_ref, luminosity_distance * MEGAPARSEC_METRES, float(inclination), params,
                  lalsim.GetApproximantFromString(approximant))
     if precessing and not mode_list:  # the J-frame modes from one generation of the co-precessing modes
-        with _quiet(None):
+        with quiet():
             try:
                 twisted = twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, reference_frequency,
                                         phi_ref, float(inclination), luminosity_distance * MEGAPARSEC_METRES,
@@ -138,23 +129,8 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
             return _conditioned(twisted, delta_f, start, minimum_frequency, lead, tail, approximant, mass_1, mass_2,
                                 luminosity_distance, reference_frequency, phase, inclination, spin_1, spin_2,
                                 precessing, aligned, mode_list)
-    try:
-        with _quiet(None):
-            linked = lalsim.SimInspiralChooseFDModes(*arguments)
-    except RuntimeError:
-        import io
-
-        capture = io.StringIO()
-        try:
-            with _quiet(capture):
-                lalsim.SimInspiralChooseFDModes(*arguments)
-        except RuntimeError as error:
-            raise WaveformError(_explain(approximant, capture.getvalue(), error, mass_1, mass_2)) from None
-        raise WaveformError(f"waveform model '{approximant}' failed once and then succeeded") from None
-    modes = {}
-    while linked is not None:
-        modes[(int(linked.l), int(linked.m))] = np.array(linked.mode.data.data, dtype=complex)
-        linked = linked.next
+    linked = call(lalsim.SimInspiralChooseFDModes, arguments, approximant, mass_1, mass_2)
+    modes = {key: np.array(series.data.data, dtype=complex) for key, series in walk(linked)}
     return _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approximant, mass_1, mass_2,
                         luminosity_distance, reference_frequency, phase, inclination, spin_1, spin_2, precessing,
                         aligned, mode_list)
@@ -165,7 +141,7 @@ def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approxima
                  mode_list) -> ModeSpectra:
     """The :class:`ModeSpectra` of lalsimulation's two-sided modes: lalsimulation's half-cosine window between
     the start and the minimum frequency, and the observer in the modes' frame."""
-    lal, lalsim = _lal()
+    lal, lalsim = lal_modules()
     if mode_list:
         modes = {k: v for k, v in modes.items() if k in {tuple(x) for x in mode_list}}
     size = next(iter(modes.values())).size

@@ -25,7 +25,7 @@ import numpy as np
 
 from ...common.compiled import compiled
 from ..sphere import wigner_d, wigner_terms  # noqa: F401 (wigner_d: this module's twist, and its tests)
-from .lal_modes import _lal
+from .lal_call import lal_modules as _lal
 
 COPRECESSING = ((2, 1), (2, 2), (3, 2), (3, 3), (4, 4))  # (l, m') of the model's co-precessing modes
 MSA_VERSIONS = (220, 221, 222, 223, 224)

@@ -19,12 +19,12 @@ from __future__ import annotations
 
 import dataclasses
 import functools
-import math
 
 import numpy as np
 
 from ...common.errors import WaveformError
 from ..sphere import wigner_d
+from .lal_call import checked_binary
 from .refine import interpolated_level
 from .series import ModeSeries
 
@@ -61,16 +61,8 @@ def seobnr_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t, mini
     ``delta_t`` (s), spins at ``reference_frequency``. With ``keep_frame``: ``(modes, frame)``, ``frame`` the
     :class:`CoprecessingFrame` of a precessing binary (None with aligned spins)."""
     require(approximant)
-    spin_1, spin_2 = np.asarray(spin_1, float), np.asarray(spin_2, float)
-    if not (mass_1 > 0 and mass_2 > 0 and luminosity_distance > 0):
-        raise WaveformError("masses and luminosity distance must be positive")
-    for label, spin in (("first", spin_1), ("second", spin_2)):
-        if not np.all(np.isfinite(spin)) or math.sqrt(float(spin @ spin)) > 1:
-            raise WaveformError(f"the {label} spin has magnitude above 1 or is not a number")
-    aligned = bool(max(abs(spin_1[0]), abs(spin_1[1]), abs(spin_2[0]), abs(spin_2[1])) <= 1e-8)
-    if approximant not in PRECESSING and not aligned:
-        raise WaveformError(f"waveform model '{approximant}' takes aligned spins only; set the in-plane spins to zero "
-                            "or choose SEOBNRv5PHM")
+    spin_1, spin_2, aligned = checked_binary(approximant, mass_1, mass_2, luminosity_distance, spin_1, spin_2,
+                                             approximant in PRECESSING, "SEOBNRv5PHM")
     parameters = dict(mass1=float(mass_1), mass2=float(mass_2), spin1x=float(spin_1[0]), spin1y=float(spin_1[1]),
                       spin1z=float(spin_1[2]), spin2x=float(spin_2[0]), spin2y=float(spin_2[1]),
                       spin2z=float(spin_2[2]), distance=float(luminosity_distance), inclination=0.0, phi_ref=0.0,

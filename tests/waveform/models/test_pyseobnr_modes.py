@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from memory_infer.common.errors import WaveformError
-from memory_infer.waveform.frequency_source import signal_parts
+from memory_infer.waveform.source_model import signal_parts
 from memory_infer.waveform.models import pyseobnr_modes
 
 needs_pyseobnr = pytest.mark.skipif(not pyseobnr_modes.available() and not os.environ.get("MEMORY_INFER_REQUIRE_PYSEOBNR"),

@@ -210,7 +210,7 @@ def test_source_model_rank_and_campaign_record_agree_with_the_reference():
     from memory_infer.campaign.injection import build_network, run_injection
     from memory_infer.commands.rank import memory_snr, ranking_network
     from memory_infer.inputs.settings import CampaignSettings
-    from memory_infer.waveform.source import signal_parts
+    from memory_infer.waveform.source_model import signal_parts
 
     expected = _reference_snr_at_2048()
     source = _consumer_binary()
