@@ -31,13 +31,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..common.errors import WaveformError
-from .models.lal_call import lal_modules, quiet
+from .models.lal_call import EXTRA_TIME_FRACTION, conditioning_bounds, lal_modules, quiet
 
 LOWERED_START, START_TAPER, LIBRARY = "lowered start", "start taper", "library"
 ROUTES = {"IMRPhenomTHM": LOWERED_START, "IMRPhenomTPHM": LOWERED_START, "SEOBNRv4PHM": START_TAPER,
           "SEOBNRv5PHM": LOWERED_START, "SEOBNRv5HM": LOWERED_START}
 GWSIGNAL_MODELS = ("SEOBNRv5PHM", "SEOBNRv5HM")  # bilby's gwsignal_binary_black_hole (pyseobnr) is their model
-EXTRA_TIME_FRACTION, EXTRA_CYCLES = 0.1, 3.0  # lalsimulation's SimInspiralTD
 
 
 @dataclass(frozen=True)
@@ -62,7 +61,7 @@ def route(approximant: str) -> str:
 def conditioning(approximant: str, mass_1: float, mass_2: float, spin_1z: float, spin_2z: float,
                  minimum_frequency: float, maximum_frequency: float, frequency_array) -> Conditioning:
     """The conditioning ``SimInspiralFD`` applies to this binary (masses in solar masses)."""
-    lal, lalsim = lal_modules()
+    lal, _ = lal_modules()
     delta_f = float(frequency_array[1] - frequency_array[0])
     count = int(round(maximum_frequency / delta_f))
     nyquist = maximum_frequency if count & (count - 1) == 0 else 2 ** math.ceil(math.log2(count)) * delta_f
@@ -71,14 +70,9 @@ def conditioning(approximant: str, mass_1: float, mass_2: float, spin_1z: float,
     if kind != LOWERED_START:
         return Conditioning(kind, minimum_frequency, minimum_frequency, maximum_frequency, delta_t, n_samples,
                             0.0, minimum_frequency, 0.0)
-    m_1, m_2 = mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI
     total_seconds = (mass_1 + mass_2) * lal.MTSUN_SI
     f_min = min(minimum_frequency, 1.0 / (9.0 ** 1.5 * math.pi * total_seconds))
-    chirp = lalsim.SimInspiralChirpTimeBound(f_min, m_1, m_2, spin_1z, spin_2z)
-    final_spin = lalsim.SimInspiralFinalBlackHoleSpinBound(spin_1z, spin_2z)
-    merge = lalsim.SimInspiralMergeTimeBound(m_1, m_2) + lalsim.SimInspiralRingdownTimeBound(m_1 + m_2, final_spin)
-    extra = EXTRA_CYCLES / f_min
-    start = lalsim.SimInspiralChirpStartFrequencyBound((1.0 + EXTRA_TIME_FRACTION) * chirp + merge + extra, m_1, m_2)
+    chirp, _, extra, start = conditioning_bounds(mass_1, mass_2, spin_1z, spin_2z, f_min, True)
     return Conditioning(kind, float(start), minimum_frequency, maximum_frequency, delta_t, n_samples,
                         EXTRA_TIME_FRACTION * chirp + extra, f_min, 1.0 / (6.0 ** 1.5 * math.pi * total_seconds))
 

@@ -14,14 +14,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from .conditioning import library_polarizations
-from .memory import memory_at_direction
 from .models.fd_modes import MEMORY_LEAD, ModeSpectra, band_step, late_modes, mode_spectra, time_modes
 from .models.refine import finer_levels
 from .models.registry import takes_precessing_spins
 from .models.series import ModeSeries
 from .options import Binary, ModesRequest, SourceOptions
-from .source import (TimeSignal, circular_layout, lalsimulation_spins, observer_angles, segment_geometry,
-                     to_frequency_domain)
+from .source import (TimeSignal, circular_layout, lalsimulation_spins, memory_towards, observer_angles,
+                     segment_geometry, to_frequency_domain)
 
 @dataclass
 class FrequencyModes:
@@ -69,13 +68,8 @@ def observer(modes: FrequencyModes, inclination: float, phase: float):
 
 def memory_strain(modes: FrequencyModes, inclination: float, phase: float, early_inspiral: bool = True) -> np.ndarray:
     """Complex memory ``h+ - i hx`` (SI at 1 Mpc) at ``modes.series.times`` in lalsimulation's polarization frame."""
-    series = modes.series
     theta, phi, rotation = observer(modes, inclination, phase)
-    times, strain = series.geometric(scaled=False)  # SI strain, times in M
-    memory = memory_at_direction(strain, times, theta, phi, early_inspiral=early_inspiral,
-                                 symmetric_mass_ratio=series.symmetric_mass_ratio,
-                                 finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale)
-    return memory * rotation
+    return memory_towards(modes.series, theta, phi, early_inspiral) * rotation
 
 
 def frequency_parts(frequency_array, binary: Binary, options: SourceOptions, cache) -> dict:

@@ -82,12 +82,18 @@ def time_signal(series: ModeSeries, inclination: float, phase: float,
     oscillatory = mode_sum(series.modes, theta, phi)
     if not include_memory:
         return TimeSignal(series.times, oscillatory, np.zeros(series.times.size, complex), 0.0)
-    geometric_times, strain_modes = series.geometric(scaled=False)  # SI strain, times in M
-    memory = memory_at_direction(strain_modes, geometric_times, theta, phi, early_inspiral=early_inspiral,
-                                 symmetric_mass_ratio=series.symmetric_mass_ratio,
-                                 finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale)
+    memory = memory_towards(series, theta, phi, early_inspiral)
     offset = float(abs(memory[0]))
     return TimeSignal(series.times, oscillatory, memory, offset)
+
+
+def memory_towards(series: ModeSeries, theta: float, phi: float, early_inspiral: bool = True) -> np.ndarray:
+    """Complex memory ``h+ - i hx`` (SI) at ``series.times`` towards ``(theta, phi)`` of the modes' frame
+    (:func:`.memory.memory_at_direction`, its flux from ``series.finer`` where the grid does not resolve it)."""
+    geometric_times, strain_modes = series.geometric(scaled=False)  # SI strain, times in M
+    return memory_at_direction(strain_modes, geometric_times, theta, phi, early_inspiral=early_inspiral,
+                               symmetric_mass_ratio=series.symmetric_mass_ratio,
+                               finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale)
 
 
 EARLY_INSPIRAL_EFFECT = ("a constant over the whole segment: it moves only the zero-frequency bin, which the "

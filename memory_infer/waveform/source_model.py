@@ -14,8 +14,8 @@ from ..common.errors import WaveformError
 from .frequency_source import frequency_parts
 from .models.registry import is_frequency_domain
 from .options import Binary, SourceOptions
-from .source import SourceCache, combined, segment_geometry, time_domain_modes, time_domain_parts, \
-    truncated_start_frequency
+from .source import (SourceCache, combined, segment_geometry, time_domain_modes, time_domain_parts,
+                     truncated_start_frequency)
 
 logger = logging.getLogger("memory_infer")
 
@@ -49,7 +49,8 @@ def memory_binary_black_hole(frequency_array, mass_1, mass_2, luminosity_distanc
     ``memory_amplitude`` = 1 is general relativity, 0 no memory, -1 the flipped sign. Waveform
     arguments: ``waveform_approximant`` (default IMRPhenomTHM), ``reference_frequency``,
     ``minimum_frequency``, ``memory_taper_duration`` (s), ``early_inspiral_memory`` (bool),
-    ``mode_list`` (list of (l, m)), ``include_memory`` (False skips the memory altogether). Use it in ``bilby.gw.WaveformGenerator``.
+    ``mode_list`` (list of (l, m)), ``include_memory`` (False skips the memory altogether). Use it in
+    ``bilby.gw.WaveformGenerator``.
     """
     parameters = dict(mass_1=mass_1, mass_2=mass_2, luminosity_distance=luminosity_distance, a_1=a_1,
                       tilt_1=tilt_1, phi_12=phi_12, a_2=a_2, tilt_2=tilt_2, phi_jl=phi_jl,

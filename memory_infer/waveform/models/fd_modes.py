@@ -34,16 +34,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .lal_call import call, checked_binary, lal_modules, quiet, walk, waveform_dictionary
+from .lal_call import call, checked_binary, conditioning_bounds, lal_modules, quiet, walk, waveform_dictionary
 from .precessing_twist import twisted_modes
 from ..compiled import loud_end
 from .refine import QUIET_AMPLITUDE
 from .series import MEGAPARSEC_METRES, SOLAR_MASS_SECONDS, ModeSeries
 
-FD_MODELS = ("IMRPhenomXHM", "IMRPhenomXPHM")
-PRECESSING = {"IMRPhenomXPHM"}
+MODELS = ("IMRPhenomXHM", "IMRPhenomXPHM")
+PRECESSING = ("IMRPhenomXPHM",)
 CUTOFF = 0.3  # the (2, 2) mode's internal cutoff of the IMRPhenomX family, M f (lalsimulation)
-EXTRA_TIME_FRACTION, EXTRA_CYCLES = 0.1, 3.0  # lalsimulation's SimInspiralFD conditioning
 # The modes for the memory start this long (s, lalsimulation's chirp time bound) before the merger, or at the
 # minimum frequency if that is later: the memory's in-band content comes from the late inspiral and merger, the
 # earlier inspiral only adds a slow ramp below the band (its accumulated memory is the leading-order constant
@@ -79,12 +78,8 @@ class ModeSpectra:
 def time_bounds(mass_1, mass_2, spin_1z, spin_2z, minimum_frequency):
     """(start frequency, lead before t = 0, tail after it) by lalsimulation's bounds, as in SimInspiralFD."""
     lal, lalsim = lal_modules()
+    _, merger, extra, start = conditioning_bounds(mass_1, mass_2, spin_1z, spin_2z, minimum_frequency, False)
     m1, m2 = mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI
-    chirp = lalsim.SimInspiralChirpTimeBound(minimum_frequency, m1, m2, spin_1z, spin_2z)
-    final_spin = lalsim.SimInspiralFinalBlackHoleSpinBound(spin_1z, spin_2z)
-    merger = lalsim.SimInspiralMergeTimeBound(m1, m2) + lalsim.SimInspiralRingdownTimeBound(m1 + m2, final_spin)
-    extra = EXTRA_CYCLES / minimum_frequency
-    start = lalsim.SimInspiralChirpStartFrequencyBound((1 + EXTRA_TIME_FRACTION) * chirp + extra, m1, m2)
     lead = lalsim.SimInspiralChirpTimeBound(start, m1, m2, spin_1z, spin_2z) + extra
     return float(start), float(lead), float(merger)
 

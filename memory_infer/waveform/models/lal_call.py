@@ -12,6 +12,7 @@ import numpy as np
 
 from ...common.errors import WaveformError
 
+EXTRA_TIME_FRACTION, EXTRA_CYCLES = 0.1, 3.0  # lalsimulation's SimInspiralTD and SimInspiralFD conditioning
 SURROGATE_HINT = ("needs lalsimulation's downloadable data files (surrogate or ROM tables), which are "
                   "not available on this machine; use IMRPhenomTHM or IMRPhenomTPHM instead")
 
@@ -93,6 +94,22 @@ def waveform_dictionary(mode_list=None):
             lalsim.SimInspiralModeArrayActivateMode(array, int(l), int(m))
         lalsim.SimInspiralWaveformParamsInsertModeArray(params, array)
     return params
+
+
+def conditioning_bounds(mass_1, mass_2, spin_1z, spin_2z, frequency, merger_in_start: bool):
+    """(chirp, merger, extra, start) as lalsimulation's ``SimInspiralTD`` (``merger_in_start``) and ``SimInspiralFD``
+    bound them (s, Hz; masses in solar masses): the chirp time bound from ``frequency``, the merger and ringdown
+    bounds, ``EXTRA_CYCLES`` cycles at ``frequency``, and the start frequency whose chirp time bound is
+    ``(1 + EXTRA_TIME_FRACTION) chirp + extra`` (plus the merger for ``SimInspiralTD``)."""
+    lal, lalsim = lal_modules()
+    m1, m2 = mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI
+    chirp = lalsim.SimInspiralChirpTimeBound(frequency, m1, m2, spin_1z, spin_2z)
+    final_spin = lalsim.SimInspiralFinalBlackHoleSpinBound(spin_1z, spin_2z)
+    merger = lalsim.SimInspiralMergeTimeBound(m1, m2) + lalsim.SimInspiralRingdownTimeBound(m1 + m2, final_spin)
+    extra = EXTRA_CYCLES / frequency
+    span = (1 + EXTRA_TIME_FRACTION) * chirp
+    span = span + merger + extra if merger_in_start else span + extra
+    return chirp, merger, extra, lalsim.SimInspiralChirpStartFrequencyBound(span, m1, m2)
 
 
 def checked_binary(approximant: str, mass_1, mass_2, luminosity_distance, spin_1, spin_2,

@@ -60,7 +60,8 @@ def choose_td_modes(approximant, mass_1, mass_2, luminosity_distance, delta_t, m
     spin_1, spin_2, aligned = checked_binary(approximant, mass_1, mass_2, luminosity_distance, spin_1, spin_2)
     number = approximant_number(approximant)
     arguments = (0.0, delta_t, mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2, minimum_frequency,
-                 reference_frequency, luminosity_distance * MEGAPARSEC_METRES, waveform_dictionary(mode_list), 5, number)
+                 reference_frequency, luminosity_distance * MEGAPARSEC_METRES, waveform_dictionary(mode_list), 5,
+                 number)
     modes, times = {}, None
     for key, series in walk(call(lalsim.SimInspiralChooseTDModes, arguments, approximant, mass_1, mass_2)):
         data = np.array(series.data.data, dtype=complex)

@@ -34,17 +34,16 @@ def _analytic(approximant, mass_1, mass_2, luminosity_distance, delta_t, minimum
 
 
 _LAL = lal_modes.choose_td_modes
-_SEOBNR = pyseobnr_modes.seobnr_modes
 MODELS = {model.name: model for model in (
     Model("IMRPhenomTHM", TIME, False, _LAL),
     Model("IMRPhenomTPHM", TIME, True, _LAL),
     Model("SEOBNRv4PHM", TIME, True, _LAL),
     Model("TaylorT4", TIME, False, _LAL),
-    Model("SEOBNRv5PHM", TIME, True, _SEOBNR, functools.partial(_SEOBNR, keep_frame=True)),  # optional pyseobnr
-    Model("SEOBNRv5HM", TIME, False, _SEOBNR),
+    *(Model(name, TIME, name in pyseobnr_modes.PRECESSING, pyseobnr_modes.seobnr_modes,  # the optional pyseobnr
+            functools.partial(pyseobnr_modes.seobnr_modes, keep_frame=True) if name in pyseobnr_modes.PRECESSING
+            else None) for name in pyseobnr_modes.MODELS),
     Model(analytic.NAME, TIME, False, _analytic),
-    Model("IMRPhenomXHM", FREQUENCY, False, fd_modes.mode_spectra),
-    Model("IMRPhenomXPHM", FREQUENCY, True, fd_modes.mode_spectra),
+    *(Model(name, FREQUENCY, name in fd_modes.PRECESSING, fd_modes.mode_spectra) for name in fd_modes.MODELS),
 )}
 SUPPORTED = tuple(name for name, model in MODELS.items() if model.domain == TIME)
 FREQUENCY_DOMAIN = tuple(name for name, model in MODELS.items() if model.domain == FREQUENCY)
