@@ -1,5 +1,6 @@
 """Run configurations: TOML read with the standard library, checked key by key against a schema, then typed as
-settings (:mod:`.settings`, whose dataclasses hold every default once).
+settings (:mod:`.settings`, whose dataclasses hold each setting's default once; its docstring names those kept
+elsewhere).
 
 Every problem is one sentence naming the section and key; unknown keys are errors (a typo must
 not silently fall back to a default).

@@ -13,11 +13,11 @@ import numpy as np
 from ..common.errors import MemoryInferError
 from .readers import _release_group, _scalar_text
 from .release_layout import CALIBRATION_ENVELOPES, PLACES, SAMPLES
+from .settings import DEFAULT_POST_TRIGGER
 
 MARGINALIZATIONS = ("distance_marginalization", "time_marginalization", "phase_marginalization")
 TEXT_SETTINGS = ("waveform_model", "mode_array", "waveform_arguments", "resampling_method", *MARGINALIZATIONS)
 EMPTY_TEXT = ("", "none", "None", "{}", "[]")
-DEFAULT_POST_TRIGGER = 2.0  # s, the usual post-trigger duration when the release does not give one
 ORIGIN_USER = "configuration"
 
 
