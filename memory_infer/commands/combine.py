@@ -41,11 +41,11 @@ def run(args) -> int:
     print(f"{catalog_size(result.n_events)}: consistent-sign ln BF = {number(c['ln_bf'], c['ln_bf_err'])}; "
           f"wrong sign {result.wrong_sign['ln_bf']:.2f}; sign-agnostic {result.sign_agnostic['ln_bf']:.2f}; "
           f"shared unknown sign {result.shared_unknown_sign['ln_bf']:.2f}")
-    spread = (result.population or {}).get("gaussian")
+    spread = result.population.model("gaussian")
     if spread:
-        print(f"amplitude spread: sigma {spread['sigma']['median']:.2f} [{spread['sigma']['lower_90']:.2f}, "
-              f"{spread['sigma']['upper_90']:.2f}] (90%); ln BF against one shared amplitude "
-              f"{number(spread['ln_bf_vs_shared'], spread['ln_bf_vs_shared_err'])}")
+        sigma = spread.summary("sigma")
+        print(f"amplitude spread: sigma {sigma.median:.2f} [{sigma.lower_90:.2f}, {sigma.upper_90:.2f}] (90%); ln BF "
+              f"against one shared amplitude {number(spread.ln_bf_vs_shared, spread.ln_bf_vs_shared_err)}")
     for item in result.dropped:
         print(f"dropped {item['label']}: {item['reason']}")
     for item in result.controls:

@@ -5,6 +5,7 @@ from dataclasses import dataclass, field
 
 from .base import ResultFile
 from .cautions import EVIDENCE
+from .population import PopulationModels
 
 
 @dataclass
@@ -13,6 +14,7 @@ class CatalogResult(ResultFile):
 
     KIND = "catalog"
     FILE = "catalog.json"
+    NESTED = {"population": PopulationModels}
 
     consistent_sign: dict
     wrong_sign: dict
@@ -27,7 +29,7 @@ class CatalogResult(ResultFile):
     expected_vs_observed: dict = field(default_factory=dict)
     controls: list = field(default_factory=list)  # control events (no memory injected, or flagged), not summed
     consistency: dict = field(default_factory=dict)  # each event against the shared amplitude (leave-one-out)
-    population: dict = field(default_factory=dict)  # population models of the amplitudes, each with its evidence
+    population: PopulationModels = field(default_factory=PopulationModels)  # models of the amplitudes, with evidences
     method_rule: str = ""
     n_events: int = 0
     event_runs: list = field(default_factory=list)  # a catalog run's events: status, reason, page, wall time
