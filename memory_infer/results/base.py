@@ -34,6 +34,10 @@ class Block:
 
     NESTED: ClassVar[dict] = {}
 
+    def __bool__(self):
+        """Whether the file held any of the block's keys (an empty block is written as ``{}``)."""
+        return any(getattr(self, item.name) is not ABSENT for item in dataclasses.fields(self))
+
     def to_dict(self) -> dict:
         return {item.name: _plain(value) for item in dataclasses.fields(self)
                 if (value := getattr(self, item.name)) is not ABSENT}
@@ -56,9 +60,12 @@ class Block:
 
 
 def _nested(kind, value):
-    """``value`` read into ``kind`` (a :class:`Block`, or ``(list, Block)`` for a list of them) when given."""
+    """``value`` read into ``kind`` (a :class:`Block`; ``(list, Block)`` for a list of them, ``(dict, Block)`` for
+    a mapping of names to them) when given."""
     if kind is None or value is None or value is ABSENT:
         return value
+    if isinstance(kind, tuple) and kind[0] is dict:
+        return {key: kind[1].from_dict(item) for key, item in value.items()}
     if isinstance(kind, tuple):
         return [kind[1].from_dict(item) for item in value]
     return kind.from_dict(value)
@@ -101,16 +108,8 @@ class ResultFile:
                                    "update memory_infer to read it")
         values = {}
         for item in dataclasses.fields(cls):
-            if item.name not in data:
-                continue
-            value = data[item.name]
-            kind = cls.NESTED.get(item.name)
-            if value is not None and kind is not None:
-                if isinstance(kind, tuple):
-                    value = [kind[1].from_dict(v) for v in value]
-                else:
-                    value = kind.from_dict(value)
-            values[item.name] = value
+            if item.name in data:
+                values[item.name] = _nested(cls.NESTED.get(item.name), data[item.name])
         try:
             return cls(**values)
         except TypeError as error:

@@ -63,8 +63,8 @@ def test_a_registered_toy_method_is_run_preferred_combined_and_summarized(toy, t
     second = result.reloaded()
     second.event = "toy-event-2"
     catalog = combine([result, second])
-    assert catalog.consistent_sign["ln_bf"] == pytest.approx(2 * TOY_PLUS, abs=1e-12)
-    assert catalog.wrong_sign["ln_bf"] == pytest.approx(2 * TOY_MINUS, abs=1e-12)
+    assert catalog.consistent_sign.ln_bf == pytest.approx(2 * TOY_PLUS, abs=1e-12)
+    assert catalog.wrong_sign.ln_bf == pytest.approx(2 * TOY_MINUS, abs=1e-12)
     assert {e["method"] for e in catalog.events} == {"toy estimate"}
 
     records = [{"ln_bf_plus_toy": 0.1 * i, "ln_bf_plus_reweighting": 0.1 * i + 0.01, "ln_bf_plus_fast": 0.05 * i}
