@@ -82,13 +82,14 @@ class ResultFile:
     FILE: ClassVar[str] = ""
     NESTED: ClassVar[dict] = {}
 
-    def __post_init__(self):
-        """Typed blocks handed over as their JSON mappings (as the stage that computes them builds them) are read
-        into their :class:`Block` classes."""
-        for name, kind in self.NESTED.items():
-            block = kind[1] if isinstance(kind, tuple) else kind
-            if isinstance(block, type) and issubclass(block, Block):
-                setattr(self, name, _nested(kind, getattr(self, name)))
+    def __setattr__(self, name, value):
+        """A typed block handed over as its JSON mapping (as the stage that computes it builds it), at construction
+        or later, is read into its :class:`Block` class."""
+        kind = type(self).NESTED.get(name)
+        block = kind[1] if isinstance(kind, tuple) else kind
+        if isinstance(block, type) and issubclass(block, Block):
+            value = _nested(kind, value)
+        object.__setattr__(self, name, value)
 
     def to_json(self) -> dict:
         out = {"schema": {"kind": self.KIND, "version": SCHEMA_VERSION}}

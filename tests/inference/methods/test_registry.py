@@ -57,7 +57,7 @@ def test_a_registered_toy_method_is_run_preferred_combined_and_summarized(toy, t
     assert [e.family for e in result.methods] == ["toy", "toy"] and list(state.signs) == [-1]
     result.methods.extend(reweighted(0.2, -0.1))  # equal errors: the preference rank decides
     result.choose_headline([state.signs[rank] for rank in sorted(state.signs)])
-    assert result.headline["method"] == "toy estimate" and result.headline["ln_bf"] == TOY_PLUS
+    assert result.headline.method == "toy estimate" and result.headline.ln_bf == TOY_PLUS
     assert result.sign.note == "from the toy"  # the toy's own sign summary, not one rebuilt from the pair
 
     second = result.reloaded()
