@@ -14,7 +14,7 @@ _PUBLIC = {
     "memory_binary_black_hole": "waveform.source_model", "MemoryWaveformGenerator": "waveform.generator",
     "waveform_generator": "waveform.generator",
     # inputs
-    "load_evidence_config": "inputs.config", "load_evidence_settings": "inputs.config",
+    "load_evidence_settings": "inputs.config",
     "read_strain": "inputs.readers", "read_psd": "inputs.readers",
     "read_samples": "inputs.readers", "detectors_from_files": "inputs.event_data",
     # results

@@ -162,8 +162,7 @@ def test_public_api_resolves():
 BELOW_INPUTS = ("results", "inference", "catalog", "campaign", "reports")  # stages that take settings objects
 BELOW_COMMANDS = ("common", "waveform", "inputs", "results", "inference", "catalog", "campaign", "reports")
 # what hands out the configuration mapping (checked TOML as a dict) rather than settings objects
-MAPPING_SOURCES = {"evidence_config", "load_evidence_config", "apply_schema", "load_toml", "EVIDENCE_SCHEMA",
-                   "CAMPAIGN_SCHEMA", "amplitude_grid"}
+MAPPING_SOURCES = {"evidence_config", "apply_schema", "load_toml", "EVIDENCE_SCHEMA", "CAMPAIGN_SCHEMA"}
 HIDDEN_KEYS = {"_directory", "_given", "_origins", "_envelopes"}
 
 

@@ -97,7 +97,7 @@ def _select(record: EventResult, source: str) -> EventEntry:
     same pair the event's headline and sign table show, named with its sample set."""
     label = str(record.event)
     methods = record.methods or []
-    snr = (record.memory_snr or {}).get("value")
+    snr = None if record.memory_snr is None else record.memory_snr.value
     chosen = event_pair(methods)
     if chosen is not None and "flipped" not in chosen:
         return EventEntry(label, chosen["memory"].ln_bf, None, None, method=sample_set_name(chosen["memory"]),

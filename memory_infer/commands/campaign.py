@@ -71,16 +71,16 @@ def run(args) -> int:
     summary.save(os.path.join(args.outdir, CampaignSummary.FILE))
     write_text(os.path.join(args.outdir, "report.html"), campaign_page(summary))
     threshold = summary.events_to_threshold
-    expected = (summary.forecast.get("expected") or {}).get("mean")
-    known = (summary.forecast.get("known_sign") or {}).get("mean")
+    expected = summary.forecast.expected.mean if summary.forecast.expected else None
+    known = summary.forecast.known_sign.mean if summary.forecast.known_sign else None
     print(f"{summary.n_injections} injections, {summary.n_failed} failed, {summary.n_detected} detected; "
           f"expected ln BF₊ per detected event over noise {number(expected, None, 5)} "
           f"(known-sign bound {number(known, None, 5)})")
     print(f"events to ln BF = {threshold['threshold']:g} with noise scatter: median (90% range) {range_text(threshold)}; "
           "± is the Monte-Carlo error")
-    spread = summary.forecast.get("events_to_bound_spread") or {}
-    if spread.get("median") is not None:
-        print(f"events to bound the amplitudes' spread below {spread['bound']:g} (90%), all events GR: "
+    spread = summary.forecast.events_to_bound_spread
+    if spread and spread.median is not None:
+        print(f"events to bound the amplitudes' spread below {spread.bound:g} (90%), all events GR: "
               f"{range_text(spread)} (a Fisher estimate, optimistic by about a factor 2)")
     for warning in summary.warnings:
         print(f"warning: {warning}")

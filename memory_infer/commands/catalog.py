@@ -156,7 +156,7 @@ def run(args) -> int:
     print(event_table(result))
     c = result.consistent_sign
     print(f"catalog '{name}': {result.n_events} of {len(records)} events combined; consistent-sign ln BF = "
-          f"{number(c['ln_bf'], c['ln_bf_err'])}; wrong sign {result.wrong_sign['ln_bf']:.2f}")
+          f"{number(c.ln_bf, c.ln_bf_err)}; wrong sign {result.wrong_sign.ln_bf:.2f}")
     for item in result.dropped:
         print(f"left out {item['label']}: {item['reason']}")
     print("a Bayes factor is evidence under the stated models and noise assumptions, not a detection claim")

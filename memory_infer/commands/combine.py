@@ -38,20 +38,20 @@ def run(args) -> int:
         pd.DataFrame(result.events + result.controls).to_csv(temporary, index=False)
     write_text(os.path.join(args.outdir, "report.html"), page)
     c = result.consistent_sign
-    print(f"{catalog_size(result.n_events)}: consistent-sign ln BF = {number(c['ln_bf'], c['ln_bf_err'])}; "
-          f"wrong sign {result.wrong_sign['ln_bf']:.2f}; sign-agnostic {result.sign_agnostic['ln_bf']:.2f}; "
-          f"shared unknown sign {result.shared_unknown_sign['ln_bf']:.2f}")
-    spread = (result.population or {}).get("gaussian")
+    print(f"{catalog_size(result.n_events)}: consistent-sign ln BF = {number(c.ln_bf, c.ln_bf_err)}; "
+          f"wrong sign {result.wrong_sign.ln_bf:.2f}; sign-agnostic {result.sign_agnostic.ln_bf:.2f}; "
+          f"shared unknown sign {result.shared_unknown_sign.ln_bf:.2f}")
+    spread = result.population.model("gaussian")
     if spread:
-        print(f"amplitude spread: sigma {spread['sigma']['median']:.2f} [{spread['sigma']['lower_90']:.2f}, "
-              f"{spread['sigma']['upper_90']:.2f}] (90%); ln BF against one shared amplitude "
-              f"{number(spread['ln_bf_vs_shared'], spread['ln_bf_vs_shared_err'])}")
+        sigma = spread.summary("sigma")
+        print(f"amplitude spread: sigma {sigma.median:.2f} [{sigma.lower_90:.2f}, {sigma.upper_90:.2f}] (90%); ln BF "
+              f"against one shared amplitude {number(spread.ln_bf_vs_shared, spread.ln_bf_vs_shared_err)}")
     for item in result.dropped:
         print(f"dropped {item['label']}: {item['reason']}")
     for item in result.controls:
         print(f"control {item['label']} ({item['control']}): kept out of the sums")
-    for label in (result.consistency or {}).get("in_tension", []):
+    for label in result.consistency.in_tension or []:
         print(f"warning: {label} is in tension with the rest of the catalog (leave-one-out p = "
-              f"{result.consistency['events'][label]['p_value']:.2g})")
+              f"{result.consistency.events[label].p_value:.2g})")
     print(f"wrote {args.outdir}/catalog.json, events.csv and report.html")
     return 0

@@ -221,13 +221,13 @@ def index_page(outdir, labels) -> str:
     rows = []
     for label in labels:
         result = EventResult.load(os.path.join(outdir, "events", label, EventResult.FILE))
-        headline = result.headline or {}
-        sign = result.sign
-        rows.append((label, number(headline.get("ln_bf"), headline.get("ln_bf_err"), 3),
-                     number(headline.get("ln_bf_minus"), headline.get("ln_bf_minus_err"), 3),
+        headline, sign = result.headline, result.sign  # a demo's own fresh files: every key written
+        rows.append((label, number(*((None, None) if headline is None else (headline.ln_bf, headline.ln_bf_err)), 3),
+                     number(*((None, None) if headline is None else (headline.ln_bf_minus, headline.ln_bf_minus_err)),
+                            3),
                      "—" if sign is None else number(sign.ln_bf_sign, sign.ln_bf_sign_err, 3),
-                     headline.get("method", "no usable estimate"),
-                     "—" if not result.memory_snr else f"{result.memory_snr['value']:.2f}",
+                     "no usable estimate" if headline is None else headline.method,
+                     "—" if not result.memory_snr else f"{result.memory_snr.value:.2f}",
                      link(f"events/{label}/report.html", "report"),
                      f"control, kept out of the catalog's sums: {result.control}" if result.control else ""))
     links = "".join(f"<li><a href='{html.escape(target)}'>{html.escape(name)}</a></li>" for name, target in

@@ -44,11 +44,11 @@ def run(args) -> int:
     write_text(os.path.join(args.outdir, "report.html"), page)
     headline = result.headline
     if headline:
-        print(f"{result.event}: ln BF (memory vs none) = {number(headline['ln_bf'], headline['ln_bf_err'], 3)} "
-              f"by {headline['method']}")
-        check = headline.get("cross_check")
+        print(f"{result.event}: ln BF (memory vs none) = {number(headline.ln_bf, headline.ln_bf_err, 3)} "
+              f"by {headline.method}")
+        check = headline.cross_check
         if check:
-            print(f"  cross-check: {number(check['ln_bf'], check['ln_bf_err'], 3)} by {check['method']}")
+            print(f"  cross-check: {number(check.ln_bf, check.ln_bf_err, 3)} by {check.method}")
     for warning in result.warnings:
         print(f"warning: {warning}")
     print(f"wrote {os.path.join(args.outdir, EventResult.FILE)} and {os.path.join(args.outdir, 'report.html')}")

@@ -1,5 +1,6 @@
 """Run configurations: TOML read with the standard library, checked key by key against a schema, then typed as
-settings (:mod:`.settings`, whose dataclasses hold every default once).
+settings (:mod:`.settings`, whose dataclasses hold each setting's default once; its docstring names those kept
+elsewhere).
 
 Every problem is one sentence naming the section and key; unknown keys are errors (a typo must
 not silently fall back to a default).
@@ -115,11 +116,6 @@ def apply_schema(raw: dict, schema: dict, source: str) -> dict:
     return config
 
 
-def load_evidence_config(path: str) -> dict:
-    """The per-event configuration with defaults filled in and checked."""
-    return evidence_config(load_toml(path), os.path.basename(path))
-
-
 def load_evidence_settings(path: str) -> AnalysisSettings:
     """The per-event settings from a TOML file: checked, then typed (relative paths are taken from its folder)."""
     raw = load_toml(path)
@@ -205,9 +201,3 @@ def check_calibration(settings: dict) -> None:
         raise MemoryInferError("key 'correction_type' in [calibration] must be 'data' or 'template'")
     if settings["kind"] == "envelope" and not settings["envelope_files"]:
         raise MemoryInferError("[calibration] of kind 'envelope' needs envelope_files = { DETECTOR = \"file\" }")
-
-
-def amplitude_grid(config: dict):
-    """The evidence grid of A, always holding -1, 0 and 1 exactly."""
-    low, high, points = config["evidence"]["amplitude_grid"]
-    return grid_with_hypotheses(low, high, points)

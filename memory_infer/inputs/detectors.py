@@ -156,10 +156,6 @@ def network_detectors(name: str, minimum_frequency: float, maximum_frequency: fl
                                 minimum_frequency, maximum_frequency)
 
 
-def network_names():
-    return list(NETWORKS)
-
-
 def network(name: str):
     if name not in NETWORKS:
         raise MemoryInferError(f"unknown network '{name}'; choose one of {', '.join(NETWORKS)}")

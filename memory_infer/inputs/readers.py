@@ -8,6 +8,7 @@ import os
 import numpy as np
 
 from ..common.errors import MemoryInferError
+from .release_layout import PLACES, PSDS, SAMPLES
 
 logger = logging.getLogger("memory_infer")
 
@@ -177,18 +178,11 @@ def welch_psd(path: str, sampling_rate: float, segment: float, overlap: float, c
 
 # ---------------------------------------------------------------- catalog posterior releases
 
-RELEASE_SAMPLES = "posterior_samples"
-RELEASE_REFERENCE = ("meta_data/meta_data/f_ref", "meta_data/f_ref", "config_file/config/reference-frequency",
-                     "config_file/config/reference_frequency", "config_file/engine/fref")
-RELEASE_MODEL = ("approximant", "meta_data/meta_data/approximant", "config_file/config/waveform-approximant",
-                 "config_file/config/waveform_approximant", "config_file/engine/approx")
-
-
 def release_analyses(handle) -> list:
     """The analyses of a catalog release file: top-level groups holding a ``posterior_samples`` table."""
     import h5py
 
-    return [name for name, node in handle.items() if isinstance(node, h5py.Group) and RELEASE_SAMPLES in node]
+    return [name for name, node in handle.items() if isinstance(node, h5py.Group) and SAMPLES in node]
 
 
 def is_release(path: str) -> bool:
@@ -230,7 +224,7 @@ def analysis_model(group) -> str | None:
     """The waveform model an analysis group names (None when it names none)."""
     import h5py
 
-    for place in RELEASE_MODEL:
+    for place in PLACES["waveform_model"]:
         if place in group and isinstance(group[place], h5py.Dataset):
             value = _scalar_text(group[place][()])
             if isinstance(value, str) and value:
@@ -297,23 +291,23 @@ def read_release(path: str, analysis: str | None = None) -> dict:
     try:
         with h5py.File(path, "r") as handle:
             group, analysis = _release_group(handle, name, analysis)
-            table = group[RELEASE_SAMPLES]
+            table = group[SAMPLES]
             if isinstance(table, h5py.Dataset) and table.dtype.names:
                 data = table[()]
                 frame = pd.DataFrame({field: np.asarray(data[field]) for field in table.dtype.names})
             elif isinstance(table, h5py.Group):
                 frame = pd.DataFrame({k: np.asarray(v[()]) for k, v in table.items() if isinstance(v, h5py.Dataset)})
             else:
-                _fail(f"catalog release '{name}': {analysis}/{RELEASE_SAMPLES} is not a table of named columns")
+                _fail(f"catalog release '{name}': {analysis}/{SAMPLES} is not a table of named columns")
             psds = {}
-            if isinstance(group.get("psds"), h5py.Group):
-                for detector, dataset in group["psds"].items():
+            if isinstance(group.get(PSDS), h5py.Group):
+                for detector, dataset in group[PSDS].items():
                     values = np.asarray(dataset[()], dtype=float)
                     if values.ndim == 2 and values.shape[1] == 2:
                         psds[detector] = values
             found = {}
-            for key, places in (("reference_frequency", RELEASE_REFERENCE), ("waveform_model", RELEASE_MODEL)):
-                for place in places:
+            for key in ("reference_frequency", "waveform_model"):
+                for place in PLACES[key]:
                     if place in group and isinstance(group[place], h5py.Dataset):
                         value = _scalar_text(group[place][()])
                         if value is not None:

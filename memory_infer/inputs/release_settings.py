@@ -12,33 +12,12 @@ import numpy as np
 
 from ..common.errors import MemoryInferError
 from .readers import _release_group, _scalar_text
+from .release_layout import CALIBRATION_ENVELOPES, PLACES, SAMPLES
+from .settings import DEFAULT_POST_TRIGGER
 
-CONFIG = "config_file/config/"
-META = "meta_data/meta_data/"
-# setting -> places in one analysis group, first found wins
-PLACES = {
-    "trigger_time": (CONFIG + "trigger-time", CONFIG + "trigger_time", META + "trigger_time"),
-    "duration": (CONFIG + "duration", META + "duration"),
-    "post_trigger_duration": (CONFIG + "post-trigger-duration", CONFIG + "post_trigger_duration"),
-    "sampling_rate": (CONFIG + "sampling-frequency", CONFIG + "sampling_frequency", META + "sampling_frequency"),
-    "minimum_frequency": (CONFIG + "minimum-frequency", CONFIG + "minimum_frequency", META + "f_low"),
-    "maximum_frequency": (CONFIG + "maximum-frequency", CONFIG + "maximum_frequency", META + "f_final"),
-    "reference_frequency": (META + "f_ref", CONFIG + "reference-frequency", CONFIG + "reference_frequency"),
-    "waveform_model": ("approximant", META + "approximant", CONFIG + "waveform-approximant",
-                       CONFIG + "waveform_approximant"),
-    "detectors": (CONFIG + "detectors",),
-    "tukey_roll_off": (CONFIG + "tukey-roll-off", CONFIG + "tukey_roll_off"),
-    "resampling_method": (CONFIG + "resampling-method", CONFIG + "resampling_method"),
-    "mode_array": (CONFIG + "mode-array", CONFIG + "mode_array"),
-    "waveform_arguments": (CONFIG + "waveform-arguments-dict", CONFIG + "waveform_arguments_dict"),
-    "distance_marginalization": (CONFIG + "distance-marginalization", CONFIG + "distance_marginalization"),
-    "time_marginalization": (CONFIG + "time-marginalization", CONFIG + "time_marginalization"),
-    "phase_marginalization": (CONFIG + "phase-marginalization", CONFIG + "phase_marginalization"),
-}
 MARGINALIZATIONS = ("distance_marginalization", "time_marginalization", "phase_marginalization")
 TEXT_SETTINGS = ("waveform_model", "mode_array", "waveform_arguments", "resampling_method", *MARGINALIZATIONS)
 EMPTY_TEXT = ("", "none", "None", "{}", "[]")
-DEFAULT_POST_TRIGGER = 2.0  # s, the usual post-trigger duration when the release does not give one
 ORIGIN_USER = "configuration"
 
 
@@ -101,14 +80,14 @@ def read_release_settings(path: str, analysis: str | None = None) -> dict:
                         if value is not None:
                             found[setting] = (value, f"{name}: {analysis}/{place}")
                             break
-            envelopes = group.get("calibration_envelope")
+            envelopes = group.get(CALIBRATION_ENVELOPES)
             if isinstance(envelopes, h5py.Group):
                 tables = {det: np.asarray(data[()], float) for det, data in envelopes.items()
                           if isinstance(data, h5py.Dataset) and np.ndim(data) == 2 and data.shape[1] == 7}
                 if tables:
-                    found["calibration_envelopes"] = (tables, f"{name}: {analysis}/calibration_envelope")
-            if "trigger_time" not in found and "posterior_samples" in group:
-                table = group["posterior_samples"]
+                    found["calibration_envelopes"] = (tables, f"{name}: {analysis}/{CALIBRATION_ENVELOPES}")
+            if "trigger_time" not in found and SAMPLES in group:
+                table = group[SAMPLES]
                 if table.dtype.names and "geocent_time" in table.dtype.names:
                     found["trigger_time"] = (float(np.median(table["geocent_time"])),
                                              f"{name}: median geocent_time of {analysis}'s samples")

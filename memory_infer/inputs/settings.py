@@ -1,7 +1,11 @@
 """Typed settings: each section of a run's configuration as a frozen dataclass, built once from the checked TOML
-mapping (:mod:`.config` checks it key by key). Every default is defined here, once; the code below the inputs
-stage takes these objects, never the mapping. A changed value is a new object (:func:`dataclasses.replace`),
-with its origin recorded in ``origins`` or the model's ``*_from`` fields.
+mapping (:mod:`.config` checks it key by key). Every default of a setting is defined here, once, except the
+waveform stage's own: the approximant, band edge and reference frequency come from :mod:`memory_infer.waveform.models`,
+and ``ModelSettings.memory_taper`` repeats ``waveform.source.DEFAULT_TAPER_DURATION`` (a test compares them). Not
+settings, and defined where they are used: the source parameters fixed at zero when absent
+(``inputs.checks.ZERO_DEFAULTS``) and a catalog run's own methods (``inputs.catalog_config.BUILT_IN_DEFAULTS``).
+The code below the inputs stage takes these objects, never the mapping. A changed value is a new object
+(:func:`dataclasses.replace`), with its origin recorded in ``origins`` or the model's ``*_from`` fields.
 """
 from __future__ import annotations
 
@@ -12,6 +16,7 @@ from ..waveform.models import DEFAULT_APPROXIMANT, DEFAULT_MINIMUM_FREQUENCY, DE
 
 FREE_AMPLITUDE_LIMITS = (-5.0, 5.0)  # the uniform prior of A when it is free
 AMPLITUDE_GRID = (-4.0, 4.0, 81)  # the A curve's grid: lowest, highest, points (-1, 0, 1 are always added)
+DEFAULT_POST_TRIGGER = 2.0  # s after the trigger that a segment read from a release ends, when the release omits it
 
 
 @dataclass(frozen=True)

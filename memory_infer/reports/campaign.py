@@ -7,7 +7,9 @@ import os
 
 import numpy as np
 
+from ..results.base import ABSENT
 from ..results.campaign import CampaignSummary
+from ..results.campaign_blocks import Forecast
 from .html import figure_to_html, new_figure, number, page, table
 
 
@@ -19,14 +21,14 @@ def _distribution_figure(values, key):
     return figure_to_html(fig, "ln BF distribution")
 
 
-def _cumulative_figure(summary):
+def _cumulative_figure(summary, forecast: Forecast):
     fig, axis = new_figure(figsize=(7, 3.8))
     bands = summary["cumulative"]
     threshold = summary["events_to_threshold"]
     axis.fill_between(bands["events"], bands["lower_90"], bands["upper_90"], color="C3", alpha=0.25,
                       label="90% of simulated catalogs (population and noise)")
     axis.plot(bands["events"], bands["median"], color="C3", label="median")
-    known = summary.get("forecast", {}).get("known_sign", {}).get("mean")
+    known = forecast.known_sign.mean if forecast.known_sign else None
     if known:
         events = np.asarray(bands["events"], dtype=float)
         axis.plot(events, known * events, color="0.4", ls=":", label="known-sign bound (mean ρ²/2 per event)")
@@ -78,11 +80,17 @@ def count_text(value) -> str:
     return "not reached" if value is None else f"{value:.0f}"
 
 
-def range_text(found: dict) -> str:
+def _field(found, name: str):
+    """One number of a mapping (events to the threshold) or of a typed block (None where not written)."""
+    value = found.get(name) if isinstance(found, dict) else getattr(found, name, None)
+    return None if value is ABSENT else value
+
+
+def range_text(found) -> str:
     def one(name):
-        error = found.get(f"{name}_err")
-        text = count_text(found.get(name))
-        return text if error is None or found.get(name) is None else f"{text} ± {error:.0f}"
+        error = _field(found, f"{name}_err")
+        text = count_text(_field(found, name))
+        return text if error is None or _field(found, name) is None else f"{text} ± {error:.0f}"
 
     return f"{one('median')} ({one('lower_90')} to {one('upper_90')})"
 
@@ -97,36 +105,37 @@ FORECAST_ESTIMATOR = (
     "(2, ±2) degeneracy hides). The known-sign bound ρ²/2 is never negative.")
 
 
-def forecast_note(summary) -> str:
+def forecast_note(forecast: Forecast) -> str:
     """The forecast estimator in words, with how often it is negative here when the summary shows it."""
-    expected = (summary.get("forecast") or {}).get("expected") or {}
+    lower = _field(forecast.expected, "lower_90") if forecast.expected else None
     text = f"<p>{html.escape(FORECAST_ESTIMATOR)}</p>"
-    if expected.get("lower_90") is not None and expected["lower_90"] < 0:
+    if lower is not None and lower < 0:
         text += ("<p>In this campaign at least 5% of the detected injections have a negative expected ln BF₊ "
-                 f"(5% quantile {expected['lower_90']:.3g}).</p>")
+                 f"(5% quantile {lower:.3g}).</p>")
     return text
 
 
-def _forecast_rows(summary):
-    forecast = summary.get("forecast") or {}
+def _forecast_rows(summary, forecast: Forecast):
     threshold = summary["events_to_threshold"]
     rows = []
     if forecast:
-        expected, known, zero = forecast["expected"], forecast["known_sign"], forecast["zero_noise"]
-        rows += [("expected ln BF₊ per detected event (over noise)", number(expected["mean"], expected.get("mean_err"), 5)),
-                 ("known-sign bound per event (mean ρ²/2)", number(known["mean"], known.get("mean_err"), 5)),
-                 ("zero-noise value per event (diagnostic, not an expectation)", number(zero["mean"], zero.get("mean_err"), 5)),
-                 ("spread of one event's ln BF₊ over noise (mean)", number(forecast["spread"]["mean"], None, 4))]
+        expected, known, zero = forecast.expected, forecast.known_sign, forecast.zero_noise
+        rows += [("expected ln BF₊ per detected event (over noise)",
+                  number(expected.mean, _field(expected, "mean_err"), 5)),
+                 ("known-sign bound per event (mean ρ²/2)", number(known.mean, _field(known, "mean_err"), 5)),
+                 ("zero-noise value per event (diagnostic, not an expectation)",
+                  number(zero.mean, _field(zero, "mean_err"), 5)),
+                 ("spread of one event's ln BF₊ over noise (mean)", number(forecast.spread.mean, None, 4))]
     rows.append((f"events to ln BF = {threshold['threshold']:g} with noise scatter: median (90%), ± Monte-Carlo error",
                  f"{range_text(threshold)}; catalogs simulated out to {count_text(threshold.get('horizon'))} events"))
-    spread = forecast.get("events_to_bound_spread") if forecast else None
-    if spread and spread.get("median") is not None:
-        rows.append((f"events to bound the amplitudes' spread σ below {spread['bound']:g} (90%), all events GR",
-                     f"{range_text(spread)}; {spread['method']}"))
+    spread = forecast.events_to_bound_spread if forecast else None
+    if spread and _field(spread, "median") is not None:
+        rows.append((f"events to bound the amplitudes' spread σ below {spread.bound:g} (90%), all events GR",
+                     f"{range_text(spread)}; {spread.method}"))
     if forecast:
-        rows += [(f"events to ln BF = {threshold['threshold']:g} from the mean alone", range_text(forecast["events_from_mean"])),
+        rows += [(f"events to ln BF = {threshold['threshold']:g} from the mean alone", range_text(forecast.events_from_mean)),
                  (f"events to ln BF = {threshold['threshold']:g} at the known-sign bound",
-                  range_text(forecast["events_known_sign"]))]
+                  range_text(forecast.events_known_sign))]
     return rows
 
 
@@ -158,7 +167,7 @@ def campaign_page(result: CampaignSummary) -> str:
     ln_bf, pp, calibration = summary["ln_bf"], summary["pp"], summary["calibration"]
     rows = [("injections", summary["n_injections"]), ("failed", summary["n_failed"]),
             ("detected (network SNR ≥ %g)" % summary["detection_snr"], summary["n_detected"])]
-    rows += _forecast_rows(summary)
+    rows += _forecast_rows(summary, result.forecast)
     rows += [("PP test of A (KS p-value)", f"{pp['ks_pvalue']:.3f} over {pp['count']} ({pp['method']})"
               if pp["ks_pvalue"] is not None else pp["method"]),
              ("fast against full", "no injection has a full recovery" if not calibration["count"] else
@@ -173,9 +182,9 @@ def campaign_page(result: CampaignSummary) -> str:
         sections = []
     sections += [("Summary", notes + table(["quantity", "value"], rows)
                  + f"<p>Events to the threshold: {html.escape(method)}.</p>"
-                 + (forecast_note(summary) if summary.get("forecast") else ""))]
+                 + (forecast_note(result.forecast) if result.forecast else ""))]
     if summary["cumulative"]["events"]:
-        sections.append(("Catalog ln BF against catalog size", _cumulative_figure(summary)))
+        sections.append(("Catalog ln BF against catalog size", _cumulative_figure(summary, result.forecast)))
     if summary["ln_bf_values"]:
         sections.append(("ln BF on each injection's simulated data",
                          f"<p>{html.escape(ln_bf.get('note', 'ln BF+ per detected injection'))}; mean {number(ln_bf['mean'], ln_bf.get('mean_err'), 4)}, "

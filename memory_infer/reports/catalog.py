@@ -5,7 +5,9 @@ import html
 
 import numpy as np
 
+from ..results.base import ABSENT
 from ..results.catalog import CatalogResult
+from ..results.catalog_blocks import Consistency, ExpectedVersusObserved
 from ..results.estimates import normalized_density
 from .html import figure_to_html, new_figure, number, page, table
 from .population import population_text
@@ -51,15 +53,16 @@ def contributions_figure(result) -> str:
 def amplitude_figure(result) -> str:
     amplitude = result.amplitude
     fig, axis = new_figure(figsize=(7, 3.6))
-    if amplitude.get("grid"):
-        grid = np.asarray(amplitude["grid"])
-        for label, curve in amplitude["event_curves"].items():
+    if amplitude.grid:
+        grid = np.asarray(amplitude.grid)
+        for label, curve in amplitude.event_curves.items():
             axis.plot(grid, normalized_density(grid, curve), lw=0.8, alpha=0.6, label=label)
-        axis.plot(grid, np.exp(amplitude["ln_density"]), color="k", lw=2, label="catalog")
+        axis.plot(grid, np.exp(amplitude.ln_density), color="k", lw=2, label="catalog")
         axis.axvline(1.0, color="k", ls="--", lw=0.8, label="general relativity (A = 1)")
         axis.legend(fontsize=8, ncol=2)
     else:
-        axis.text(0.5, 0.5, amplitude.get("note", "no amplitude curves"), transform=axis.transAxes, ha="center")
+        note = "no amplitude curves" if amplitude.note is ABSENT else amplitude.note
+        axis.text(0.5, 0.5, note, transform=axis.transAxes, ha="center")
     axis.set_xlabel("shared memory amplitude A (dimensionless; 1 = general relativity)")
     axis.set_ylabel("posterior density [per unit A]")
     return figure_to_html(fig, "catalog amplitude posterior")
@@ -81,23 +84,24 @@ def departure_text(entry: dict) -> str:
 
 def catalog_page(result: CatalogResult) -> str:
     """The catalog report, drawn from a :class:`CatalogResult` alone."""
-    sums = [(name.replace("_", " "), getattr(result, name)["formula"],
-             number(getattr(result, name)["ln_bf"], getattr(result, name)["ln_bf_err"]))
+    sums = [(name.replace("_", " "), getattr(result, name).formula,
+             number(getattr(result, name).ln_bf, getattr(result, name).ln_bf_err))
             for name in ("consistent_sign", "wrong_sign", "sign_agnostic", "shared_unknown_sign")
             if getattr(result, name)]
     amplitude = result.amplitude
-    amp = ("<p>no amplitude curves</p>" if amplitude["median"] is None else
-           f"<p>median {number(amplitude['median'], amplitude['median_err'])}, 90% interval "
-           f"[{amplitude['lower_90']:.2f}, {amplitude['upper_90']:.2f}], posterior/prior density at A = 0: "
-           f"{amplitude['density_ratio_at_zero']:.3g}, at A = 1: {amplitude['density_ratio_at_one']:.3g} "
-           f"({amplitude['events']} events; {amplitude['prior']}; {amplitude['method']})</p>"
-           + "".join(f"<p>{html.escape(amplitude[k])}.</p>" for k in ("prior_note", "density_ratio_note")
-                     if amplitude.get(k))
-           + "".join(f"<p class='warn'>{html.escape(f['label'])}: fewer than "
-                     f"{amplitude['effective_samples']['threshold']:g} effective samples for A from "
-                     f"{f['below_threshold_from']:.2f} to {f['below_threshold_to']:.2f} (fewest {f['fewest']:.1f})"
-                     f"{'; inside the catalog 90% interval' if f['inside_catalog_90'] else ''}.</p>"
-                     for f in (amplitude.get("effective_samples") or {}).get("flagged", [])))
+    check = amplitude.effective_samples
+    amp = ("<p>no amplitude curves</p>" if amplitude.median is None else
+           f"<p>median {number(amplitude.median, amplitude.median_err)}, 90% interval "
+           f"[{amplitude.lower_90:.2f}, {amplitude.upper_90:.2f}], posterior/prior density at A = 0: "
+           f"{amplitude.density_ratio_at_zero:.3g}, at A = 1: {amplitude.density_ratio_at_one:.3g} "
+           f"({amplitude.events} events; {amplitude.prior}; {amplitude.method})</p>"
+           + "".join(f"<p>{html.escape(note)}.</p>" for note in (amplitude.prior_note, amplitude.density_ratio_note)
+                     if note)
+           + "".join(f"<p class='warn'>{html.escape(f.label)}: fewer than "
+                     f"{check.threshold:g} effective samples for A from "
+                     f"{f.below_threshold_from:.2f} to {f.below_threshold_to:.2f} (fewest {f.fewest:.1f})"
+                     f"{'; inside the catalog 90% interval' if f.inside_catalog_90 else ''}.</p>"
+                     for f in (check.flagged if check else [])))
     rows = [(e["label"], number(e["ln_bf_plus"], e["ln_bf_plus_err"]), number(e["ln_bf_minus"], e["ln_bf_minus_err"]),
              e["method"], samples_text(e), departure_text(e), "yes" if e["included"] else "no", e["reason"])
             for e in result.events]
@@ -125,40 +129,40 @@ def catalog_size(count: int) -> str:
     return f"catalog of {count} event" + ("" if count == 1 else "s")
 
 
-def expected_text(versus: dict) -> str:
+def expected_text(versus: ExpectedVersusObserved) -> str:
     """The consistent-sign sum against its expectation under GR memory, with the spread of that expectation."""
-    if versus.get("expected_ln_bf_plus") is None:
-        return (f"<p>observed Σ ln BF₊ = {versus['observed_ln_bf_plus']:.2f}; no event has a memory SNR, so "
+    if versus.expected_ln_bf_plus is None or versus.expected_ln_bf_plus is ABSENT:
+        return (f"<p>observed Σ ln BF₊ = {versus.observed_ln_bf_plus:.2f}; no event has a memory SNR, so "
                 "there is no expectation to compare with.</p>")
-    if "expected_spread" not in versus:  # a catalog.json written before the spread was recorded
-        return (f"<p>expected Σ ρ²/2 = {versus['expected_ln_bf_plus']:.2f} (spread not recorded), observed "
-                f"Σ ln BF₊ = {versus['observed_ln_bf_plus']:.2f} ({html.escape(versus['method'])})</p>")
-    deviation = versus["standard_deviations"]
-    text = (f"<p>Over the {versus['events_with_snr']} events with a memory SNR: expected under GR memory "
-            f"Σ ρ²/2 = {versus['expected_ln_bf_plus']:.2f} ± {versus['expected_spread']:.2f} (mean ± standard "
-            f"deviation of the sum); without memory {versus['expected_without_memory']:.2f} ± "
-            f"{versus['expected_spread']:.2f}; observed Σ ln BF₊ = "
-            f"{number(versus['observed_ln_bf_plus'], versus['observed_err'])}"
+    if versus.expected_spread is ABSENT:  # a catalog.json written before the spread was recorded
+        return (f"<p>expected Σ ρ²/2 = {versus.expected_ln_bf_plus:.2f} (spread not recorded), observed "
+                f"Σ ln BF₊ = {versus.observed_ln_bf_plus:.2f} ({html.escape(versus.method)})</p>")
+    deviation = versus.standard_deviations
+    text = (f"<p>Over the {versus.events_with_snr} events with a memory SNR: expected under GR memory "
+            f"Σ ρ²/2 = {versus.expected_ln_bf_plus:.2f} ± {versus.expected_spread:.2f} (mean ± standard "
+            f"deviation of the sum); without memory {versus.expected_without_memory:.2f} ± "
+            f"{versus.expected_spread:.2f}; observed Σ ln BF₊ = "
+            f"{number(versus.observed_ln_bf_plus, versus.observed_err)}"
             f" (Monte-Carlo error), {deviation:+.1f} standard deviations from the GR expectation (two-sided p = "
-            f"{versus['p_value']:.2g}).</p><p>{html.escape(versus['method'])}.</p>")
-    if versus["p_value"] < 0.01:
+            f"{versus.p_value:.2g}).</p><p>{html.escape(versus.method)}.</p>")
+    if versus.p_value < 0.01:
         text += ("<p class='warn'>The observed sum is far from what GR memory predicts for these events: check "
                  "the events below for tension, the noise model, and the reference points of the memory SNRs.</p>")
     return text
 
 
-def consistency_text(consistency: dict) -> str:
+def consistency_text(consistency: Consistency) -> str:
     """Each event's leave-one-out p-value against the rest of the catalog, with a warning for events in tension."""
-    if not consistency or not consistency.get("events"):
-        return f"<p>{html.escape((consistency or {}).get('note') or 'not computed')}.</p>"
-    rows = [(label, f"{v['median']:.2f}", f"{v['rest_median']:.2f}", f"{v['probability_above_rest']:.3f}",
-             f"{v['p_value']:.2g}", "yes" if label in consistency["in_tension"] else "no")
-            for label, v in consistency["events"].items()]
+    if not consistency.events:
+        return f"<p>{html.escape(consistency.note or 'not computed')}.</p>"
+    rows = [(label, f"{v.median:.2f}", f"{v.rest_median:.2f}", f"{v.probability_above_rest:.3f}",
+             f"{v.p_value:.2g}", "yes" if label in consistency.in_tension else "no")
+            for label, v in consistency.events.items()]
     text = table(["event", "median A (event alone)", "median A (all other events)", "Pr(A_event > A_rest)",
-                  "p-value", "in tension"], rows) + f"<p>{html.escape(consistency['method'])}.</p>"
-    if consistency["in_tension"]:
-        text += (f"<p class='warn'>In tension with the rest of the catalog (p below {consistency['level']:.2g}): "
-                 f"{html.escape(', '.join(consistency['in_tension']))}. A shared amplitude may not describe these "
+                  "p-value", "in tension"], rows) + f"<p>{html.escape(consistency.method)}.</p>"
+    if consistency.in_tension:
+        text += (f"<p class='warn'>In tension with the rest of the catalog (p below {consistency.level:.2g}): "
+                 f"{html.escape(', '.join(consistency.in_tension))}. A shared amplitude may not describe these "
                  "events together; the shared-A posterior above sits between disagreeing events and should not be "
                  "read as a measurement until the tension is understood (noise artefact, waveform systematics, "
                  "a mislabelled control).</p>")

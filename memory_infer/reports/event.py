@@ -7,6 +7,7 @@ import numpy as np
 
 from ..inference import methods as registered_methods  # noqa: F401 - importing it describes each method's family
 from ..inputs.settings import FREE_AMPLITUDE_LIMITS
+from ..results.base import ABSENT
 from ..results.estimates import normalized_density
 from ..results.event import EventResult
 from ..results.methods import description_of, family_of
@@ -139,12 +140,17 @@ def _sample_check_html(check: dict) -> str:
     return text
 
 
+def _given(value):
+    """A block's value, None where its file did not hold the key."""
+    return None if value is ABSENT else value
+
+
 def _cross_check_text(check) -> str:
     if not check:
         return "<p>Cross-check: no second estimate with an error.</p>"
-    size = check.get("difference_in_errors")
-    return (f"<p>Cross-check: {number(check['ln_bf'], check['ln_bf_err'])} by {html.escape(check['method'])}; "
-            f"difference {check['difference']:+.3g}"
+    size = check.difference_in_errors
+    return (f"<p>Cross-check: {number(check.ln_bf, check.ln_bf_err)} by {html.escape(check.method)}; "
+            f"difference {check.difference:+.3g}"
             + ("" if size is None else f" ({size:+.1f} combined standard errors)") + ".</p>")
 
 
@@ -211,13 +217,13 @@ def event_page(result: EventResult) -> str:
     sections = [("Bayes factors", table(["method", "hypotheses", "ln BF ± error", "effective samples", "usable", "note"], rows))]
     headline = result.headline
     if headline:
-        minus = ("" if headline.get("ln_bf_minus") is None else
-                 f"; ln BF₋ (A = −1 vs 0) = {number(headline['ln_bf_minus'], headline.get('ln_bf_minus_err'))} "
+        minus = ("" if _given(headline.ln_bf_minus) is None else
+                 f"; ln BF₋ (A = −1 vs 0) = {number(headline.ln_bf_minus, _given(headline.ln_bf_minus_err))} "
                  "from the same samples")
         sections[0] = (sections[0][0], f"<p>Headline: ln BF₊ (memory, A = +1 vs 0) = "
-                       f"<b>{number(headline['ln_bf'], headline['ln_bf_err'])}</b> by {html.escape(headline['method'])}"
-                       f"{minus}. Rule: {html.escape(headline['rule'])}.</p>"
-                       + _cross_check_text(headline.get("cross_check")) + sections[0][1])
+                       f"<b>{number(headline.ln_bf, headline.ln_bf_err)}</b> by {html.escape(headline.method)}"
+                       f"{minus}. Rule: {html.escape(headline.rule)}.</p>"
+                       + _cross_check_text(headline.cross_check) + sections[0][1])
     sign = result.sign
     if sign:
         undefined = _monte_carlo(family_of(sign.method))
@@ -232,8 +238,8 @@ def event_page(result: EventResult) -> str:
     snr = result.memory_snr
     if snr:
         injected = (result.injection or {}).get("memory_amplitude") if result.injection else None
-        sections.append(("Memory signal-to-noise ratio", f"<p>{snr['value']:.3f} at {html.escape(snr['point'])}; "
-                         f"{html.escape(snr['method'])}. {expected_ln_bf_text(snr['value'], injected)}</p>"))
+        sections.append(("Memory signal-to-noise ratio", f"<p>{snr.value:.3f} at {html.escape(snr.point)}; "
+                         f"{html.escape(snr.method)}. {expected_ln_bf_text(snr.value, injected)}</p>"))
     if result.injection:
         sections.append(("Injection (simulated data)", injection_text(result)))
     free = result.free_amplitude
@@ -259,7 +265,7 @@ def event_page(result: EventResult) -> str:
         sections.append(("Warnings", "".join(f"<p class='warn'>{html.escape(w)}</p>" for w in result.warnings)))
     figures = result.figures
     if figures.get("whitened"):
-        sections.append((f"Whitened data and model at {snr['point'] if snr else 'the reference point'}",
+        sections.append((f"Whitened data and model at {snr.point if snr else 'the reference point'}",
                          whitened_figure(figures["whitened"])))
     if figures.get("spectrum"):
         sections.append(("Memory spectrum against each detector's noise", memory_spectrum_figure(figures["spectrum"])))

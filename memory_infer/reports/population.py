@@ -6,6 +6,7 @@ import html
 
 import numpy as np
 
+from ..results.population import ParameterSummary, PopulationModels, SpreadFigure
 from .html import figure_to_html, new_figure, number, table
 
 CAUTION = ("A spread found in real data points first to waveform systematics (a memory model that errs by an "
@@ -13,30 +14,27 @@ CAUTION = ("A spread found in real data points first to waveform systematics (a 
            "poorly converged event curve, and only after those are excluded to new physics.")
 
 
-def parameter_text(entry: dict, name: str, named: bool = True) -> str:
+def parameter_text(summary: ParameterSummary, name: str, named: bool = True) -> str:
     """``name median ± error [lower, upper]`` of one parameter's posterior."""
-    summary = entry[name]
-    return ((f"{name} " if named else "") + f"{number(summary['median'], summary.get('median_err'))} "
-            f"[{summary['lower_90']:.2f}, {summary['upper_90']:.2f}]")
+    return ((f"{name} " if named else "") + f"{number(summary.median, summary.median_err)} "
+            f"[{summary.lower_90:.2f}, {summary.upper_90:.2f}]")
 
 
-def models_table(population: dict) -> str:
+def models_table(population: PopulationModels) -> str:
     """One row per model: what it asks, its prior, ln BF against no memory and against the shared model."""
     rows = []
-    for name in population["models"]:
-        entry = population[name]
-        parameters = "; ".join(parameter_text(entry, p) for p in entry["parameters_names"]) or "none"
-        rows.append((entry["title"], entry["question"], entry["prior"], parameters,
-                     number(entry["ln_bf_vs_no_memory"], entry["ln_bf_vs_no_memory_err"]),
-                     number(entry["ln_bf_vs_shared"], entry["ln_bf_vs_shared_err"])))
+    for _, entry in population.entries:
+        parameters = "; ".join(parameter_text(entry.summary(p), p) for p in entry.parameters_names) or "none"
+        rows.append((entry.title, entry.question, entry.prior, parameters,
+                     number(entry.ln_bf_vs_no_memory, entry.ln_bf_vs_no_memory_err),
+                     number(entry.ln_bf_vs_shared, entry.ln_bf_vs_shared_err)))
     return table(["model", "what it asks", "prior", "parameters: median [90% interval]",
                   "ln BF against no memory", "ln BF against one shared amplitude"], rows)
 
 
-def spread_figure(spread: dict) -> str:
+def spread_figure(figure: SpreadFigure) -> str:
     """The joint posterior of (mu, sigma) as filled contours, with sigma = 0 (one shared amplitude) marked."""
-    figure = spread["figure"]
-    mu, sigma, density = np.asarray(figure["mu"]), np.asarray(figure["sigma"]), np.asarray(figure["density"])
+    mu, sigma, density = np.asarray(figure.mu), np.asarray(figure.sigma), np.asarray(figure.density)
     fig, axis = new_figure(figsize=(7, 3.8))
     axis.contourf(mu, sigma, density, levels=np.linspace(0, 1, 11)[1:], cmap="Blues", extend="neither")
     axis.axhline(0.0, color="C3", lw=2, label="one shared amplitude (σ = 0)")
@@ -48,23 +46,23 @@ def spread_figure(spread: dict) -> str:
     return figure_to_html(fig, "joint posterior of the mean and spread of the amplitudes")
 
 
-def population_text(population: dict) -> str:
+def population_text(population: PopulationModels) -> str:
     """The section on population models (a catalog.json written before them has none)."""
-    if not population or not population.get("models"):
-        return f"<p>{html.escape((population or {}).get('note') or 'not computed')}.</p>"
+    if not population.models:
+        return f"<p>{html.escape(population.note or 'not computed')}.</p>"
     text = (models_table(population) + f"<p>ln BF against no memory is ln Z of the model with every event's "
             f"amplitude at 0 as the alternative; against one shared amplitude it is the ratio of evidences "
-            f"(above 0 favours the model). {population['events']} events; "
-            f"{html.escape(population['method'])}.</p>")
-    if population.get("resolution_note"):
-        text += f"<p class='warn'>{html.escape(population['resolution_note'])}.</p>"
-    spread = population.get("gaussian")
+            f"(above 0 favours the model). {population.events} events; "
+            f"{html.escape(population.method)}.</p>")
+    if population.resolution_note:
+        text += f"<p class='warn'>{html.escape(population.resolution_note)}.</p>"
+    spread = population.model("gaussian")
     if spread:
-        sigma = spread["sigma"]
-        text += (f"<p>Spread model: μ = {parameter_text(spread, 'mu', False)}, "
-                 f"σ = {parameter_text(spread, 'sigma', False)} "
-                 f"(medians and equal-tailed 90% intervals), σ below {sigma['upper_bound_90']:.2f} at 90% "
-                 f"(σ uniform on [0, {spread['sigma_max']:g}]); σ = 0 is "
-                 f"{'inside' if sigma['zero_in_highest_density_90'] else 'outside'} the 90% highest-density "
-                 f"region.</p>" + spread_figure(spread))
+        sigma = spread.summary("sigma")
+        text += (f"<p>Spread model: μ = {parameter_text(spread.summary('mu'), 'mu', False)}, "
+                 f"σ = {parameter_text(sigma, 'sigma', False)} "
+                 f"(medians and equal-tailed 90% intervals), σ below {sigma.upper_bound_90:.2f} at 90% "
+                 f"(σ uniform on [0, {spread.sigma_max:g}]); σ = 0 is "
+                 f"{'inside' if sigma.zero_in_highest_density_90 else 'outside'} the 90% highest-density "
+                 f"region.</p>" + spread_figure(spread.figure))
     return text + f"<p class='warn'>{html.escape(CAUTION)}</p>"

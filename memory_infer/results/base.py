@@ -11,6 +11,66 @@ from ..common.writing import JSONEncoder, read_json, write_json
 SCHEMA_VERSION = 1
 
 
+class _Absent:
+    """The value of a block's field that its file did not hold (written back as no key at all, unlike None)."""
+
+    def __repr__(self):
+        return "ABSENT"
+
+    def __bool__(self):
+        return False
+
+    def __reduce__(self):
+        return "ABSENT"
+
+
+ABSENT = _Absent()
+
+
+class Block:
+    """Mixin for a typed part of a result (a frozen dataclass): ``to_dict`` writes its fields in their order,
+    leaving out those at :data:`ABSENT`, and ``from_dict`` reads them back, so a file's keys and their order are
+    kept. A key the block does not know is refused in one sentence (its field must be added first)."""
+
+    NESTED: ClassVar[dict] = {}
+
+    def __bool__(self):
+        """Whether the file held any of the block's keys (an empty block is written as ``{}``)."""
+        return any(getattr(self, item.name) is not ABSENT for item in dataclasses.fields(self))
+
+    def to_dict(self) -> dict:
+        return {item.name: _plain(value) for item in dataclasses.fields(self)
+                if (value := getattr(self, item.name)) is not ABSENT}
+
+    @classmethod
+    def from_dict(cls, data: dict):
+        if isinstance(data, cls):
+            return data
+        if not isinstance(data, dict):
+            raise MemoryInferError(f"a result's {cls.__name__} block is not a JSON object")
+        names = [item.name for item in dataclasses.fields(cls)]
+        unknown = [key for key in data if key not in names]
+        if unknown:
+            raise MemoryInferError(f"a result's {cls.__name__} block holds the unknown key '{unknown[0]}'")
+        values = {key: _nested(cls.NESTED.get(key), value) for key, value in data.items()}
+        try:
+            return cls(**values)
+        except TypeError as error:
+            raise MemoryInferError(f"a result's {cls.__name__} block lacks a required key ({error})") from None
+
+
+def _nested(kind, value):
+    """``value`` read into ``kind`` (a :class:`Block`; ``(list, Block)`` for a list of them, ``(dict, Block)`` for
+    a mapping of names to them) when given."""
+    if kind is None or value is None or value is ABSENT:
+        return value
+    if isinstance(kind, tuple) and kind[0] is dict:
+        return {key: kind[1].from_dict(item) for key, item in value.items()}
+    if isinstance(kind, tuple):
+        return [kind[1].from_dict(item) for item in value]
+    return kind.from_dict(value)
+
+
 class ResultFile:
     """Mixin for result dataclasses: ``to_json``/``from_json``, ``save``/``load``.
 
@@ -21,6 +81,15 @@ class ResultFile:
     KIND: ClassVar[str] = ""
     FILE: ClassVar[str] = ""
     NESTED: ClassVar[dict] = {}
+
+    def __setattr__(self, name, value):
+        """A typed block handed over as its JSON mapping (as the stage that computes it builds it), at construction
+        or later, is read into its :class:`Block` class."""
+        kind = type(self).NESTED.get(name)
+        block = kind[1] if isinstance(kind, tuple) else kind
+        if isinstance(block, type) and issubclass(block, Block):
+            value = _nested(kind, value)
+        object.__setattr__(self, name, value)
 
     def to_json(self) -> dict:
         out = {"schema": {"kind": self.KIND, "version": SCHEMA_VERSION}}
@@ -40,16 +109,8 @@ class ResultFile:
                                    "update memory_infer to read it")
         values = {}
         for item in dataclasses.fields(cls):
-            if item.name not in data:
-                continue
-            value = data[item.name]
-            kind = cls.NESTED.get(item.name)
-            if value is not None and kind is not None:
-                if isinstance(kind, tuple):
-                    value = [kind[1].from_dict(v) for v in value]
-                else:
-                    value = kind.from_dict(value)
-            values[item.name] = value
+            if item.name in data:
+                values[item.name] = _nested(cls.NESTED.get(item.name), data[item.name])
         try:
             return cls(**values)
         except TypeError as error:
@@ -69,6 +130,8 @@ class ResultFile:
 
 
 def _plain(value):
+    if isinstance(value, Block):
+        return value.to_dict()
     if dataclasses.is_dataclass(value):
         return {k: _plain(v) for k, v in dataclasses.asdict(value).items()}
     if isinstance(value, dict):

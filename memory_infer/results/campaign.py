@@ -4,6 +4,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from .base import ResultFile
+from .campaign_blocks import Forecast
 from .cautions import FORECAST
 
 
@@ -18,6 +19,7 @@ class CampaignSummary(ResultFile):
 
     KIND = "campaign"
     FILE = "campaign.json"
+    NESTED = {"forecast": Forecast}
 
     label: str
     n_injections: int
@@ -32,7 +34,7 @@ class CampaignSummary(ResultFile):
     calibration: dict
     failures: list = field(default_factory=list)
     ln_bf_values: list = field(default_factory=list)
-    forecast: dict = field(default_factory=dict)
+    forecast: Forecast = field(default_factory=Forecast)
     warnings: list = field(default_factory=list)
     provenance: dict | None = None
     caution: str = FORECAST

@@ -4,7 +4,9 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from .base import ResultFile
+from .catalog_blocks import AmplitudePosterior, CatalogSum, Consistency, ExpectedVersusObserved
 from .cautions import EVIDENCE
+from .population import PopulationModels
 
 
 @dataclass
@@ -13,21 +15,25 @@ class CatalogResult(ResultFile):
 
     KIND = "catalog"
     FILE = "catalog.json"
+    NESTED = {"consistent_sign": CatalogSum, "wrong_sign": CatalogSum, "sign_agnostic": CatalogSum,
+              "amplitude": AmplitudePosterior, "shared_unknown_sign": CatalogSum,
+              "expected_vs_observed": ExpectedVersusObserved, "consistency": Consistency,
+              "population": PopulationModels}
 
-    consistent_sign: dict
-    wrong_sign: dict
-    sign_agnostic: dict
-    amplitude: dict
-    shared_unknown_sign: dict = field(default_factory=dict)
+    consistent_sign: CatalogSum
+    wrong_sign: CatalogSum
+    sign_agnostic: CatalogSum
+    amplitude: AmplitudePosterior
+    shared_unknown_sign: CatalogSum = field(default_factory=CatalogSum)
     events: list = field(default_factory=list)
     ranking: list = field(default_factory=list)
     cumulative_ln_bf_plus: list = field(default_factory=list)
     cumulative_ln_bf_plus_err: list = field(default_factory=list)
     dropped: list = field(default_factory=list)
-    expected_vs_observed: dict = field(default_factory=dict)
+    expected_vs_observed: ExpectedVersusObserved = field(default_factory=ExpectedVersusObserved)
     controls: list = field(default_factory=list)  # control events (no memory injected, or flagged), not summed
-    consistency: dict = field(default_factory=dict)  # each event against the shared amplitude (leave-one-out)
-    population: dict = field(default_factory=dict)  # population models of the amplitudes, each with its evidence
+    consistency: Consistency = field(default_factory=Consistency)  # each event against the rest (leave-one-out)
+    population: PopulationModels = field(default_factory=PopulationModels)  # models of the amplitudes, with evidences
     method_rule: str = ""
     n_events: int = 0
     event_runs: list = field(default_factory=list)  # a catalog run's events: status, reason, page, wall time

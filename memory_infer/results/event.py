@@ -5,6 +5,7 @@ from dataclasses import dataclass, field
 
 from .base import ResultFile
 from .cautions import EVIDENCE
+from .event_blocks import Headline, MemorySNR
 from .estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, consistent_sign, event_pair, headline
 
 
@@ -18,13 +19,14 @@ class EventResult(ResultFile):
 
     KIND = "event"
     FILE = "evidence.json"
-    NESTED = {"methods": (list, EvidenceEstimate), "sign": SignSummary, "amplitude_curve": AmplitudeCurve}
+    NESTED = {"methods": (list, EvidenceEstimate), "sign": SignSummary, "amplitude_curve": AmplitudeCurve,
+              "headline": Headline, "memory_snr": MemorySNR}
 
     event: str
-    headline: dict | None = None
+    headline: Headline | None = None
     methods: list = field(default_factory=list)
     sign: SignSummary | None = None
-    memory_snr: dict | None = None
+    memory_snr: MemorySNR | None = None
     amplitude_curve: AmplitudeCurve | None = None
     free_amplitude: dict | None = None
     early_inspiral_memory: dict | None = None

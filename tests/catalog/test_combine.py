@@ -172,8 +172,8 @@ def test_population_models_run_on_the_included_curves_and_warn_when_the_grid_is_
                        "effective_sample_size": [1000.0] * 17, "base_amplitude": 0.0, "number_of_samples": 1000})
     result = combine([record(f"e{i}", 0.1, -0.1, curve=c, settings=settings) for i, c in enumerate(curves)])
     population = result.population
-    assert population["models"] == ["shared", "gaussian"] and population["events"] == 3
-    assert "fewer than 4 grid spacings" in population["resolution_note"]
-    assert population["shared"]["A"]["median"] == pytest.approx(result.amplitude["median"], abs=1e-9)
+    assert population.models == ["shared", "gaussian"] and population.events == 3
+    assert "fewer than 4 grid spacings" in population.resolution_note
+    assert population.model("shared").summary("A").median == pytest.approx(result.amplitude.median, abs=1e-9)
     fine = combine([record(f"e{i}", 0.1, -0.1, curve=gaussian_curve(c, 0.5)) for i, c in enumerate((0.8, 1.2))])
-    assert fine.population["resolution_note"] == ""
+    assert fine.population.resolution_note == ""

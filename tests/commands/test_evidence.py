@@ -344,15 +344,15 @@ def test_the_shipped_example_configurations_are_valid_and_differ_only_in_size():
     # configs/example_event.toml is the quick one; configs/example_event_full.toml the four-hypothesis run
     import os
 
-    from memory_infer.inputs.config import load_evidence_config
+    from memory_infer.inputs.config import load_evidence_settings
 
     root = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
-    quick = load_evidence_config(os.path.join(root, "configs", "example_event.toml"))
-    full = load_evidence_config(os.path.join(root, "configs", "example_event_full.toml"))
-    assert quick["evidence"]["nested_hypotheses"] == ["memory", "none"]
-    assert full["evidence"]["nested_hypotheses"] == ["memory", "none", "flipped", "free"]
-    assert quick["injection"] == full["injection"] and quick["priors"] == full["priors"]
-    assert quick["sampler"]["live_points"] < full["sampler"]["live_points"]
+    quick = load_evidence_settings(os.path.join(root, "configs", "example_event.toml"))
+    full = load_evidence_settings(os.path.join(root, "configs", "example_event_full.toml"))
+    assert quick.evidence.nested_hypotheses == ("memory", "none")
+    assert full.evidence.nested_hypotheses == ("memory", "none", "flipped", "free")
+    assert quick.injection == full.injection and quick.priors == full.priors
+    assert quick.sampler.live_points < full.sampler.live_points
 
 
 @pytest.mark.parametrize("priors, message", [

@@ -169,3 +169,45 @@ def test_distance_marginalized_curve_uses_the_quadrature(generator):
         assert abs(value - _adaptive_marginal(prior, float(likelihood._ref_dist), dh, hh)) < 1e-8
     direct = likelihood.log_likelihood_ratio(dict(point, memory_amplitude=1.0))
     assert abs(direct - curve[2]) < 1e-10
+
+
+def test_the_private_bilby_members_the_likelihood_uses_keep_their_meaning(generator):
+    """MemoryTransient relies on members of bilby's GravitationalWaveTransient that bilby does not promise to keep:
+    ``_ref_dist``, ``_setup_rho``, ``_setup_distance_marginalization`` and ``_CalculatedSNRs``. pyproject.toml
+    bounds bilby below its next minor version; this test names whichever of them changed."""
+    # reference library: bilby.gw.likelihood.base (GravitationalWaveTransient), read for the meaning of each member
+    import inspect
+
+    base = bilby.gw.GravitationalWaveTransient
+    changed = []
+    prior = bilby.core.prior.PowerLaw(2, 500, 6000, name="luminosity_distance")
+    priors = bilby.core.prior.PriorDict({"luminosity_distance": prior, "memory_amplitude": 0.0})
+    likelihood = MemoryTransient(detectors_with(generator, 5), generator, priors=priors, distance_marginalization=True)
+    # _ref_dist: the reference distance, the distance prior's median
+    if getattr(likelihood, "_ref_dist", None) != prior.rescale(0.5):
+        changed.append("_ref_dist (no longer the distance prior's median)")
+    # _setup_rho: the products rescaled to the reference distance, <d,h> D / D_ref and <h,h> (D / D_ref)^2
+    try:
+        d_ref, h_ref = likelihood._setup_rho(3.0 + 0j, 5.0, parameters={"luminosity_distance": 2 * prior.rescale(0.5)})
+        if not (abs(d_ref - 6.0) < 1e-12 and abs(h_ref - 20.0) < 1e-12):
+            changed.append("_setup_rho (no longer rescales the products to the reference distance)")
+    except (AttributeError, TypeError) as error:
+        changed.append(f"_setup_rho ({error})")
+    # _setup_distance_marginalization(lookup_table): called by __init__ to build the lookup table; the override
+    # skips it without time marginalization, so no table may exist
+    method = getattr(base, "_setup_distance_marginalization", None)
+    if method is None or list(inspect.signature(method).parameters)[1:] != ["lookup_table"]:
+        changed.append("_setup_distance_marginalization (gone, or its argument renamed)")
+    elif hasattr(likelihood, "_dist_margd_loglikelihood_array"):
+        changed.append("_setup_distance_marginalization (bilby's __init__ no longer calls it for the lookup table)")
+    # _CalculatedSNRs: what compute_log_likelihood_from_snrs reads, <d,h> - <h,h>/2 without marginalization
+    try:
+        snrs = base._CalculatedSNRs(d_inner_h=3.0 + 1j, optimal_snr_squared=4.0)
+        snrs.d_inner_h_array = None
+        plain = MemoryTransient(detectors_with(generator, 5), generator)
+        if abs(float(np.real(plain.compute_log_likelihood_from_snrs(snrs, parameters=dict(TRUTH)))) - 1.0) > 1e-12:
+            changed.append("_CalculatedSNRs (compute_log_likelihood_from_snrs no longer gives <d,h> - <h,h>/2)")
+    except (AttributeError, TypeError) as error:
+        changed.append(f"_CalculatedSNRs ({error})")
+    assert not changed, (f"bilby {bilby.__version__} changed private members memory_infer.inference.likelihood "
+                         f"uses: {'; '.join(changed)}")

@@ -229,7 +229,7 @@ def test_envelope_under_a_detector_name_reaches_each_interferometer(tmp_path):
     an envelope for a detector not analysed is refused."""
     from memory_infer.common.errors import MemoryInferError
     from memory_infer.inference.setup import prepare
-    from memory_infer.inputs.config import load_evidence_config, load_evidence_settings
+    from memory_infer.inputs.config import load_evidence_settings
 
     frequencies = np.logspace(np.log10(10), np.log10(2000), 40)
     table = np.column_stack([frequencies, np.ones(40), np.zeros(40), np.full(40, 0.95), np.full(40, -0.03),
@@ -244,4 +244,4 @@ def test_envelope_under_a_detector_name_reaches_each_interferometer(tmp_path):
                          evidence_extra=extra.replace("{ ET =", "{ H1 ="))
     with pytest.raises(MemoryInferError, match=r"envelope_files in \[calibration\] names 'H1', which is not a "
                                                r"detector of this analysis \(ET\)"):
-        load_evidence_config(wrong)
+        load_evidence_settings(wrong)

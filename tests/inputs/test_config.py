@@ -1,15 +1,15 @@
 import pytest
 
 from memory_infer.common.errors import MemoryInferError
-from memory_infer.inputs.config import amplitude_grid, grid_with_hypotheses, load_evidence_config
+from memory_infer.inputs.config import grid_with_hypotheses, load_evidence_settings
 
 from helpers import event_config
 
 
 def test_defaults_are_filled_and_the_grid_holds_the_hypotheses(tmp_path):
-    config = load_evidence_config(event_config(tmp_path))
-    assert config["sampler"]["pool"] == 1 and config["likelihood"]["distance_marginalization"] is False
-    grid = amplitude_grid(config)
+    settings = load_evidence_settings(event_config(tmp_path))
+    assert settings.sampler.pool == 1 and settings.likelihood.distance_marginalization is False
+    grid = settings.evidence.grid()
     for value in (-1.0, 0.0, 1.0):
         assert value in grid
     small = grid_with_hypotheses(-2.5, 2.5, 3)
@@ -24,23 +24,21 @@ def test_defaults_are_filled_and_the_grid_holds_the_hypotheses(tmp_path):
 def test_each_problem_is_one_sentence(tmp_path, extra, message):
     path = event_config(tmp_path, evidence_extra=extra)
     with pytest.raises(MemoryInferError, match=message):
-        load_evidence_config(path)
+        load_evidence_settings(path)
 
 
 def test_the_readme_input_example_is_a_valid_configuration(tmp_path):
     """The README's minimal configuration for published samples on open data passes the schema as printed."""
     import os
 
-    from memory_infer.inputs.config import load_evidence_config
-
     readme = open(os.path.join(os.path.dirname(__file__), "..", "..", "README.md")).read()
     block = readme.split("A minimal configuration for published samples")[1].split("```toml")[1].split("```")[0]
     path = tmp_path / "example.toml"
     path.write_text(block)
-    config = load_evidence_config(str(path))
-    assert config["evidence"]["samples_analysis"] == "C01:IMRPhenomTHM"
-    assert config["data"]["files"]["L1"]["psd_from_samples"] is True
-    assert config["calibration"]["kind"] == "constant" and config["model"]["reference_frequency"] is None
+    settings = load_evidence_settings(str(path))
+    assert settings.evidence.samples_analysis == "C01:IMRPhenomTHM"
+    assert settings.data.files["L1"]["psd_from_samples"] is True
+    assert settings.calibration.kind == "constant" and settings.model.reference_frequency is None
 
 
 def test_an_unknown_resampling_is_one_sentence():

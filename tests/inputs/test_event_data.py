@@ -2,7 +2,7 @@ import numpy as np
 import pytest
 
 from memory_infer.common.errors import MemoryInferError
-from memory_infer.inputs.config import load_evidence_config, load_evidence_settings
+from memory_infer.inputs.config import load_evidence_settings
 from memory_infer.inputs.event_data import build_priors, detectors_from_files, injection_parameters
 
 from helpers import event_config
@@ -64,9 +64,9 @@ def test_einstein_telescope_event_uses_et_d_on_each_interferometer(tmp_path):
 def test_per_detector_tables_refuse_unknown_keys(tmp_path):
     with pytest.raises(MemoryInferError, match=r"noise_curves in \[data\] names 'XX', which is not a detector of "
                                                r"this analysis \(ET\)"):
-        load_evidence_config(et_config(tmp_path, '{ XX = "ce" }'))
+        load_evidence_settings(et_config(tmp_path, '{ XX = "ce" }'))
     with pytest.raises(MemoryInferError, match="unknown noise curve 'ce-d' for ET2"):
-        load_evidence_config(et_config(tmp_path, '{ ET = "et-d", ET2 = "ce-d" }'))
+        load_evidence_settings(et_config(tmp_path, '{ ET = "et-d", ET2 = "ce-d" }'))
 
 
 def test_einstein_telescope_files_per_interferometer(tmp_path):

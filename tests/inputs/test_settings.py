@@ -23,6 +23,15 @@ def test_settings_take_the_written_values_and_one_default_each():
     assert EVIDENCE_SCHEMA["data"]["minimum_frequency"][1] == DataSettings().minimum_frequency == 20.0
 
 
+def test_the_model_defaults_agree_with_the_waveform_stage():
+    """The waveform stage's defaults are the settings' (the memory taper is the one repeated, not imported)."""
+    from memory_infer.waveform.models import DEFAULT_MINIMUM_FREQUENCY
+    from memory_infer.waveform.source import DEFAULT_TAPER_DURATION
+
+    assert ModelSettings().memory_taper == DEFAULT_TAPER_DURATION
+    assert DataSettings().minimum_frequency == DEFAULT_MINIMUM_FREQUENCY
+
+
 def test_settings_are_frozen_and_changed_only_as_new_values():
     settings = evidence_settings(RAW, "test", ".")
     with pytest.raises(dataclasses.FrozenInstanceError):

@@ -39,6 +39,6 @@ def test_page_shows_controls_the_spread_of_the_expectation_and_events_in_tension
     text = catalog_page(result)
     assert "Control events (not in any sum above)" in text and "injected without memory (A = 0)" in text
     assert f"± {np.sqrt(37.0):.2f} (mean ± standard deviation of the sum)" in text  # sqrt(6^2 + 1^2)
-    assert "In tension with the rest of the catalog" in text and result.consistency["in_tension"]
+    assert "In tension with the rest of the catalog" in text and result.consistency.in_tension
     single = combine([event("a", 0.3, -0.4)]).reloaded()
     assert "Memory evidence for a catalog of 1 event<" in catalog_page(single)

@@ -24,7 +24,7 @@ def test_harmonics_match_closed_forms():
 
 def test_harmonics_match_lalsimulation_convention():
     # reference library: lal.SpinWeightedSphericalHarmonic (Condon-Shortley phase)
-    lal = pytest.importorskip("lal")
+    import lal  # a hard dependency: missing, the test fails
     for l in range(2, 7):
         for m in range(-l, l + 1):
             for th, ph in [(0.3, 0.1), (1.7, 4.0), (2.9, 2.2)]:

@@ -57,14 +57,14 @@ def test_a_registered_toy_method_is_run_preferred_combined_and_summarized(toy, t
     assert [e.family for e in result.methods] == ["toy", "toy"] and list(state.signs) == [-1]
     result.methods.extend(reweighted(0.2, -0.1))  # equal errors: the preference rank decides
     result.choose_headline([state.signs[rank] for rank in sorted(state.signs)])
-    assert result.headline["method"] == "toy estimate" and result.headline["ln_bf"] == TOY_PLUS
+    assert result.headline.method == "toy estimate" and result.headline.ln_bf == TOY_PLUS
     assert result.sign.note == "from the toy"  # the toy's own sign summary, not one rebuilt from the pair
 
     second = result.reloaded()
     second.event = "toy-event-2"
     catalog = combine([result, second])
-    assert catalog.consistent_sign["ln_bf"] == pytest.approx(2 * TOY_PLUS, abs=1e-12)
-    assert catalog.wrong_sign["ln_bf"] == pytest.approx(2 * TOY_MINUS, abs=1e-12)
+    assert catalog.consistent_sign.ln_bf == pytest.approx(2 * TOY_PLUS, abs=1e-12)
+    assert catalog.wrong_sign.ln_bf == pytest.approx(2 * TOY_MINUS, abs=1e-12)
     assert {e["method"] for e in catalog.events} == {"toy estimate"}
 
     records = [{"ln_bf_plus_toy": 0.1 * i, "ln_bf_plus_reweighting": 0.1 * i + 0.01, "ln_bf_plus_fast": 0.05 * i}
