@@ -210,3 +210,30 @@ def recovery_settings(settings, index: int):
                                   pool=1, seed=noise_seed(settings.seed, index) % (2 ** 31), checkpoint_seconds=60.0,
                                   progress=False)
     return dataclasses.replace(base, data=settings.data, model=settings.model, evidence=evidence, sampler=sampler)
+
+
+def batches(tasks, size: int) -> list:
+    return [tasks[i:i + size] for i in range(0, len(tasks), size)]
+
+
+def execute(tasks, store, executor, progress: bool = True, window: int = 64, batch: int = 8) -> int:
+    """Submit what is not yet stored (``store``: :class:`memory_infer.campaign.store.RecordStore`) in batches of
+    ``batch`` injections (each batch builds its generator and network once, :func:`run_injections`), at most
+    ``window`` injections at a time (:func:`memory_infer.common.drain.drain`); store each record as its batch
+    finishes. Returns the number of records written."""
+    from ..common.drain import drain
+
+    done = store.done()
+    todo = batches([t for t in tasks if t["index"] not in done], max(1, int(batch)))
+    written = []
+
+    def stored(_, records):
+        for record in records:
+            store.write(record)
+        written.append(len(records))
+        return len(records)
+
+    drain(executor, run_injections, todo, stored, window=max(1, window // max(1, int(batch))),
+          progress=dict(total=len(tasks), initial=len(done), desc="injections", unit="inj", disable=not progress,
+                        smoothing=0.05))
+    return sum(written)

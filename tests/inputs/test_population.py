@@ -87,7 +87,7 @@ def test_campaign_warns_when_the_range_truncates_detections(tmp_path):
     # Cosmic Explorer detects binary black holes far beyond z = 0.3: most detections crowd against it
     from memory_infer.campaign.summary import summarize
 
-    from memory_infer.campaign.executors import InlineExecutor
+    from memory_infer.common.executors import InlineExecutor
     population_file(tmp_path, redshift_max=0.3)
     path = campaign_config(tmp_path, count=20, injections=str(tmp_path / "population.toml"))
     run_store(path, str(tmp_path / "out"), InlineExecutor(), 4)
