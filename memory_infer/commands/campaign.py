@@ -50,8 +50,8 @@ def make_executor(args, cluster):
 
 def run(args) -> int:
     settings = load_campaign_settings(args.config)
-    output_folder(args.outdir)
-    tasks = plan(settings, os.path.join(os.path.abspath(args.outdir), "work"))
+    tasks = plan(settings, os.path.join(os.path.abspath(args.outdir), "work"))  # every injection fixed and checked
+    output_folder(args.outdir)  # before anything is written
     store = RecordStore(os.path.join(args.outdir, "records.sqlite"), fingerprint(tasks))
     executor, window = make_executor(args, settings.cluster)
     try:  # interrupted (Ctrl-C) or failed: the workers are ended at once (drain), stored records are kept
