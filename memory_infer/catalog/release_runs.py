@@ -81,13 +81,14 @@ def content_digest(path: str) -> str:
 
 
 def event_inputs(task: ReleaseTask, store) -> dict:
-    """What an event's stored result depends on, as digests: its configuration mapping ("settings") and the
-    content of every file it names (by file name)."""
+    """What an event's stored result depends on, as digests: its configuration mapping with, for an event refused
+    before running, the reason ("settings"), and the content of every file it names (by file name)."""
     files = {}
     for path in file_paths(task.mapping):
         status = os.stat(path)
         files[path] = store.file_digest(path, status.st_size, status.st_mtime_ns, lambda: content_digest(path))
-    text = json.dumps(task.mapping, sort_keys=True, cls=JSONEncoder)
+    described = dict(task.mapping, _refused=task.refused) if task.refused else task.mapping  # a new reason reruns
+    text = json.dumps(described, sort_keys=True, cls=JSONEncoder)
     return {"settings": hashlib.sha256(text.encode()).hexdigest()[:16], "files": files}
 
 

@@ -74,9 +74,9 @@ def run(args) -> int:
     cluster = cluster_settings(apply_schema({"cluster": releases.cluster}, {"cluster": CAMPAIGN_SCHEMA["cluster"]},
                                             "the catalog's [cluster]")["cluster"])
     outdir = os.path.abspath(args.outdir)
+    tasks = plan_events(releases.entries, outdir)  # every entry's settings checked before anything runs
     made_outdir = not os.path.isdir(outdir)
     output_folder(outdir)
-    tasks = plan_events(releases.entries, outdir)  # every entry's settings checked before anything runs
     path = os.path.join(outdir, STORE)
     new_store = not os.path.exists(path)
     store = EventStore(path)

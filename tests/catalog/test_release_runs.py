@@ -1,6 +1,5 @@
 """A catalog run's events through an executor: settings checked before anything runs, outcomes never raise,
 stored events are not run again."""
-import dataclasses
 import os
 
 from memory_infer.catalog.release_runs import STORE, execute_events, plan_events, run_release_event, stored_or_todo
@@ -49,10 +48,9 @@ def test_an_event_whose_inputs_changed_runs_again_and_says_why(tmp_path):
     release = tmp_path / "release.h5"
     release.write_bytes(b"first release")
     def planned(reason_b):
-        tasks = plan_events([ReleaseEntry("a", refused="bad"), ReleaseEntry("b", refused=reason_b)], str(tmp_path))
-        # the digests follow the mapping: a mapping naming the release file (refused or not, it is hashed)
-        return [dataclasses.replace(tasks[0], mapping={"evidence": {"samples_file": str(release)}}),
-                dataclasses.replace(tasks[1], mapping={"reason": reason_b})]
+        # "a" names the release file (refused or not, a file its mapping names is hashed); "b" has only its reason
+        return plan_events([ReleaseEntry("a", {"evidence": {"samples_file": str(release)}}, refused="bad"),
+                            ReleaseEntry("b", refused=reason_b)], str(tmp_path))
 
     store = EventStore(os.path.join(tmp_path, STORE))
     execute_events(planned("other"), store, InlineExecutor(), progress=False)
