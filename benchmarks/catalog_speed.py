@@ -17,12 +17,12 @@ import numpy as np
 
 def catalog_rate(events: int = 4, samples: int = 5000, workers: int = 2):
     """(events per hour, its standard error, detail, per-event wall times) on ``workers`` local processes."""
-    from memory_infer.campaign.catalog_run import STORE, execute_events, fingerprint, plan_events
-    from memory_infer.campaign.executors import ProcessExecutor
+    from memory_infer.catalog.release_runs import STORE, execute_events, plan_events
+    from memory_infer.catalog.release_store import EventStore
+    from memory_infer.common.executors import ProcessExecutor
     from memory_infer.commands.campaign import quiet_worker  # the command's worker log levels
-    from memory_infer.campaign.store import RecordStore
     from memory_infer.commands.catalog_demo import DEMO_EVENTS, invented_event
-    from memory_infer.inputs.catalog_config import load_catalog
+    from memory_infer.inputs.release_list import load_release_list
 
     with tempfile.TemporaryDirectory() as folder:
         lines = ["[defaults.evidence]", f"max_reweight_samples = {samples}", ""]
@@ -37,16 +37,14 @@ def catalog_rate(events: int = 4, samples: int = 5000, workers: int = 2):
         path = os.path.join(folder, "catalog.toml")
         with open(path, "w") as handle:
             handle.write("\n".join(lines))
-        _, entries, _ = load_catalog(path)
-        tasks = plan_events(entries, os.path.join(folder, "out"))
+        tasks = plan_events(load_release_list(path).entries, os.path.join(folder, "out"))
         os.makedirs(os.path.join(folder, "out"), exist_ok=True)
-        store = RecordStore(os.path.join(folder, "out", STORE), fingerprint(tasks))
+        store = EventStore(os.path.join(folder, "out", STORE))
         executor = ProcessExecutor(workers, setup=quiet_worker)
         start = time.perf_counter()
-        execute_events(tasks, store, executor, progress=False, window=2 * workers)
+        records = execute_events(tasks, store, executor, progress=False, window=2 * workers)
         elapsed = time.perf_counter() - start
         executor.close()
-        records = store.records()
         store.close()
     statuses = sorted({r["status"] for r in records})
     if statuses != ["done"]:

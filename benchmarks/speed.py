@@ -418,7 +418,8 @@ def campaign_rate(count: int = 400, make_executor=None):
     import tempfile
 
     from memory_infer.campaign.config import fingerprint, load_campaign_settings, plan
-    from memory_infer.campaign.executors import ProcessExecutor, execute
+    from memory_infer.campaign.injection import execute
+    from memory_infer.common.executors import ProcessExecutor
     from memory_infer.commands.campaign import quiet_worker  # the command's worker log levels
     from memory_infer.campaign.store import RecordStore
 
@@ -468,7 +469,7 @@ def slurm_overhead(count: int = 400):
 
     if shutil.which("sinfo") is None or subprocess.run(["sinfo", "-h"], capture_output=True).returncode != 0:
         return None, "not measured: no Slurm here (python3 scripts/local_slurm.py up starts one)"
-    from memory_infer.campaign.executors import DaskExecutor
+    from memory_infer.common.executors import DaskExecutor
     from memory_infer.commands.campaign import quiet_worker
 
     from memory_infer.inputs.settings import ClusterSettings

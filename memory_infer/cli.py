@@ -58,7 +58,7 @@ def main(argv=None) -> int:
         from .common.performance import tune_allocator
 
         for name in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):  # before numpy loads: one
-            os.environ.setdefault(name, "1")  # thread per process (parallel work is processes; see campaign.executors)
+            os.environ.setdefault(name, "1")  # thread per process (parallel work is processes; see common.executors)
         tune_allocator()
         import bilby  # noqa: F401  (its import sets its logger to INFO; quieten it afterwards)
 

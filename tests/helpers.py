@@ -120,7 +120,7 @@ def stored(outdir):
 
 def run_store(config_path, outdir, executor, window):
     from memory_infer.campaign.config import fingerprint, load_campaign_settings, plan
-    from memory_infer.campaign.executors import execute
+    from memory_infer.campaign.injection import execute
     from memory_infer.campaign.store import RecordStore
 
     tasks = plan(load_campaign_settings(config_path), str(outdir))

@@ -7,13 +7,32 @@ from __future__ import annotations
 
 import hashlib
 import json
+from dataclasses import dataclass
 
 from ..common.errors import MemoryInferError
 from ..inputs.campaign_config import load_campaign_settings  # noqa: F401  (the campaign's settings, for callers)
 
 
+@dataclass(frozen=True)
+class InjectionTask:
+    """One injection of a campaign, fixed in the command's own process before anything runs: its index, source
+    (bilby parameters, detector frame, checked when read or drawn), injected memory amplitude, the campaign's
+    settings (:class:`memory_infer.inputs.settings.CampaignSettings`) and the folder a full recovery works in."""
+
+    index: int
+    source: dict
+    amplitude: float
+    settings: object
+    workdir: str
+
+    def described(self) -> dict:
+        """What of the task changes its record (its share of the campaign's fingerprint)."""
+        return {"index": self.index, "source": self.source, "amplitude": self.amplitude}
+
+
 def plan(settings, workdir: str = "work") -> list:
-    """The full, seeded list of tasks (identical on every resume); a full recovery works in ``workdir``."""
+    """The full, seeded list of :class:`InjectionTask` (identical on every resume), every input read and checked
+    here, before anything runs; a full recovery works in ``workdir``."""
     import numpy as np
 
     from ..inputs.population import draw, load_population, read_table, redshift_reach
@@ -23,7 +42,7 @@ def plan(settings, workdir: str = "work") -> list:
     if path.endswith(".toml"):
         population = load_population(path)
         approximant = settings.model.approximant
-        if population["spin_orientation"] == "isotropic" and not takes_precessing_spins(approximant):
+        if population.spin_orientation == "isotropic" and not takes_precessing_spins(approximant):
             raise MemoryInferError(f"the population's isotropic (precessing) spins need a precessing waveform model "
                                    f"such as IMRPhenomTPHM; '{approximant}' takes aligned spins only")
         redshift_max = redshift_reach(population, settings.network)
@@ -36,8 +55,7 @@ def plan(settings, workdir: str = "work") -> list:
     rng = np.random.default_rng([settings.seed, 7])
     amplitudes = (rng.uniform(limits[0], limits[1], len(sources)) if settings.injected_amplitude == "prior"
                   else np.full(len(sources), float(settings.injected_amplitude)))
-    return [{"index": i, "source": source, "amplitude": float(amplitudes[i]), "settings": settings,
-             "workdir": workdir} for i, source in enumerate(sources)]
+    return [InjectionTask(i, source, float(amplitudes[i]), settings, workdir) for i, source in enumerate(sources)]
 
 
 def described(settings) -> dict:
@@ -53,6 +71,5 @@ def described(settings) -> dict:
 
 
 def fingerprint(tasks) -> str:
-    text = json.dumps([{k: v for k, v in t.items() if k not in ("settings", "workdir")} for t in tasks]
-                      + [described(tasks[0]["settings"])], sort_keys=True)
+    text = json.dumps([t.described() for t in tasks] + [described(tasks[0].settings)], sort_keys=True)
     return hashlib.sha256(text.encode()).hexdigest()

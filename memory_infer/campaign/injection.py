@@ -54,10 +54,10 @@ def noise_seed(campaign_seed: int, index: int) -> int:
 def _simulate(task, network: Network):
     """The injection's data on ``network`` (noise drawn by bilby from the generator in use, see
     :func:`run_injection`) and its network optimal SNR."""
-    settings = task["settings"]
+    settings = task.settings
     data = settings.data
     generator, detectors = network.generator, network.detectors
-    start = task["source"]["geocent_time"] - data.duration + 2.0
+    start = task.source["geocent_time"] - data.duration + 2.0
     if settings.noise == "zero":
         detectors.set_strain_data_from_zero_noise(data.sampling_rate, data.duration, start)
     else:
@@ -66,10 +66,10 @@ def _simulate(task, network: Network):
     # the polarizations injected directly: bilby's inject_signal would first check the signal's duration per
     # detector (a distance-to-redshift solve each time) only to log a warning; the parts stay in the generator's
     # cache for the estimates that follow
-    parameters = dict(task["source"], memory_amplitude=task["amplitude"])
+    parameters = dict(task.source, memory_amplitude=task.amplitude)
     oscillatory, memory = generator.parts(parameters)
     if oscillatory is not None:
-        polarizations = combined(oscillatory, memory, task["amplitude"])
+        polarizations = combined(oscillatory, memory, task.amplitude)
         for detector in detectors:
             detector.inject_signal_from_waveform_polarizations(parameters=parameters,
                                                                injection_polarizations=polarizations)
@@ -97,11 +97,11 @@ def expected_over_noise(likelihood, truth: dict, injected: float) -> dict:
 def run_injections(tasks: list) -> list:
     """A batch of injections of one campaign in this process: one network built for them all, each injection's
     record in order."""
-    network = build_network(tasks[0]["settings"])
+    network = build_network(tasks[0].settings)
     return [run_injection(task, network) for task in tasks]
 
 
-def run_injection(task: dict, network: Network) -> dict:
+def run_injection(task, network: Network) -> dict:
     """Everything one injection produces, as a flat record (JSON-safe). Its random numbers (noise, and a full
     recovery's draws) come from a generator seeded by the campaign's seed and the injection's index."""
     from ..inference.likelihood import MemoryTransient
@@ -109,23 +109,23 @@ def run_injection(task: dict, network: Network) -> dict:
     from ..inputs.event_data import bilby_draws_from
 
     began = time.perf_counter()
-    settings = task["settings"]
-    record = {"index": task["index"], "amplitude": task["amplitude"], **{k: task["source"][k] for k in sorted(task["source"])}}
+    settings = task.settings
+    record = {"index": task.index, "amplitude": task.amplitude, **{k: task.source[k] for k in sorted(task.source)}}
     try:
-        with bilby_draws_from(np.random.default_rng(noise_seed(settings.seed, task["index"]))):
+        with bilby_draws_from(np.random.default_rng(noise_seed(settings.seed, task.index))):
             generator, detectors, snr = _simulate(task, network)
             record["network_snr"] = snr
             record["detected"] = bool(snr >= settings.detection_snr)
             if not record["detected"]:  # below the catalog's threshold: no recovery
                 record.update(status="ok", error="", seconds=time.perf_counter() - began)
                 return record
-            truth = {k: v for k, v in task["source"].items() if k != "redshift"}
+            truth = {k: v for k, v in task.source.items() if k != "redshift"}
             likelihood = MemoryTransient(detectors, generator)
             estimates, memory_snr = FastApproximation.estimates(likelihood, truth)
             record["memory_snr"] = memory_snr
             record["ln_bf_plus_fixed"], record["ln_bf_minus_fixed"] = estimates[0].ln_bf, estimates[1].ln_bf
             record["ln_bf_plus_fast"], record["ln_bf_minus_fast"] = estimates[2].ln_bf, estimates[3].ln_bf
-            record.update(expected_over_noise(likelihood, truth, task["amplitude"]))
+            record.update(expected_over_noise(likelihood, truth, task.amplitude))
             if settings.method != "fast" and record["detected"]:
                 record.update(_full_recovery(task, detectors, generator, truth))
         record["status"] = "ok"
@@ -166,12 +166,12 @@ def _full_recovery(task, detectors, generator, truth) -> dict:
     from ..results.estimates import cumulative_distribution
     from ..results.methods import campaign_columns
 
-    settings = task["settings"]
-    workdir = os.path.join(task["workdir"], f"injection-{task['index']}")
-    event = recovery_settings(settings, task["index"])
+    settings = task.settings
+    workdir = os.path.join(task.workdir, f"injection-{task.index}")
+    event = recovery_settings(settings, task.index)
     setup = EventSetup(settings=event, detectors=detectors, generator=generator, injection=None,
                        priors=_recovery_priors(truth, settings.recovery.free_parameters), grid=event.evidence.grid())
-    result = run_methods(setup, workdir, ["nested", "reweighting"], f"injection-{task['index']}", progress=False).result
+    result = run_methods(setup, workdir, ["nested", "reweighting"], f"injection-{task.index}", progress=False).result
     found = {(m.family, m.numerator): m for m in result.methods}
     out = {}
     for family, column in campaign_columns().items():  # every method that left both signs, by its own column
@@ -184,11 +184,11 @@ def _full_recovery(task, detectors, generator, truth) -> dict:
     curve = result.amplitude_curve
     grid = np.asarray(curve.amplitudes)
     density = np.exp(np.asarray(curve.ln_mean_ratio) - np.max(curve.ln_mean_ratio))
-    out["amplitude_quantile_reweighting"] = float(np.interp(task["amplitude"], grid,
+    out["amplitude_quantile_reweighting"] = float(np.interp(task.amplitude, grid,
                                                             cumulative_distribution(grid, density)))
     if settings.method == "nested":
         samples = np.asarray(result.free_amplitude["samples"])
-        out.update(amplitude_quantile_nested=float(np.mean(samples < task["amplitude"])))
+        out.update(amplitude_quantile_nested=float(np.mean(samples < task.amplitude)))
     shutil.rmtree(workdir, ignore_errors=True)
     return out
 
@@ -210,3 +210,30 @@ def recovery_settings(settings, index: int):
                                   pool=1, seed=noise_seed(settings.seed, index) % (2 ** 31), checkpoint_seconds=60.0,
                                   progress=False)
     return dataclasses.replace(base, data=settings.data, model=settings.model, evidence=evidence, sampler=sampler)
+
+
+def batches(tasks, size: int) -> list:
+    return [tasks[i:i + size] for i in range(0, len(tasks), size)]
+
+
+def execute(tasks, store, executor, progress: bool = True, window: int = 64, batch: int = 8) -> int:
+    """Submit what is not yet stored (``store``: :class:`memory_infer.campaign.store.RecordStore`) in batches of
+    ``batch`` injections (each batch builds its generator and network once, :func:`run_injections`), at most
+    ``window`` injections at a time (:func:`memory_infer.common.drain.drain`); store each record as its batch
+    finishes. Returns the number of records written."""
+    from ..common.drain import drain
+
+    done = store.done()
+    todo = batches([t for t in tasks if t.index not in done], max(1, int(batch)))
+    written = []
+
+    def stored(_, records):
+        for record in records:
+            store.write(record)
+        written.append(len(records))
+        return len(records)
+
+    drain(executor, run_injections, todo, stored, window=max(1, window // max(1, int(batch))),
+          progress=dict(total=len(tasks), initial=len(done), desc="injections", unit="inj", disable=not progress,
+                        smoothing=0.05))
+    return sum(written)

@@ -1,9 +1,8 @@
-"""The record stores: SQLite, one row per finished injection (campaigns) or event (catalogs), each insert its own
-transaction.
+"""A campaign's record store: SQLite, one row per finished injection, each insert its own transaction (a
+catalog's events have theirs: :mod:`memory_infer.catalog.release_store`).
 
 One writer (the command's own process) commits each record as it arrives; a run killed at any moment resumes on
-the same command, recomputing only what had not been committed. A catalog's events are keyed by the digest of
-their inputs, so an event whose settings or files changed runs again instead of serving its old result.
+the same command, recomputing only what had not been committed.
 """
 from __future__ import annotations
 
@@ -39,44 +38,6 @@ class RecordStore:
 
     def records(self) -> list:
         return [json.loads(row[0]) for row in self.connection.execute("SELECT record FROM records ORDER BY id")]
-
-    def close(self):
-        self.connection.close()
-
-
-class EventStore:
-    """A catalog's events in SQLite: one row per event label with the digest of the inputs (settings and file
-    contents) it ran from, each write its own transaction; and the content digests of files by path, size and
-    modification time, so that a file is read for its digest once."""
-
-    def __init__(self, path: str):
-        self.connection = sqlite3.connect(path)
-        with self.connection:
-            self.connection.execute("CREATE TABLE IF NOT EXISTS events (label TEXT PRIMARY KEY, digest TEXT NOT NULL, "
-                                    "record TEXT NOT NULL)")
-            self.connection.execute("CREATE TABLE IF NOT EXISTS files (path TEXT PRIMARY KEY, size INTEGER, "
-                                    "modified INTEGER, digest TEXT)")
-
-    def stored(self) -> dict:
-        """label -> (digest, record) of every stored event."""
-        return {label: (digest, json.loads(record))
-                for label, digest, record in self.connection.execute("SELECT label, digest, record FROM events")}
-
-    def write(self, record: dict, digest: str) -> None:
-        with self.connection:
-            self.connection.execute("INSERT OR REPLACE INTO events VALUES (?, ?, ?)",
-                                    (str(record["label"]), digest, json.dumps(record)))
-
-    def file_digest(self, path: str, size: int, modified: int, compute) -> str:
-        """The stored content digest of ``path`` when its size and modification time are unchanged, else
-        ``compute()`` (stored for next time)."""
-        row = self.connection.execute("SELECT size, modified, digest FROM files WHERE path = ?", (path,)).fetchone()
-        if row is not None and row[0] == size and row[1] == modified:
-            return row[2]
-        digest = compute()
-        with self.connection:
-            self.connection.execute("INSERT OR REPLACE INTO files VALUES (?, ?, ?, ?)", (path, size, modified, digest))
-        return digest
 
     def close(self):
         self.connection.close()

@@ -4,10 +4,11 @@ from __future__ import annotations
 import os
 
 from ..campaign.config import fingerprint, plan
-from ..campaign.executors import DaskExecutor, InlineExecutor, ProcessExecutor, execute
+from ..campaign.injection import execute
 from ..campaign.store import RecordStore
 from ..campaign.summary import summarize
 from ..common.errors import MemoryInferError
+from ..common.executors import DaskExecutor, InlineExecutor, ProcessExecutor
 from ..common.writing import atomic_path, output_folder, provenance, write_text
 from ..inputs.campaign_config import load_campaign_settings
 from ..reports.campaign import campaign_page, range_text
@@ -49,14 +50,14 @@ def make_executor(args, cluster):
 
 def run(args) -> int:
     settings = load_campaign_settings(args.config)
-    output_folder(args.outdir)
-    tasks = plan(settings, os.path.join(os.path.abspath(args.outdir), "work"))
+    tasks = plan(settings, os.path.join(os.path.abspath(args.outdir), "work"))  # every injection fixed and checked
+    output_folder(args.outdir)  # before anything is written
     store = RecordStore(os.path.join(args.outdir, "records.sqlite"), fingerprint(tasks))
     executor, window = make_executor(args, settings.cluster)
-    try:
+    try:  # interrupted (Ctrl-C) or failed: the workers are ended at once (drain), stored records are kept
         execute(tasks, store, executor, progress=not args.quiet, window=window)
-    except BaseException:  # interrupted (Ctrl-C) or failed: end the workers now; stored records are kept
-        executor.close(now=True)
+    except BaseException:
+        store.close()
         raise
     executor.close()
     records = store.records()

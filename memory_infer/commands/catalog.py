@@ -5,15 +5,14 @@ from __future__ import annotations
 
 import os
 
-from ..campaign.catalog_run import STORE, execute_events, plan_events, stored_or_todo
-from ..campaign.store import EventStore
-from ..catalog.combine import combine
 from ..catalog.population import PopulationSettings
-from ..common.errors import MemoryInferError
-from ..common.writing import atomic_path, output_folder, provenance, write_text
-from ..inputs.catalog_config import load_catalog
+from ..catalog.release_runs import STORE, catalog_result, execute_events, forget_store, plan_events, safe_name, \
+    stored_or_todo
+from ..catalog.release_store import EventStore
+from ..common.writing import atomic_path, output_folder, write_text
 from ..inputs.campaign_config import CAMPAIGN_SCHEMA, cluster_settings
 from ..inputs.config import apply_schema
+from ..inputs.release_list import load_release_list
 from ..reports.catalog import catalog_page
 from ..reports.event import event_page
 from ..reports.html import number
@@ -39,48 +38,17 @@ def event_files(record: dict, outdir: str) -> str | None:
     relative to ``outdir``. For an event not finished now (refused or failed on its new inputs), the files of an
     earlier result are removed: they would show numbers its current inputs did not give."""
     if record["status"] != "done":
-        folder = os.path.join(outdir, "events", _folder(record["label"]))
+        folder = os.path.join(outdir, "events", safe_name(record["label"]))
         for name in (EventResult.FILE, "report.html"):
             if os.path.isfile(os.path.join(folder, name)):
                 os.remove(os.path.join(folder, name))
         return None
     result = EventResult.from_json(record["result"], f"the stored result of '{record['label']}'")
-    folder = os.path.join(outdir, "events", _folder(record["label"]))
+    folder = os.path.join(outdir, "events", safe_name(record["label"]))
     os.makedirs(folder, exist_ok=True)
     result.save(os.path.join(folder, EventResult.FILE))
     write_text(os.path.join(folder, "report.html"), event_page(result))
     return os.path.relpath(os.path.join(folder, "report.html"), outdir)
-
-
-def _folder(label: str) -> str:
-    from ..campaign.catalog_run import safe_name
-
-    return safe_name(label)
-
-
-def catalog_result(records: list, name: str, outdir: str, population_settings=None) -> CatalogResult:
-    """The catalog combination of the finished events, with every event's run listed (refused and failed ones
-    with their reason)."""
-    records = sorted(records, key=lambda r: r["index"])
-    done = [r for r in records if r["status"] == "done"]
-    runs = [{"label": r["label"], "status": r["status"], "reason": r["reason"],
-             "page": os.path.join("events", _folder(r["label"]), "report.html") if r["status"] == "done" else None,
-             "wall_seconds": r.get("wall_seconds")} for r in records]
-    if not done:
-        raise MemoryInferError("no event of the catalog finished: " +
-                               "; ".join(f"{r['label']}: {r['status']} ({r['reason']})" for r in records))
-    sources = [os.path.join("events", _folder(r["label"]), EventResult.FILE) for r in done]
-    result = combine([r["result"] for r in done], sources=sources, population_settings=population_settings)
-    result.dropped = result.dropped + [{"label": r["label"], "reason": f"{r['status']}: {r['reason']}",
-                                        "source": ""} for r in records if r["status"] != "done"]
-    for run in runs:
-        dropped = next((d for d in result.dropped if d["label"] == run["label"] and run["status"] == "done"), None)
-        if dropped is not None:
-            run["status"], run["reason"] = "left out of the combination", dropped["reason"]
-    result.event_runs = runs
-    result.provenance = provenance({"catalog": name, "events": [r["label"] for r in records]}, None)
-    result.provenance["command"] = ["memory-infer", "catalog"]
-    return result
 
 
 def event_table(result) -> str:
@@ -101,13 +69,14 @@ def event_table(result) -> str:
 
 def run(args) -> int:
     settings = PopulationSettings(largest_spread=args.largest_spread)
-    name, events, cluster = load_catalog(args.catalog)
-    cluster = cluster_settings(apply_schema({"cluster": cluster}, {"cluster": CAMPAIGN_SCHEMA["cluster"]},
+    releases = load_release_list(args.catalog)
+    name = releases.name
+    cluster = cluster_settings(apply_schema({"cluster": releases.cluster}, {"cluster": CAMPAIGN_SCHEMA["cluster"]},
                                             "the catalog's [cluster]")["cluster"])
     outdir = os.path.abspath(args.outdir)
+    tasks = plan_events(releases.entries, outdir)  # every entry's settings checked before anything runs
     made_outdir = not os.path.isdir(outdir)
     output_folder(outdir)
-    tasks = plan_events(events, outdir)
     path = os.path.join(outdir, STORE)
     new_store = not os.path.exists(path)
     store = EventStore(path)
@@ -121,11 +90,10 @@ def run(args) -> int:
         print(f"resuming: {len(kept)} of {len(tasks)} events already finished")
     for note in notes:
         print(note)
-    try:
+    try:  # interrupted (Ctrl-C) or failed: the workers are ended at once (drain), committed events are kept
         records = execute_events(tasks, store, executor, on_record=lambda record: event_files(record, outdir),
                                  progress=not args.quiet, window=window, plan=(kept, todo))
-    except BaseException:  # interrupted (Ctrl-C) or failed: end the workers now; committed events are kept
-        executor.close(now=True)
+    except BaseException:
         store.close()
         raise
     executor.close()
@@ -133,10 +101,10 @@ def run(args) -> int:
     if not any(record["status"] == "done" for record in records) and new_store:
         forget_store(path, outdir if made_outdir else None)  # refused as a whole: nothing written
     for record in records:  # pages of events finished before an interruption
-        if record["status"] == "done" and not os.path.isfile(os.path.join(outdir, "events", _folder(record["label"]),
+        if record["status"] == "done" and not os.path.isfile(os.path.join(outdir, "events", safe_name(record["label"]),
                                                                           "report.html")):
             event_files(record, outdir)
-    result = catalog_result(records, name, outdir, settings).reloaded()
+    result = catalog_result(records, name, settings).reloaded()
     page = catalog_page(result)
     import pandas as pd
 
@@ -170,14 +138,3 @@ def run(args) -> int:
 
 
 SOME_EVENTS_NOT_RUN = 3  # the exit status of a catalog written without some events (refused or failed)
-
-
-def forget_store(path: str, made_folder: str | None) -> None:
-    """Remove an event store this run made when no event finished (the catalog is refused as a whole, and nothing
-    stays written), and the output folder if this run made it and it is left empty."""
-    os.remove(path)
-    if made_folder is not None:
-        try:
-            os.rmdir(made_folder)
-        except OSError:  # not empty: an event's working folder (a failed run's checkpoints) stays
-            pass

@@ -121,19 +121,20 @@ def event_configuration(index: int, event, live_points: int) -> str:
 def run_event(job) -> str:
     """One demo event's evidence run (``job`` = (configuration path, output folder)); a plain function of a
     picklable job, so local worker processes run it too."""
-    import argparse
-
-    from . import evidence
+    from ..inference.one_event import run_one_event
+    from ..inputs.config import load_evidence_settings
+    from .evidence import write_event
 
     path, event_dir = job
-    evidence.run(argparse.Namespace(config=path, outdir=event_dir, quiet=True))
+    write_event(run_one_event(load_evidence_settings(path), event_dir, progress=False), event_dir)
     return event_dir
 
 
 def run_events(outdir: str, live_points: int, events=None, started: float | None = None, workers: int = 1) -> list:
     """Write and run every demo event's configuration, on ``workers`` local processes (events are independent:
     each has its own seeds, so the numbers do not depend on where it runs); returns the events' output folders."""
-    from ..campaign.executors import ProcessExecutor
+    from ..common.drain import drain
+    from ..common.executors import InlineExecutor, ProcessExecutor
     from .campaign import quiet_worker  # bilby's errors only in the workers: the demo prints its own progress
 
     events = EVENTS if events is None else events
@@ -150,20 +151,17 @@ def run_events(outdir: str, live_points: int, events=None, started: float | None
         names[jobs[-1]] = f"{label} ({'+'.join(detectors)}, A = {amplitude:g})"
     workers = max(1, min(int(workers), len(jobs)))
     if workers == 1:
-        for job in jobs:
-            print(f"demo [{time.time() - started:5.0f} s]: event {names[job]}", flush=True)
-            run_event(job)
-        return [event_dir for _, event_dir in jobs]
-    print(f"demo [{time.time() - started:5.0f} s]: {len(jobs)} events on {workers} processes", flush=True)
-    executor = ProcessExecutor(workers, setup=quiet_worker)  # largest first (EVENTS order): the last event to start is a short one
-    try:
-        futures = {executor.submit(run_event, job): job for job in jobs}
-        for future in executor.as_completed(list(futures)):
-            future.result()
-            print(f"demo [{time.time() - started:5.0f} s]: event {names[futures[future]]} done", flush=True)
-    except BaseException:  # interrupted or failed: end the workers now (nested runs resume from checkpoints)
-        executor.close(now=True)
-        raise
+        executor = InlineExecutor()
+    else:
+        print(f"demo [{time.time() - started:5.0f} s]: {len(jobs)} events on {workers} processes", flush=True)
+        executor = ProcessExecutor(workers, setup=quiet_worker)
+
+    def finished(job, _):
+        print(f"demo [{time.time() - started:5.0f} s]: event {names[job]} done", flush=True)
+
+    # in processes all submitted at once, largest first (EVENTS order): the last event to start is a short one; an interrupted
+    # or failed demo ends its workers at once (nested runs resume from their checkpoints)
+    drain(executor, run_event, jobs, finished, window=1 if workers == 1 else len(jobs))
     executor.close()
     return [event_dir for _, event_dir in jobs]
 

@@ -3,9 +3,8 @@ from __future__ import annotations
 
 import os
 
-from ..common.writing import output_folder, provenance, write_text
-from ..inference.runner import run_event
-from ..inference.setup import prepare
+from ..common.writing import write_text
+from ..inference.one_event import run_one_event
 from ..inputs.config import load_evidence_settings
 from ..reports.event import event_page
 from ..reports.html import number
@@ -19,29 +18,13 @@ def add_arguments(parser):
     parser.add_argument("--verbose", action="store_true", help="show bilby's and dynesty's log messages")
 
 
-def seeded_bilby(seed: int):
-    """bilby's own generator seeded with ``seed`` (the noise, its prior draws and its equal-weight resampling all
-    draw from it); returned, to be passed on explicitly."""
-    from bilby.core.utils import random
-
-    random.seed(int(seed))
-    return random.rng
-
-
 def run(args) -> int:
     if getattr(args, "verbose", False):
         import logging
 
         logging.getLogger("bilby").setLevel(logging.INFO)
     settings = load_evidence_settings(args.config)
-    setup = prepare(settings, seeded_bilby(settings.data.seed))  # every input checked before anything is written
-    output_folder(args.outdir)
-    result = run_event(setup, args.outdir, progress=not getattr(args, "quiet", False))
-    result.provenance = provenance(setup.settings.as_mapping(), settings.sampler.seed)
-    result = result.reloaded()  # the report sees exactly what the file holds
-    page = event_page(result)
-    result.save(os.path.join(args.outdir, EventResult.FILE))
-    write_text(os.path.join(args.outdir, "report.html"), page)
+    result = write_event(run_one_event(settings, args.outdir, progress=not getattr(args, "quiet", False)), args.outdir)
     headline = result.headline
     if headline:
         print(f"{result.event}: ln BF (memory vs none) = {number(headline.ln_bf, headline.ln_bf_err, 3)} "
@@ -53,3 +36,13 @@ def run(args) -> int:
         print(f"warning: {warning}")
     print(f"wrote {os.path.join(args.outdir, EventResult.FILE)} and {os.path.join(args.outdir, 'report.html')}")
     return 0
+
+
+def write_event(result: EventResult, outdir: str) -> EventResult:
+    """Write an event's evidence.json and report.html into ``outdir``; returns the result as the file holds it (the
+    report sees exactly that)."""
+    result = result.reloaded()
+    page = event_page(result)
+    result.save(os.path.join(outdir, EventResult.FILE))
+    write_text(os.path.join(outdir, "report.html"), page)
+    return result

@@ -13,6 +13,7 @@ orientation. Detector-frame masses are ``(1+z)`` times source-frame masses.
 from __future__ import annotations
 
 import os
+from dataclasses import dataclass, fields
 
 import numpy as np
 
@@ -20,42 +21,66 @@ from .config import NUMBER, apply_schema, load_toml
 from ..common.errors import MemoryInferError
 from .checks import SOURCE_PARAMETERS, ZERO_DEFAULTS, check_physical
 
+
+
+@dataclass(frozen=True)
+class Population:
+    """A checked population description (the module's docstring gives each field's meaning); made from its TOML
+    by :func:`load_population`, refused in one sentence when a value is out of range."""
+
+    alpha: float = 2.35
+    minimum_mass: float = 5.0
+    maximum_mass: float = 80.0
+    mass_ratio_minimum: float = 0.1
+    spin_max: float = 0.8
+    redshift_max: float | None = None
+    source_frame_time: bool = True
+    minimum_total_mass: float = 0.0
+    spin_orientation: str = "aligned"
+
+    def __post_init__(self):
+        if not 0 < self.minimum_mass < self.maximum_mass:
+            raise MemoryInferError("the population needs 0 < minimum_mass < maximum_mass")
+        if not 0 < self.mass_ratio_minimum <= 1:
+            raise MemoryInferError("the population's mass_ratio_minimum must lie in (0, 1]")
+        if not 0 <= self.spin_max <= 1:
+            raise MemoryInferError("the population's spin_max must lie in [0, 1]")
+        if self.redshift_max is not None and not 0 < self.redshift_max <= 20:
+            raise MemoryInferError("the population's redshift_max must lie in (0, 20]")
+        if self.spin_orientation not in SPIN_ORIENTATIONS:
+            raise MemoryInferError("the population's spin_orientation must be 'aligned' or 'isotropic'")
+        if self.minimum_total_mass >= 2 * self.maximum_mass:
+            raise MemoryInferError("the population's minimum_total_mass must lie below twice maximum_mass")
+
+
+SPIN_ORIENTATIONS = ("aligned", "isotropic")
+_DEFAULTS = {field.name: field.default for field in fields(Population)}
 POPULATION_SCHEMA = {
     "population": {
-        "alpha": (NUMBER, 2.35), "minimum_mass": (NUMBER, 5.0), "maximum_mass": (NUMBER, 80.0),
-        "mass_ratio_minimum": (NUMBER, 0.1), "spin_max": (NUMBER, 0.8),
-        "redshift_max": (NUMBER, None), "source_frame_time": (bool, True),
-        "minimum_total_mass": (NUMBER, 0.0), "spin_orientation": (str, "aligned"),
+        "alpha": (NUMBER, _DEFAULTS["alpha"]), "minimum_mass": (NUMBER, _DEFAULTS["minimum_mass"]),
+        "maximum_mass": (NUMBER, _DEFAULTS["maximum_mass"]),
+        "mass_ratio_minimum": (NUMBER, _DEFAULTS["mass_ratio_minimum"]), "spin_max": (NUMBER, _DEFAULTS["spin_max"]),
+        "redshift_max": (NUMBER, _DEFAULTS["redshift_max"]),
+        "source_frame_time": (bool, _DEFAULTS["source_frame_time"]),
+        "minimum_total_mass": (NUMBER, _DEFAULTS["minimum_total_mass"]),
+        "spin_orientation": (str, _DEFAULTS["spin_orientation"]),
     }
 }
 # the largest redshift a network's detected binary black holes reach, by network (a default for
 # ``redshift_max``; campaigns warn when detected events crowd against it)
 NETWORK_REDSHIFT = {"hl-o4": 1.0, "hl-design": 1.5, "hlv-design": 1.5, "hlv-aplus": 2.5, "et": 10.0, "ce": 10.0,
                     "ce-et": 10.0}
-SPIN_ORIENTATIONS = ("aligned", "isotropic")
 
 
-def load_population(path: str) -> dict:
-    config = apply_schema(load_toml(path), POPULATION_SCHEMA, os.path.basename(path))["population"]
-    if not 0 < config["minimum_mass"] < config["maximum_mass"]:
-        raise MemoryInferError("the population needs 0 < minimum_mass < maximum_mass")
-    if not 0 < config["mass_ratio_minimum"] <= 1:
-        raise MemoryInferError("the population's mass_ratio_minimum must lie in (0, 1]")
-    if not 0 <= config["spin_max"] <= 1:
-        raise MemoryInferError("the population's spin_max must lie in [0, 1]")
-    if config["redshift_max"] is not None and not 0 < config["redshift_max"] <= 20:
-        raise MemoryInferError("the population's redshift_max must lie in (0, 20]")
-    if config["spin_orientation"] not in SPIN_ORIENTATIONS:
-        raise MemoryInferError("the population's spin_orientation must be 'aligned' or 'isotropic'")
-    if config["minimum_total_mass"] >= 2 * config["maximum_mass"]:
-        raise MemoryInferError("the population's minimum_total_mass must lie below twice maximum_mass")
-    return config
+def load_population(path: str) -> Population:
+    """A population from its TOML file (``[population]``), checked key by key, then as a whole."""
+    return Population(**apply_schema(load_toml(path), POPULATION_SCHEMA, os.path.basename(path))["population"])
 
 
-def redshift_reach(population: dict, network: str) -> float:
+def redshift_reach(population: Population, network: str) -> float:
     """The population's ``redshift_max``, or the network's default reach when it has none."""
-    if population["redshift_max"] is not None:
-        return float(population["redshift_max"])
+    if population.redshift_max is not None:
+        return float(population.redshift_max)
     return NETWORK_REDSHIFT.get(network, 2.0)
 
 
@@ -80,16 +105,16 @@ def _redshift_sampler(redshift_max: float, source_frame_time: bool):
     return grid, cdf, distances
 
 
-def _source_masses(rng, population: dict, count: int):
+def _source_masses(rng, population: Population, count: int):
     """(m1, m2) in the source frame: m2 >= minimum_mass, m1 + m2 >= minimum_total_mass (redrawn until so)."""
-    low, high = population["minimum_mass"], population["maximum_mass"]
+    low, high = population.minimum_mass, population.maximum_mass
     m1, m2 = np.empty(count), np.empty(count)
     missing = np.arange(count)
     for _ in range(1000):
-        primary = _power_law(rng, population["alpha"], low, high, missing.size)
-        smallest_ratio = np.maximum(population["mass_ratio_minimum"], low / primary)
+        primary = _power_law(rng, population.alpha, low, high, missing.size)
+        smallest_ratio = np.maximum(population.mass_ratio_minimum, low / primary)
         secondary = primary * rng.uniform(smallest_ratio, 1.0)
-        good = primary + secondary >= population["minimum_total_mass"]
+        good = primary + secondary >= population.minimum_total_mass
         m1[missing[good]], m2[missing[good]] = primary[good], secondary[good]
         missing = missing[~good]
         if not missing.size:
@@ -97,9 +122,9 @@ def _source_masses(rng, population: dict, count: int):
     raise MemoryInferError("the population's minimum_total_mass leaves almost no binaries to draw")
 
 
-def _spins(rng, population: dict, count: int) -> dict:
-    magnitudes = rng.uniform(0, population["spin_max"], (2, count))
-    if population["spin_orientation"] == "isotropic":
+def _spins(rng, population: Population, count: int) -> dict:
+    magnitudes = rng.uniform(0, population.spin_max, (2, count))
+    if population.spin_orientation == "isotropic":
         tilts = np.arccos(rng.uniform(-1, 1, (2, count)))
         angles = rng.uniform(0, 2 * np.pi, (2, count))
     else:
@@ -109,12 +134,12 @@ def _spins(rng, population: dict, count: int) -> dict:
             "phi_12": angles[0], "phi_jl": angles[1]}
 
 
-def draw(population: dict, count: int, seed: int, geocent_time: float, redshift_max: float | None = None) -> list:
+def draw(population: Population, count: int, seed: int, geocent_time: float, redshift_max: float | None = None) -> list:
     """``count`` sources (dicts of bilby parameters, detector frame) from a seeded generator, out to
     ``redshift_max`` (default: the population's own, else 2)."""
     rng = np.random.default_rng(seed)
-    reach = redshift_max or population.get("redshift_max") or 2.0
-    grid, cdf, distances = _redshift_sampler(reach, population["source_frame_time"])
+    reach = redshift_max or population.redshift_max or 2.0
+    grid, cdf, distances = _redshift_sampler(reach, population.source_frame_time)
     m1, m2 = _source_masses(rng, population, count)
     redshift = np.interp(rng.uniform(size=count), cdf, grid)
     distance = np.interp(redshift, grid, distances)

@@ -10,7 +10,7 @@ def test_plan_is_seeded_and_identical_on_every_call(tmp_path):
     config = load_campaign_settings(campaign_config(tmp_path, count=30, amplitude='"prior"'))
     first, second = plan(config), plan(config)
     assert fingerprint(first) == fingerprint(second) and len(first) == 30
-    amplitudes = [t["amplitude"] for t in first]
+    amplitudes = [t.amplitude for t in first]
     assert min(amplitudes) >= -5 and max(amplitudes) <= 5 and len(set(amplitudes)) == 30
 
 

@@ -13,7 +13,7 @@ import time
 
 import pytest
 
-from memory_infer.campaign.executors import ProcessExecutor
+from memory_infer.common.executors import ProcessExecutor
 
 from helpers import campaign_config, equal_to_rounding, run_store, stored
 

@@ -25,3 +25,12 @@ def test_campaign_with_no_detected_injection_finishes_with_an_empty_forecast(tmp
     summary = json.loads((outdir / "campaign.json").read_text())
     assert summary["n_injections"] == 4 and summary["n_detected"] == 0 and summary["ln_bf_values"] == []
     assert (outdir / "report.html").exists()
+
+
+def test_a_bad_population_is_one_sentence_and_writes_nothing(tmp_path, capsys):
+    # the plan (every injection, its population checked) is made before the output folder
+    (tmp_path / "population.toml").write_text("[population]\nspin_max = 2.0\n")
+    config = campaign_config(tmp_path, count=4, injections=str(tmp_path / "population.toml"))
+    assert main(["campaign", config, "--outdir", str(tmp_path / "out")]) == 2
+    assert capsys.readouterr().err.strip() == ("memory-infer campaign: the population's spin_max must lie in [0, 1].")
+    assert not (tmp_path / "out").exists()

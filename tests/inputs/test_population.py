@@ -14,7 +14,7 @@ def test_population_draws_are_seeded_and_physical(tmp_path):
     config = load_campaign_settings(campaign_config(tmp_path, count=500))
     first, second = plan(config), plan(config)
     assert first == second
-    sources = [t["source"] for t in first]
+    sources = [t.source for t in first]
     redshift = np.array([s["redshift"] for s in sources])
     assert np.all((redshift > 0) & (redshift <= 10.0))  # no redshift_max: Cosmic Explorer's reach, z = 10
     assert redshift.max() > 5
@@ -87,9 +87,40 @@ def test_campaign_warns_when_the_range_truncates_detections(tmp_path):
     # Cosmic Explorer detects binary black holes far beyond z = 0.3: most detections crowd against it
     from memory_infer.campaign.summary import summarize
 
-    from memory_infer.campaign.executors import InlineExecutor
+    from memory_infer.common.executors import InlineExecutor
     population_file(tmp_path, redshift_max=0.3)
     path = campaign_config(tmp_path, count=20, injections=str(tmp_path / "population.toml"))
     run_store(path, str(tmp_path / "out"), InlineExecutor(), 4)
     summary = summarize(list(stored(str(tmp_path / "out")).values()), load_campaign_settings(path))
     assert summary.warnings and "redshift_max = 0.3" in summary.warnings[0]
+
+
+@pytest.mark.parametrize("keys, message", [
+    (dict(spin_max=1.5), "the population's spin_max must lie in \\[0, 1\\]"),
+    (dict(redshift_max=30.0), "the population's redshift_max must lie in \\(0, 20\\]"),
+    (dict(spin_orientation="sideways"), "the population's spin_orientation must be 'aligned' or 'isotropic'"),
+    (dict(minimum_total_mass=200.0), "the population's minimum_total_mass must lie below twice maximum_mass"),
+])
+def test_a_bad_population_is_refused_in_one_sentence_before_any_draw(tmp_path, keys, message):
+    from memory_infer.inputs.population import Population, load_population
+
+    with pytest.raises(MemoryInferError, match=f"^{message}$"):
+        load_population(population_file(tmp_path, **keys))
+    with pytest.raises(MemoryInferError, match=f"^{message}$"):  # the typed population checks itself
+        Population(**keys)
+    config = load_campaign_settings(campaign_config(tmp_path, count=5, injections=str(tmp_path / "population.toml")))
+    with pytest.raises(MemoryInferError, match=f"^{message}$"):  # the campaign's plan, before any injection runs
+        plan(config)
+
+
+def test_a_population_is_frozen(tmp_path):
+    import dataclasses
+
+    from memory_infer.inputs.population import Population, load_population
+
+    population = load_population(population_file(tmp_path))
+    assert isinstance(population, Population) and population.mass_ratio_minimum == 0.05
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        population.alpha = 3.0
+    with pytest.raises(MemoryInferError, match="^the population needs 0 < minimum_mass < maximum_mass$"):
+        Population(minimum_mass=90.0)

@@ -207,6 +207,7 @@ def _reference_snr_at_2048():
 def test_source_model_rank_and_campaign_record_agree_with_the_reference():
     import dataclasses
 
+    from memory_infer.campaign.config import InjectionTask
     from memory_infer.campaign.injection import build_network, run_injection
     from memory_infer.commands.rank import memory_snr, ranking_network
     from memory_infer.inputs.settings import CampaignSettings
@@ -231,8 +232,7 @@ def test_source_model_rank_and_campaign_record_agree_with_the_reference():
                                    data=dataclasses.replace(base.data, duration=DURATION, sampling_rate=2048.0,
                                                             minimum_frequency=20.0),
                                    model=dataclasses.replace(base.model, reference_frequency=20.0))
-    record = run_injection({"index": 0, "source": source, "amplitude": 1.0, "settings": settings},
-                           build_network(settings))
+    record = run_injection(InjectionTask(0, source, 1.0, settings, "work"), build_network(settings))
     assert record["status"] == "ok", record["error"]
     assert abs(record["memory_snr"] / expected - 1) < 5e-3  # convergence reference (module docstring)
 

@@ -1,5 +1,7 @@
-"""A catalog run's events: from a catalog file (TOML) or from a folder of releases and strain files named as the
-open-data archive names them. Each event becomes an evidence configuration mapping, checked when it runs.
+"""The list of releases a catalog run works through: from a catalog file (TOML) or from a folder of releases and
+strain files named as the open-data archive names them. Each event becomes a :class:`ReleaseEntry`: its evidence
+configuration mapping, or the one sentence saying why it cannot run (the mapping itself is checked, in the
+command's own process, before any event runs: :func:`memory_infer.catalog.release_runs.plan_events`).
 
 Catalog file::
 
@@ -26,6 +28,7 @@ import copy
 import glob
 import os
 import re
+from dataclasses import dataclass, field
 
 from ..common.errors import MemoryInferError
 from .config import load_toml
@@ -35,6 +38,25 @@ EVENT_KEYS = ("label", "release", "analysis", "strain", "psd", "overrides")
 BUILT_IN_DEFAULTS = {"evidence": {"methods": ["reweighting"]}}  # reweighting needs no priors
 STRAIN_NAME = re.compile(r"^([A-Z])-([A-Z][A-Z0-9])_[^/]*-(\d+)-(\d+)\.(hdf5|h5|gwf|txt)$")
 EVENT_NAME = re.compile(r"(GW\d{6}(?:_\d{6})?|S\d{6}[a-z]+)")
+
+
+@dataclass(frozen=True)
+class ReleaseEntry:
+    """One event of a release list: its label and evidence-configuration mapping (paths absolute), or, when it
+    cannot run, ``refused``: one sentence saying why (its mapping then empty)."""
+
+    label: str
+    mapping: dict = field(default_factory=dict)
+    refused: str = ""
+
+
+@dataclass(frozen=True)
+class ReleaseList:
+    """A catalog run's events in order, its name, and its raw ``[cluster]`` section (checked by the command)."""
+
+    name: str
+    entries: tuple
+    cluster: dict = field(default_factory=dict)
 
 
 def _merge(base: dict, extra: dict) -> dict:
@@ -89,8 +111,8 @@ def event_mapping(entry: dict, defaults: dict, directory: str, where: str) -> di
     return raw
 
 
-def load_catalog_file(path: str) -> tuple:
-    """(name, [(label, mapping)], the raw [cluster] section) from a catalog TOML file."""
+def load_catalog_file(path: str) -> ReleaseList:
+    """The release list of a catalog TOML file."""
     content = load_toml(path)
     source = os.path.basename(path)
     for section in content:
@@ -112,9 +134,12 @@ def load_catalog_file(path: str) -> tuple:
         if label in seen:
             raise MemoryInferError(f"event label '{label}' appears twice in {source}")
         seen.add(label)
-        events.append((label, event_mapping(entry, defaults, directory, where)))
+        events.append(ReleaseEntry(label, event_mapping(entry, defaults, directory, where)))
+    cluster = content.get("cluster") or {}
+    if not isinstance(cluster, dict):
+        raise MemoryInferError(f"[cluster] in {source} must be a table")
     name = str((content.get("catalog") or {}).get("name", os.path.splitext(source)[0]))
-    return name, events, content.get("cluster") or {}
+    return ReleaseList(name, tuple(events), cluster)
 
 
 def release_label(path: str) -> str:
@@ -124,8 +149,8 @@ def release_label(path: str) -> str:
     return found.group(1) if found else stem
 
 
-def load_catalog_folder(folder: str) -> tuple:
-    """(name, [(label, mapping)], {}) from a folder of releases and strain files named as published
+def load_catalog_folder(folder: str) -> ReleaseList:
+    """The release list of a folder of releases and strain files named as published
     (``H-H1_GWOSC_4KHZ_R1-<GPS start>-<duration>.hdf5``): each release takes the files covering its trigger time."""
     from .readers import is_release
     from .release_settings import read_release_settings
@@ -146,10 +171,10 @@ def load_catalog_folder(folder: str) -> tuple:
         try:
             found = read_release_settings(release)
         except MemoryInferError as error:
-            events.append((label, {"_refused": str(error)}))
+            events.append(ReleaseEntry(label, refused=str(error)))
             continue
         if "trigger_time" not in found:
-            events.append((label, {"_refused": f"{where} gives no trigger time"}))
+            events.append(ReleaseEntry(label, refused=f"{where} gives no trigger time"))
             continue
         trigger = float(found["trigger_time"][0])
         files = {}
@@ -157,24 +182,24 @@ def load_catalog_folder(folder: str) -> tuple:
             if start <= trigger < start + duration and detector not in files:
                 files[detector] = os.path.relpath(path, folder)
         if not files:
-            events.append((label, {"_refused": f"no strain file in the folder covers the trigger time {trigger:.3f} "
-                                               f"of {where}"}))
+            events.append(ReleaseEntry(label, refused=f"no strain file in the folder covers the trigger time "
+                                                      f"{trigger:.3f} of {where}"))
             continue
         missing = uncovered_detector(found.get("detectors", (None,))[0], files, strain, trigger, where, folder)
         if missing:  # never run on fewer detectors than the release analysed without a word
-            events.append((label, {"_refused": missing}))
+            events.append(ReleaseEntry(label, refused=missing))
             continue
         entry = {"label": label, "release": os.path.relpath(release, folder), "strain": files}
-        events.append((label, event_mapping(entry, {}, os.path.abspath(folder), where)))
-    labels = [label for label, _ in events]
+        events.append(ReleaseEntry(label, event_mapping(entry, {}, os.path.abspath(folder), where)))
+    labels = [event.label for event in events]
     duplicates = sorted({label for label in labels if labels.count(label) > 1})
     if duplicates:
         named = "; ".join(f"{label} in " + " and ".join(f"'{os.path.relpath(release, folder)}'"
-                                                       for release, (other, _) in zip(releases, events)
-                                                       if other == label) for label in duplicates)
+                                                       for release, other in zip(releases, events)
+                                                       if other.label == label) for label in duplicates)
         raise MemoryInferError(f"several releases in '{folder}' hold the same event ({named}); keep one release per "
                                "event in the folder, or list the events in a catalog file with labels of their own")
-    return os.path.basename(os.path.normpath(folder)), events, {}
+    return ReleaseList(os.path.basename(os.path.normpath(folder)), tuple(events))
 
 
 NEARBY = 64.0  # s: a detector's file ending or starting this close to a trigger is taken as meant for that event
@@ -200,8 +225,8 @@ def uncovered_detector(analysed, files: dict, strain: list, trigger: float, wher
     return None
 
 
-def load_catalog(path: str) -> tuple:
-    """A catalog file or a folder of releases and strain files."""
+def load_release_list(path: str) -> ReleaseList:
+    """The release list of a catalog file or of a folder of releases and strain files."""
     if os.path.isdir(path):
         return load_catalog_folder(path)
     return load_catalog_file(path)

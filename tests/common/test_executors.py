@@ -11,7 +11,8 @@ import numpy as np
 import pytest
 
 from memory_infer.campaign.config import fingerprint, load_campaign_settings, plan
-from memory_infer.campaign.executors import InlineExecutor, ProcessExecutor, execute
+from memory_infer.campaign.injection import execute
+from memory_infer.common.executors import InlineExecutor, ProcessExecutor
 from memory_infer.campaign.store import RecordStore
 from memory_infer.common.errors import MemoryInferError
 
@@ -120,7 +121,7 @@ def test_local_workers_get_one_blas_thread_each_unless_chosen(monkeypatch):
     # campaign's own environment is left as it was
     import os
 
-    from memory_infer.campaign.executors import THREAD_VARIABLES, ProcessExecutor
+    from memory_infer.common.executors import THREAD_VARIABLES, ProcessExecutor
 
     for name in THREAD_VARIABLES:
         monkeypatch.delenv(name, raising=False)

@@ -1,13 +1,13 @@
-"""Where a campaign's injections run: in this process, in local processes, or on Dask (a given scheduler,
-or Slurm/HTCondor jobs through dask-jobqueue), with a bounded window of submitted tasks."""
+"""Where independent tasks (a campaign's injections, a catalog's events, the demo's events) run: in this process,
+in local processes, or on Dask (a given scheduler, or Slurm/HTCondor jobs through dask-jobqueue). The windowed
+submit-and-drain loop over them is :func:`memory_infer.common.drain.drain`."""
 from __future__ import annotations
 
 import concurrent.futures
 import contextlib
 import os
 
-from ..common.errors import MemoryInferError
-from .store import RecordStore
+from .errors import MemoryInferError
 
 
 class InlineExecutor:
@@ -38,7 +38,7 @@ WORKER_FLAG = "MEMORY_INFER_CAMPAIGN_WORKER"  # set in each worker: Ctrl-C is th
 def start_worker(campaign_pid: int, setup=None) -> None:
     """A worker's start, as the command line sets up its own process: the allocator tuning, the command's own
     ``setup`` (its log levels), Ctrl-C left to the campaign, and death with the campaign."""
-    from ..common.performance import tune_allocator
+    from .performance import tune_allocator
 
     tune_allocator()
     if setup is not None:
@@ -225,40 +225,3 @@ class _WorkerStart:
 
     def __call__(self, dask_worker=None):
         self.function()
-
-
-def batches(tasks, size: int) -> list:
-    return [tasks[i:i + size] for i in range(0, len(tasks), size)]
-
-
-def execute(tasks, store: RecordStore, executor, progress: bool = True, window: int = 64, batch: int = 8) -> int:
-    """Submit what is not yet stored in batches of ``batch`` injections (each batch builds its generator and
-    network once, :func:`memory_infer.campaign.injection.run_injections`), at most ``window`` injections at a
-    time; store each record as its batch finishes."""
-    from tqdm import tqdm
-
-    from .injection import run_injections
-
-    done = store.done()
-    todo = batches([t for t in tasks if t["index"] not in done], max(1, int(batch)))
-    bar = tqdm(total=len(tasks), initial=len(done), desc="injections", unit="inj", disable=not progress,
-               smoothing=0.05)
-    pending, position, written = set(), 0, 0
-    limit = max(1, window // max(1, int(batch)))
-    try:
-        while position < len(todo) or pending:
-            while position < len(todo) and len(pending) < limit:
-                pending.add(executor.submit(run_injections, todo[position]))
-                position += 1
-            for future in executor.as_completed(list(pending)):
-                pending.discard(future)
-                records = future.result()
-                for record in records:
-                    store.write(record)
-                written += len(records)
-                bar.update(len(records))
-                if position < len(todo):
-                    break  # top the window up again
-    finally:
-        bar.close()
-    return written
