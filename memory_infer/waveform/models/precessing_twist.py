@@ -6,8 +6,8 @@
 angles of mode ``m'`` taken at the orbital frequency of that mode, ``2 f / m'``. The co-precessing modes
 ``h'_{l,-m'}`` (m' = 1..l, the model's five) come from lalsimulation's ``SimIMRPhenomXPHMOneMode`` with
 ``PhenomXPHMPrecModes = 1``; the angles of the default precession version (223: the multiple-scale angles of
-Phys. Rev. D 95, 104004 (2017)) from ``SimIMRPhenomXPMSAAngles`` (``eps = -gamma``), which returns them for
-phi_ref = 0: alpha is turned by ``alpha0(phi_ref) - alpha0(0)`` of
+Phys. Rev. D 95, 104004 (2017)) from one call of ``SimIMRPhenomXPMSAAngles`` for all four m' (:func:`msa_angles`;
+``eps = -gamma``), which returns them for phi_ref = 0: alpha is turned by ``alpha0(phi_ref) - alpha0(0)`` of
 ``SimIMRPhenomXPCalculateModelParametersFromSourceFrame``.
 
 ``SimInspiralChooseFDModes`` builds each of the 21 J-frame modes in its own call, each regenerating the five
@@ -24,10 +24,11 @@ from functools import lru_cache
 import numpy as np
 
 from ...common.compiled import compiled
-from ..sphere import wigner_d, wigner_terms  # noqa: F401 (wigner_d: this module's twist, and its tests)
+from ..sphere import wigner_d, wigner_terms  # noqa: F401 (wigner_d: for its tests)
 from .lal_modes import _lal
 
 COPRECESSING = ((2, 1), (2, 2), (3, 2), (3, 3), (4, 4))  # (l, m') of the model's co-precessing modes
+M_PRIMES = (1, 2, 3, 4)  # the angles' m' (their rows in :func:`twist_into`)
 MSA_VERSIONS = (220, 221, 222, 223, 224)
 CHECK_TOLERANCE = 1e-2  # the single-mode check: lalsimulation's own mode on a few frequencies (not multibanded)
 
@@ -42,51 +43,106 @@ def default_precession_version() -> int:
 
 @lru_cache(maxsize=1)
 def twist_terms():
-    """(J-frame keys in lalsimulation's order, term arrays of :func:`twist_sums`): one entry per term of
-    ``d^l_{m,-m'}`` (positive frequencies) and ``d^l_{m,m'}`` (negative ones) of every co-precessing mode."""
+    """(J-frame keys in lalsimulation's order, tables of :func:`twist_into`): one group per J-frame mode,
+    co-precessing mode and side (``d^l_{m,-m'}`` at positive frequencies, ``(-1)^l d^l_{m,m'}`` at negative ones),
+    each group the terms ``coefficient cos(beta/2)^p sin(beta/2)^q`` of its small d."""
     keys = tuple((l, m) for l in (4, 3, 2) for m in range(l, -l - 1, -1))  # l, then m, descending
-    rows, sources, sides, orders, coefficients, cos_orders, sin_orders = [], [], [], [], [], [], []
+    rows, sources, sides, orders, starts = [], [], [], [], [0]
+    coefficients, cos_orders, sin_orders = [], [], []
     for row, (l, m) in enumerate(keys):
         for j, (ll, mp) in enumerate(COPRECESSING):
             if ll != l:
                 continue
-            for side, b in ((0, -mp), (1, mp)):
+            for side, b, sign in ((0, -mp, 1), (1, mp, (-1) ** l)):
+                rows.append(row), sources.append(j), sides.append(side), orders.append(m + 4)
                 for coefficient, p, q in wigner_terms(l, m, b):
-                    rows.append(row), sources.append(j), sides.append(side), orders.append(m + 4)
-                    coefficients.append(coefficient), cos_orders.append(p), sin_orders.append(q)
-    as_int = [np.array(x, dtype=np.int64) for x in (rows, sources, sides, orders, cos_orders, sin_orders)]
-    terms = (*as_int[:4], np.array(coefficients), *as_int[4:])
+                    coefficients.append(sign * coefficient), cos_orders.append(p), sin_orders.append(q)
+                starts.append(len(coefficients))
+    as_int = [np.array(x, dtype=np.int64) for x in (rows, sources, sides, orders, starts, cos_orders, sin_orders)]
+    angle_rows = np.array([M_PRIMES.index(mp) for _, mp in COPRECESSING], dtype=np.int64)
+    terms = (angle_rows, *as_int[:5], np.array(coefficients), *as_int[5:])
     for array in terms:
         array.flags.writeable = False
     return keys, terms
 
 
 @compiled
-def twist_sums(turned, cos_beta, spin, rows, sources, sides, orders, coefficients, cos_orders, sin_orders, out):
-    """``out[row, side, t] += coefficient cos(beta/2)^p sin(beta/2)^q e^{-i m alpha} x`` over the terms, with
-    ``x = turned[j, t]`` (side 0, positive frequencies) or its conjugate (side 1)."""
-    sources_n, n = turned.shape
-    cos_powers = np.empty((sources_n, 9))
-    sin_powers = np.empty((sources_n, 9))
-    turns = np.empty((sources_n, 9), dtype=np.complex128)
-    for t in range(n):
-        for j in range(sources_n):
-            c = np.sqrt(0.5 * (1.0 + cos_beta[j, t]))
-            s = np.sqrt(0.5 * (1.0 - cos_beta[j, t]))
-            cos_powers[j, 0], sin_powers[j, 0], turns[j, 4] = 1.0, 1.0, 1.0
+def twist_into(coprecessing, alpha, gamma, cos_beta, turn, first, centre, angle_rows, rows, sources, sides, orders,
+              starts, coefficients, cos_orders, sin_orders, out):
+    """``out[row, centre + first + t] += d e^{-i m (alpha + turn)} x`` and ``out[row, centre - first - t] += d'
+    e^{-i m (alpha + turn)} conj(x)`` over the groups (``d``, ``d'`` the groups' small d of ``beta``), with
+    ``x = e^{i m' gamma} h'_{l,-m'}`` (``coprecessing[j, t]``), the angles of ``m'`` on row ``angle_rows[j] = m' - 1``.
+    Each stage runs along the frequencies (contiguous rows; the output's rows are far apart in memory)."""
+    n_angles, n = alpha.shape
+    n_sources = coprecessing.shape[0]
+    cos_powers = np.empty((n_angles, 9, n))
+    sin_powers = np.empty((n_angles, 9, n))
+    turns = np.empty((n_angles, 9, n), dtype=np.complex128)
+    turned = np.empty((n_sources, 2, n), dtype=np.complex128)
+    for a in range(n_angles):
+        for t in range(n):
+            cosine = min(max(cos_beta[a, t], -1.0), 1.0)
+            c = np.sqrt(0.5 * (1.0 + cosine))
+            s = np.sqrt(0.5 * (1.0 - cosine))
+            cos_powers[a, 0, t] = 1.0
+            sin_powers[a, 0, t] = 1.0
             for p in range(1, 9):
-                cos_powers[j, p] = cos_powers[j, p - 1] * c
-                sin_powers[j, p] = sin_powers[j, p - 1] * s
+                cos_powers[a, p, t] = cos_powers[a, p - 1, t] * c
+                sin_powers[a, p, t] = sin_powers[a, p - 1, t] * s
+            angle = alpha[a, t] + turn
+            spin = complex(np.cos(angle), -np.sin(angle))
+            turns[a, 4, t] = 1.0
             for m in range(1, 5):
-                turns[j, 4 + m] = turns[j, 3 + m] * spin[j, t]
-                turns[j, 4 - m] = np.conj(turns[j, 4 + m])
-        for e in range(rows.size):
-            j = sources[e]
-            value = coefficients[e] * cos_powers[j, cos_orders[e]] * sin_powers[j, sin_orders[e]] * turns[j, orders[e]]
-            if sides[e] == 0:
-                out[rows[e], 0, t] += value * turned[j, t]
-            else:
-                out[rows[e], 1, t] += value * np.conj(turned[j, t])
+                turns[a, 4 + m, t] = turns[a, 3 + m, t] * spin
+                turns[a, 4 - m, t] = np.conj(turns[a, 4 + m, t])
+    for j in range(n_sources):
+        a = angle_rows[j]
+        for t in range(n):
+            angle = (a + 1) * gamma[a, t]
+            value = complex(np.cos(angle), np.sin(angle)) * coprecessing[j, t]
+            turned[j, 0, t] = value
+            turned[j, 1, t] = np.conj(value)
+    d = np.empty(n)
+    for g in range(rows.size):
+        j = sources[g]
+        a = angle_rows[j]
+        d[:] = 0.0
+        for e in range(starts[g], starts[g + 1]):
+            coefficient = coefficients[e]
+            cp = cos_powers[a, cos_orders[e]]
+            sp = sin_powers[a, sin_orders[e]]
+            for t in range(n):
+                d[t] += coefficient * cp[t] * sp[t]
+        tw = turns[a, orders[g]]
+        x = turned[j, sides[g]]
+        row = rows[g]
+        if sides[g] == 0:
+            for t in range(n):
+                out[row, centre + first + t] += d[t] * tw[t] * x[t]
+        else:
+            for t in range(n):
+                out[row, centre - first - t] += d[t] * tw[t] * x[t]
+
+
+def msa_angles(lo, hi, delta_f, m1, m2, spins, inclination, reference_frequency):
+    """(alpha, gamma, cos beta) of every m' at the frequencies (rows in ``M_PRIMES`` order) from one call of
+    ``SimIMRPhenomXPMSAAngles`` on ``f = k delta_f``, ``lo <= k < hi``: mode ``m'``'s angles at ``f`` are the
+    m' = 2 angles at ``2 f / m'`` (the function uses m' only to take the orbital frequency ``2 f / m'`` of its
+    argument), so one call on the union of the ``2 f / m'``, multiples of ``delta_f / 6``, serves all four (the
+    same arguments to the last bit for m' = 1, 2, 4; for m' = 3 ``2 f / 3`` is rounded once instead of ``2 / 3``)."""
+    lal, lalsim = _lal()
+    k = np.arange(lo, hi, dtype=np.int64)
+    sixths = np.concatenate([(12 // mp) * k for mp in M_PRIMES])  # 2 f / m' in units of delta_f / 6
+    used = np.zeros(12 * hi, dtype=bool)
+    used[sixths] = True
+    union = np.flatnonzero(used)  # ascending, each once
+    where = (np.cumsum(used) - 1)[sixths]
+    arguments = lal.CreateREAL8Vector(union.size)
+    arguments.data[:] = union * delta_f / 6
+    alpha, gamma, cosine = lalsim.SimIMRPhenomXPMSAAngles(arguments, m1, m2, *spins, inclination,
+                                                          reference_frequency, 2, None)
+    where = where.reshape(len(M_PRIMES), k.size)
+    return alpha.data[where], gamma.data[where], cosine.data[where]
 
 
 def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, reference_frequency, phase, inclination,
@@ -116,33 +172,19 @@ def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, referen
         return None
     lo, hi = int(where[0]), int(where[-1]) + 1
     lo = max(lo, 1)
-    frequencies = lal.CreateREAL8Vector(hi - lo)
-    frequencies.data[:] = np.arange(lo, hi) * delta_f
     turn = (lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
         m1, m2, reference_frequency, phase, inclination, *spins, lal.CreateDict())[4]
         - lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
         m1, m2, reference_frequency, 0.0, inclination, *spins, lal.CreateDict())[4])
-    n = hi - lo
-    turned, cos_beta, spin = np.empty((5, n), complex), np.empty((5, n)), np.empty((5, n), complex)
-    for mp in sorted({mp for _, mp in COPRECESSING}):
-        alpha, gamma, cosine = lalsim.SimIMRPhenomXPMSAAngles(frequencies, m1, m2, *spins, inclination,
-                                                              reference_frequency, mp, None)
-        for j, (l, m_prime) in enumerate(COPRECESSING):
-            if m_prime == mp:  # e^{-i m' eps} h' with eps = -gamma; e^{-i alpha}
-                turned[j] = np.exp(1j * mp * gamma.data) * coprecessing[(l, mp)][lo:hi]
-                cos_beta[j] = np.clip(cosine.data, -1.0, 1.0)
-                spin[j] = np.exp(-1j * (alpha.data + turn))
-    keys, terms = twist_terms()
-    out = np.zeros((len(keys), 2, n), dtype=complex)
-    twist_sums(turned, cos_beta, spin, *terms, out)
-    modes = {}
-    for row, (l, m) in enumerate(keys):
-        mode = np.zeros(size, dtype=complex)
-        mode[half + lo:half + hi] = out[row, 0]
-        mode[half - hi + 1:half - lo + 1] = ((-1) ** l * out[row, 1])[::-1]
-        modes[(l, m)] = mode
-    if not all(np.all(np.isfinite(v)) for v in modes.values()):
+    alpha, gamma, cos_beta = msa_angles(lo, hi, delta_f, m1, m2, spins, inclination, reference_frequency)
+    sources = np.array([coprecessing[key][lo:hi] for key in COPRECESSING])
+    if not (np.isfinite(sources).all() and np.isfinite(alpha).all() and np.isfinite(gamma).all()
+            and np.isfinite(cos_beta).all()):  # finite inputs give finite modes (bounded factors)
         return None
+    keys, terms = twist_terms()
+    block = np.zeros((len(keys), size), dtype=complex)
+    twist_into(sources, alpha, gamma, cos_beta, float(turn), lo, half, *terms, block)
+    modes = {key: block[row] for row, key in enumerate(keys)}
     if not _agrees(modes, m1, m2, spins, delta_f, lo, hi, half, reference_frequency, phase, inclination, distance_m):
         return None
     return modes
