@@ -44,8 +44,8 @@ def default_precession_version() -> int:
 @lru_cache(maxsize=1)
 def twist_terms():
     """(J-frame keys in lalsimulation's order, tables of :func:`twist_into`): one group per J-frame mode,
-    co-precessing mode and side (``d^l_{m,-m'}`` at positive frequencies, ``(-1)^l d^l_{m,m'}`` at negative ones),
-    each group the terms ``coefficient cos(beta/2)^p sin(beta/2)^q`` of its small d."""
+    co-precessing mode and side (``d^l_{m,-m'}`` at positive frequencies, then ``(-1)^l d^l_{m,m'}`` at negative
+    ones: groups in pairs), each group the terms ``coefficient cos(beta/2)^p sin(beta/2)^q`` of its small d."""
     keys = tuple((l, m) for l in (4, 3, 2) for m in range(l, -l - 1, -1))  # l, then m, descending
     rows, sources, sides, orders, starts = [], [], [], [], [0]
     coefficients, cos_orders, sin_orders = [], [], []
@@ -68,17 +68,17 @@ def twist_terms():
 
 @compiled
 def twist_into(coprecessing, alpha, gamma, cos_beta, turn, first, centre, angle_rows, rows, sources, sides, orders,
-              starts, coefficients, cos_orders, sin_orders, out):
+               starts, coefficients, cos_orders, sin_orders, out):
     """``out[row, centre + first + t] += d e^{-i m (alpha + turn)} x`` and ``out[row, centre - first - t] += d'
-    e^{-i m (alpha + turn)} conj(x)`` over the groups (``d``, ``d'`` the groups' small d of ``beta``), with
+    e^{-i m (alpha + turn)} conj(x)`` over the pairs of groups (``d``, ``d'`` their small d of ``beta``), with
     ``x = e^{i m' gamma} h'_{l,-m'}`` (``coprecessing[j, t]``), the angles of ``m'`` on row ``angle_rows[j] = m' - 1``.
     Each stage runs along the frequencies (contiguous rows; the output's rows are far apart in memory)."""
     n_angles, n = alpha.shape
     n_sources = coprecessing.shape[0]
     cos_powers = np.empty((n_angles, 9, n))
     sin_powers = np.empty((n_angles, 9, n))
-    turns = np.empty((n_angles, 9, n), dtype=np.complex128)
-    turned = np.empty((n_sources, 2, n), dtype=np.complex128)
+    turns = np.empty((n_angles, 5, n), dtype=np.complex128)  # m = 0..4; negative m by conjugation
+    turned = np.empty((n_sources, n), dtype=np.complex128)
     for a in range(n_angles):
         for t in range(n):
             cosine = min(max(cos_beta[a, t], -1.0), 1.0)
@@ -91,37 +91,51 @@ def twist_into(coprecessing, alpha, gamma, cos_beta, turn, first, centre, angle_
                 sin_powers[a, p, t] = sin_powers[a, p - 1, t] * s
             angle = alpha[a, t] + turn
             spin = complex(np.cos(angle), -np.sin(angle))
-            turns[a, 4, t] = 1.0
+            turns[a, 0, t] = 1.0
             for m in range(1, 5):
-                turns[a, 4 + m, t] = turns[a, 3 + m, t] * spin
-                turns[a, 4 - m, t] = np.conj(turns[a, 4 + m, t])
+                turns[a, m, t] = turns[a, m - 1, t] * spin
     for j in range(n_sources):
         a = angle_rows[j]
         for t in range(n):
             angle = (a + 1) * gamma[a, t]
-            value = complex(np.cos(angle), np.sin(angle)) * coprecessing[j, t]
-            turned[j, 0, t] = value
-            turned[j, 1, t] = np.conj(value)
-    d = np.empty(n)
-    for g in range(rows.size):
+            turned[j, t] = complex(np.cos(angle), np.sin(angle)) * coprecessing[j, t]
+    d0 = np.empty(n)
+    d1 = np.empty(n)
+    for g in range(0, rows.size, 2):  # groups in pairs: side 0 then side 1 of the same row and source
         j = sources[g]
         a = angle_rows[j]
-        d[:] = 0.0
+        d0[:] = 0.0
+        d1[:] = 0.0
         for e in range(starts[g], starts[g + 1]):
             coefficient = coefficients[e]
             cp = cos_powers[a, cos_orders[e]]
             sp = sin_powers[a, sin_orders[e]]
             for t in range(n):
-                d[t] += coefficient * cp[t] * sp[t]
-        tw = turns[a, orders[g]]
-        x = turned[j, sides[g]]
-        row = rows[g]
-        if sides[g] == 0:
+                d0[t] += coefficient * cp[t] * sp[t]
+        for e in range(starts[g + 1], starts[g + 2]):
+            coefficient = coefficients[e]
+            cp = cos_powers[a, cos_orders[e]]
+            sp = sin_powers[a, sin_orders[e]]
             for t in range(n):
-                out[row, centre + first + t] += d[t] * tw[t] * x[t]
+                d1[t] += coefficient * cp[t] * sp[t]
+        m = orders[g] - 4
+        tw = turns[a, abs(m)]
+        x = turned[j]
+        row = rows[g]
+        base0 = centre + first
+        base1 = centre - first
+        if m >= 0:
+            for t in range(n):
+                y = tw[t] * x[t]
+                z = tw[t] * np.conj(x[t])
+                out[row, base0 + t] += d0[t] * y
+                out[row, base1 - t] += d1[t] * z
         else:
             for t in range(n):
-                out[row, centre - first - t] += d[t] * tw[t] * x[t]
+                y = np.conj(tw[t]) * x[t]
+                z = np.conj(tw[t]) * np.conj(x[t])
+                out[row, base0 + t] += d0[t] * y
+                out[row, base1 - t] += d1[t] * z
 
 
 def msa_angles(lo, hi, delta_f, m1, m2, spins, inclination, reference_frequency):
