@@ -30,6 +30,7 @@ from .lal_modes import _lal
 COPRECESSING = ((2, 1), (2, 2), (3, 2), (3, 3), (4, 4))  # (l, m') of the model's co-precessing modes
 M_PRIMES = (1, 2, 3, 4)  # the angles' m' (their rows in :func:`twist_into`)
 MSA_VERSIONS = (220, 221, 222, 223, 224)
+QUIET = 1e-7  # the twist's end: a co-precessing mode's last value above this fraction of the loudest mode's peak
 CHECK_TOLERANCE = 1e-2  # the single-mode check: lalsimulation's own mode on a few frequencies (not multibanded)
 
 
@@ -67,20 +68,24 @@ def twist_terms():
 
 
 @compiled
-def twist_into(coprecessing, alpha, gamma, cos_beta, turn, first, centre, angle_rows, rows, sources, sides, orders,
-               starts, coefficients, cos_orders, sin_orders, out):
+def twist_into(coprecessing, ends, alpha, gamma, cos_beta, turn, first, centre, angle_rows, rows, sources, sides,
+               orders, starts, coefficients, cos_orders, sin_orders, out):
     """``out[row, centre + first + t] += d e^{-i m (alpha + turn)} x`` and ``out[row, centre - first - t] += d'
     e^{-i m (alpha + turn)} conj(x)`` over the pairs of groups (``d``, ``d'`` their small d of ``beta``), with
     ``x = e^{i m' gamma} h'_{l,-m'}`` (``coprecessing[j, t]``), the angles of ``m'`` on row ``angle_rows[j] = m' - 1``.
-    Each stage runs along the frequencies (contiguous rows; the output's rows are far apart in memory)."""
+    Source ``j`` is taken for ``t < ends[j]`` only (zero beyond). Each stage runs along the frequencies (contiguous
+    rows; the output's rows are far apart in memory)."""
     n_angles, n = alpha.shape
     n_sources = coprecessing.shape[0]
+    angle_ends = np.zeros(n_angles, dtype=np.int64)
+    for j in range(n_sources):
+        angle_ends[angle_rows[j]] = max(angle_ends[angle_rows[j]], ends[j])
     cos_powers = np.empty((n_angles, 9, n))
     sin_powers = np.empty((n_angles, 9, n))
     turns = np.empty((n_angles, 5, n), dtype=np.complex128)  # m = 0..4; negative m by conjugation
     turned = np.empty((n_sources, n), dtype=np.complex128)
     for a in range(n_angles):
-        for t in range(n):
+        for t in range(angle_ends[a]):
             cosine = min(max(cos_beta[a, t], -1.0), 1.0)
             c = np.sqrt(0.5 * (1.0 + cosine))
             s = np.sqrt(0.5 * (1.0 - cosine))
@@ -96,7 +101,7 @@ def twist_into(coprecessing, alpha, gamma, cos_beta, turn, first, centre, angle_
                 turns[a, m, t] = turns[a, m - 1, t] * spin
     for j in range(n_sources):
         a = angle_rows[j]
-        for t in range(n):
+        for t in range(ends[j]):
             angle = (a + 1) * gamma[a, t]
             turned[j, t] = complex(np.cos(angle), np.sin(angle)) * coprecessing[j, t]
     d0 = np.empty(n)
@@ -104,19 +109,20 @@ def twist_into(coprecessing, alpha, gamma, cos_beta, turn, first, centre, angle_
     for g in range(0, rows.size, 2):  # groups in pairs: side 0 then side 1 of the same row and source
         j = sources[g]
         a = angle_rows[j]
-        d0[:] = 0.0
-        d1[:] = 0.0
+        end = ends[j]
+        d0[:end] = 0.0
+        d1[:end] = 0.0
         for e in range(starts[g], starts[g + 1]):
             coefficient = coefficients[e]
             cp = cos_powers[a, cos_orders[e]]
             sp = sin_powers[a, sin_orders[e]]
-            for t in range(n):
+            for t in range(end):
                 d0[t] += coefficient * cp[t] * sp[t]
         for e in range(starts[g + 1], starts[g + 2]):
             coefficient = coefficients[e]
             cp = cos_powers[a, cos_orders[e]]
             sp = sin_powers[a, sin_orders[e]]
-            for t in range(n):
+            for t in range(end):
                 d1[t] += coefficient * cp[t] * sp[t]
         m = orders[g] - 4
         tw = turns[a, abs(m)]
@@ -125,45 +131,49 @@ def twist_into(coprecessing, alpha, gamma, cos_beta, turn, first, centre, angle_
         base0 = centre + first
         base1 = centre - first
         if m >= 0:
-            for t in range(n):
+            for t in range(end):
                 y = tw[t] * x[t]
                 z = tw[t] * np.conj(x[t])
                 out[row, base0 + t] += d0[t] * y
                 out[row, base1 - t] += d1[t] * z
         else:
-            for t in range(n):
+            for t in range(end):
                 y = np.conj(tw[t]) * x[t]
                 z = np.conj(tw[t]) * np.conj(x[t])
                 out[row, base0 + t] += d0[t] * y
                 out[row, base1 - t] += d1[t] * z
 
 
-def msa_angles(lo, hi, delta_f, m1, m2, spins, inclination, reference_frequency):
-    """(alpha, gamma, cos beta) of every m' at the frequencies (rows in ``M_PRIMES`` order) from one call of
-    ``SimIMRPhenomXPMSAAngles`` on ``f = k delta_f``, ``lo <= k < hi``: mode ``m'``'s angles at ``f`` are the
+def msa_angles(lo, ends, delta_f, m1, m2, spins, inclination, reference_frequency):
+    """(alpha, gamma, cos beta) of every m' (rows in ``M_PRIMES`` order) on ``f = k delta_f``, ``lo <= k < lo +
+    ends[row]`` (zero beyond), from one call of ``SimIMRPhenomXPMSAAngles``: mode ``m'``'s angles at ``f`` are the
     m' = 2 angles at ``2 f / m'`` (the function uses m' only to take the orbital frequency ``2 f / m'`` of its
     argument), so one call on the union of the ``2 f / m'``, multiples of ``delta_f / 6``, serves all four (the
     same arguments to the last bit for m' = 1, 2, 4; for m' = 3 ``2 f / 3`` is rounded once instead of ``2 / 3``)."""
     lal, lalsim = _lal()
-    k = np.arange(lo, hi, dtype=np.int64)
-    sixths = np.concatenate([(12 // mp) * k for mp in M_PRIMES])  # 2 f / m' in units of delta_f / 6
-    used = np.zeros(12 * hi, dtype=bool)
+    ks = [np.arange(lo, lo + end, dtype=np.int64) for end in ends]
+    sixths = np.concatenate([(12 // mp) * k for mp, k in zip(M_PRIMES, ks)])  # 2 f / m' in units of delta_f / 6
+    used = np.zeros(12 * (lo + max(ends)) + 1, dtype=bool)
     used[sixths] = True
     union = np.flatnonzero(used)  # ascending, each once
     where = (np.cumsum(used) - 1)[sixths]
     arguments = lal.CreateREAL8Vector(union.size)
     arguments.data[:] = union * delta_f / 6
-    alpha, gamma, cosine = lalsim.SimIMRPhenomXPMSAAngles(arguments, m1, m2, *spins, inclination,
-                                                          reference_frequency, 2, None)
-    where = where.reshape(len(M_PRIMES), k.size)
-    return alpha.data[where], gamma.data[where], cosine.data[where]
+    values = lalsim.SimIMRPhenomXPMSAAngles(arguments, m1, m2, *spins, inclination, reference_frequency, 2, None)
+    angles = np.zeros((3, len(M_PRIMES), max(ends)))
+    offsets = np.cumsum([0, *ends])
+    for row, end in enumerate(ends):
+        for angle, value in zip(angles, values):
+            angle[row, :end] = value.data[where[offsets[row]:offsets[row + 1]]]
+    return angles
 
 
 def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, reference_frequency, phase, inclination,
-                  distance_m, size) -> dict | None:
+                  distance_m, size, quiet: float = QUIET) -> dict | None:
     """J-frame modes ``(l, m) -> h_lm`` on ``f = (k - N) delta_f`` (``2 N + 1 = size`` samples, as
     ``SimInspiralChooseFDModes``), masses in solar masses, distance in metres; None if not applicable
-    (module docstring)."""
+    (module docstring). Each co-precessing mode is twisted up to its last value above ``quiet`` times the loudest
+    mode's peak (0: to its last nonzero value, lalsimulation's modes to rounding)."""
     if default_precession_version() not in MSA_VERSIONS:
         return None
     lal, lalsim = _lal()
@@ -186,18 +196,24 @@ def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, referen
         return None
     lo, hi = int(where[0]), int(where[-1]) + 1
     lo = max(lo, 1)
+    sources = np.array([coprecessing[key][lo:hi] for key in COPRECESSING])
+    if not np.isfinite(sources).all():
+        return None
+    magnitudes = np.abs(sources)
+    above = magnitudes > quiet * magnitudes.max()  # quiet = 0: every nonzero value
+    ends = np.array([np.nonzero(row)[0][-1] + 1 if row.any() else 0 for row in above], dtype=np.int64)
+    angle_ends = [max([end for end, (_, mp) in zip(ends, COPRECESSING) if mp == m_prime], default=1)
+                  for m_prime in M_PRIMES]
     turn = (lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
         m1, m2, reference_frequency, phase, inclination, *spins, lal.CreateDict())[4]
         - lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
         m1, m2, reference_frequency, 0.0, inclination, *spins, lal.CreateDict())[4])
-    alpha, gamma, cos_beta = msa_angles(lo, hi, delta_f, m1, m2, spins, inclination, reference_frequency)
-    sources = np.array([coprecessing[key][lo:hi] for key in COPRECESSING])
-    if not (np.isfinite(sources).all() and np.isfinite(alpha).all() and np.isfinite(gamma).all()
-            and np.isfinite(cos_beta).all()):  # finite inputs give finite modes (bounded factors)
-        return None
+    alpha, gamma, cos_beta = msa_angles(lo, angle_ends, delta_f, m1, m2, spins, inclination, reference_frequency)
+    if not (np.isfinite(alpha).all() and np.isfinite(gamma).all() and np.isfinite(cos_beta).all()):
+        return None  # finite inputs give finite modes (bounded factors)
     keys, terms = twist_terms()
     block = np.zeros((len(keys), size), dtype=complex)
-    twist_into(sources, alpha, gamma, cos_beta, float(turn), lo, half, *terms, block)
+    twist_into(sources, ends, alpha, gamma, cos_beta, float(turn), lo, half, *terms, block)
     modes = {key: block[row] for row, key in enumerate(keys)}
     if not _agrees(modes, m1, m2, spins, delta_f, lo, hi, half, reference_frequency, phase, inclination, distance_m):
         return None
