@@ -12,10 +12,14 @@ Phys. Rev. D 95, 104004 (2017)) from one call of ``SimIMRPhenomXPMSAAngles`` for
 
 ``SimInspiralChooseFDModes`` builds each of the 21 J-frame modes in its own call, each regenerating the five
 co-precessing modes and the angles; this builds them all from one generation (the same numbers to ~1e-13,
-tests/waveform/models/test_precessing_twist.py). Other precession versions (numerical spin-Taylor angles,
-or the next-to-next-to-leading-order ones), a restricted mode list, or a twist that does not match
-lalsimulation's own single mode at a few frequencies (the angles' fallback when the multiple-scale system cannot
-be set up) return None: the caller then uses ``SimInspiralChooseFDModes``.
+tests/waveform/models/test_precessing_twist.py, with ``quiet = 0``). In use, each co-precessing mode is twisted up
+only to its last value above ``QUIET`` of the loudest mode's peak (its high-frequency tail beyond is dropped): the
+modes move by at most 1e-7 of the loudest peak, the final memory by at most 2.5e-6, the memory series by 2.6e-6 of
+its peak and its network SNR by 1.1e-7 (36+29, 60+10 and 10+8 solar masses at 2048 and 4096 Hz), for 29% fewer angle frequencies (3,518
+instead of 4,934 for the first test binary, 36+29). Other precession versions (numerical spin-Taylor angles, or the
+next-to-next-to-leading-order ones), a restricted mode list, or a twist that does not match lalsimulation's own
+single mode at a few frequencies (the angles' fallback when the multiple-scale system cannot be set up) return None:
+the caller then uses ``SimInspiralChooseFDModes``.
 """
 from __future__ import annotations
 
