@@ -111,6 +111,15 @@ def test_catalog_file_problems_are_one_sentence(tmp_path, capsys):
     assert "unknown key 'colour' in event 1 of bad.toml" in capsys.readouterr().err
 
 
+def _has_loaded(pid: int, library: str) -> bool:
+    """Whether process ``pid`` has mapped a shared library whose path contains ``library`` (Linux /proc)."""
+    try:
+        with open(f"/proc/{pid}/maps") as maps:
+            return library in maps.read()
+    except OSError:
+        return False
+
+
 @pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
 @pytest.mark.parametrize("moment", ["while the command loads", "while its workers load"])
 def test_early_ctrl_c_is_one_line(catalog, tmp_path, moment):
@@ -123,8 +132,11 @@ def test_early_ctrl_c_is_one_line(catalog, tmp_path, moment):
     env = dict(os.environ, PYTHONPATH=os.getcwd() + os.pathsep + os.environ.get("PYTHONPATH", ""))
     process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env,
                                start_new_session=True, preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
-    if moment == "while the command loads":
-        time.sleep(0.3)
+    if moment == "while the command loads":  # our code runs and loads numpy and bilby (a signal during Python's own
+        deadline = time.time() + 60  # start-up, before any of our code, is the interpreter's, not ours)
+        while time.time() < deadline and not _has_loaded(process.pid, "_multiarray_umath"):
+            time.sleep(0.01)
+        time.sleep(0.05)
     else:  # the two workers have started and are importing the package
         deadline = time.time() + 60
         while time.time() < deadline and len(session_processes(process.pid)) < 3:
