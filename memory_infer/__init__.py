@@ -35,8 +35,6 @@ __all__ = sorted(_PUBLIC)
 
 def __getattr__(name):
     if name in _PUBLIC:
-        if _PUBLIC[name].startswith("results."):  # results read the methods' descriptions, registered on import
-            import_module(".inference.methods", __name__)
         value = getattr(import_module(f".{_PUBLIC[name]}", __name__), name)
         globals()[name] = value
         return value

@@ -5,7 +5,6 @@ import html
 
 import numpy as np
 
-from ..inference import methods as registered_methods  # noqa: F401 - importing it describes each method's family
 from ..inputs.settings import FREE_AMPLITUDE_LIMITS
 from ..results.estimates import normalized_density
 from ..results.event import EventResult
