@@ -5,10 +5,11 @@ inference -> catalog -> campaign -> reports -> commands. The names below are the
 they load on first use, so ``import memory_infer`` stays light.
 """
 from importlib import import_module
+from types import MappingProxyType
 
 __version__ = "0.1.0"
 
-_PUBLIC = {
+_PUBLIC = MappingProxyType({
     # waveform
     "generate_modes": "waveform.models", "memory_modes": "waveform.memory", "memory_at_direction": "waveform.memory",
     "memory_binary_black_hole": "waveform.source", "MemoryWaveformGenerator": "waveform.generator",
@@ -28,7 +29,7 @@ _PUBLIC = {
     "combine": "catalog.combine",
     # errors
     "MemoryInferError": "common.errors", "WaveformError": "common.errors",
-}
+})
 
 __all__ = sorted(_PUBLIC)
 

@@ -18,13 +18,14 @@ import os
 import shutil
 import time
 from dataclasses import dataclass
+from types import MappingProxyType
 
 import numpy as np
 
 from ..results.methods import DESCRIPTIONS, NESTED, REWEIGHTING
 from ..waveform.source import combined
 
-NOISE_LABEL = {"gaussian": "Gaussian noise", "zero": "zero noise"}
+NOISE_LABEL = MappingProxyType({"gaussian": "Gaussian noise", "zero": "zero noise"})
 
 
 @dataclass

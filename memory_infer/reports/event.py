@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import html
+from types import MappingProxyType
 
 import numpy as np
 
@@ -147,9 +148,10 @@ def _cross_check_text(check) -> str:
             + ("" if size is None else f" ({size:+.1f} combined standard errors)") + ".</p>")
 
 
-INJECTION_UNITS = {"mass_1": "M☉ (detector frame)", "mass_2": "M☉ (detector frame)", "luminosity_distance": "Mpc",
-                   "theta_jn": "rad", "phase": "rad", "ra": "rad", "dec": "rad", "psi": "rad",
-                   "geocent_time": "s (GPS)", "memory_amplitude": "(1 = general relativity)"}
+INJECTION_UNITS = MappingProxyType({
+    "mass_1": "M☉ (detector frame)", "mass_2": "M☉ (detector frame)", "luminosity_distance": "Mpc",
+    "theta_jn": "rad", "phase": "rad", "ra": "rad", "dec": "rad", "psi": "rad", "geocent_time": "s (GPS)",
+    "memory_amplitude": "(1 = general relativity)"})
 
 
 def injection_text(result: EventResult) -> str:
