@@ -5,10 +5,11 @@ inference -> catalog -> campaign -> reports -> commands. The names below are the
 they load on first use, so ``import memory_infer`` stays light.
 """
 from importlib import import_module
+from types import MappingProxyType
 
 __version__ = "0.1.0"
 
-_PUBLIC = {
+_PUBLIC = MappingProxyType({
     # waveform
     "generate_modes": "waveform.models", "memory_modes": "waveform.memory", "memory_at_direction": "waveform.memory",
     "memory_binary_black_hole": "waveform.source_model", "MemoryWaveformGenerator": "waveform.generator",
@@ -28,15 +29,13 @@ _PUBLIC = {
     "combine": "catalog.combine",
     # errors
     "MemoryInferError": "common.errors", "WaveformError": "common.errors",
-}
+})
 
 __all__ = sorted(_PUBLIC)
 
 
 def __getattr__(name):
     if name in _PUBLIC:
-        if _PUBLIC[name].startswith("results."):  # results read the methods' descriptions, registered on import
-            import_module(".inference.methods", __name__)
         value = getattr(import_module(f".{_PUBLIC[name]}", __name__), name)
         globals()[name] = value
         return value

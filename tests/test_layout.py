@@ -125,6 +125,140 @@ def test_no_module_level_mutable_state():
     assert not found, "\n".join(found)
 
 
+# module-level containers that may stay mutable types: genuinely constant data that nothing writes to (each checked
+# by hand; new constant data should be a tuple, a frozenset or a MappingProxyType instead)
+CONSTANT_DATA = {
+    "cli.COMMANDS": "command names and their one-line help",
+    "waveform.source._SETTINGS": "the waveform settings' defaults, copied before use",
+    "waveform.conditioning.ROUTES": "approximant -> conditioning route",
+    "waveform.models.fd_modes.PRECESSING": "approximant names",
+    "waveform.models.lal_modes.DROP_MEMORY_MODES": "approximant names",
+    "inputs.release_settings.PLACES": "setting -> where a release file keeps it",
+    "inputs.population.POPULATION_SCHEMA": "the population file's schema",
+    "inputs.population.NETWORK_REDSHIFT": "network -> redshift reach",
+    "inputs.config.EVIDENCE_SCHEMA": "the evidence file's schema",
+    "inputs.detectors.NOISE_CURVES": "noise curve -> file and description",
+    "inputs.detectors.NETWORKS": "network -> detectors and their noise curves",
+    "inputs.catalog_config.BUILT_IN_DEFAULTS": "the catalog's default settings",
+    "inputs.campaign_config.CAMPAIGN_SCHEMA": "the campaign file's schema",
+    "inputs.checks.ZERO_DEFAULTS": "parameters that default to zero",
+    "inputs.checks.PRIOR_RANGES": "parameter -> allowed range",
+    "commands.report.PAGES": "result kind -> reader and page",
+    "commands.demo.EVENTS": "the demo's simulated events",
+    "commands.catalog_demo.DEMO_EVENTS": "the catalog demo's simulated events",
+    "commands.catalog_demo.SKY": "the catalog demo's sky position",
+}
+MUTABLE_LITERALS = (ast.Dict, ast.List, ast.Set, ast.DictComp, ast.ListComp, ast.SetComp)
+MUTABLE_TYPES = {"dict", "list", "set", "defaultdict", "OrderedDict", "Counter", "deque", "bytearray"}
+
+
+def _mutable(value, annotation=None) -> bool:
+    """Whether a module-level assignment's value (or its annotation) is a mutable container."""
+    if isinstance(value, MUTABLE_LITERALS):
+        return True
+    if isinstance(value, ast.Call):
+        func = value.func
+        if (func.attr if isinstance(func, ast.Attribute) else getattr(func, "id", "")) in MUTABLE_TYPES:
+            return True
+    return annotation is not None and ast.unparse(annotation).split("[")[0].lower() in MUTABLE_TYPES
+
+
+def mutable_containers(module: str, source: str) -> list:
+    """Module-level names bound to a dict, list or set (literal, comprehension or constructor), whatever the
+    name's case: a registry filled at import time, or a constant that a caller could change for everyone.
+    Dunder names (``__all__``) and ``CONSTANT_DATA`` are exempt."""
+    found = []
+    for node in ast.parse(source).body:
+        if isinstance(node, ast.Assign):
+            targets, value, annotation = node.targets, node.value, None
+        elif isinstance(node, ast.AnnAssign):
+            targets, value, annotation = [node.target], node.value, node.annotation
+        else:
+            continue
+        for target in targets:
+            name = getattr(target, "id", "")
+            if name and not name.startswith("__") and _mutable(value, annotation) \
+                    and f"{module}.{name}" not in CONSTANT_DATA:
+                found.append(f"{module} (line {node.lineno}): module-level mutable container '{name}'")
+    return found
+
+
+def test_no_module_level_mutable_container():
+    found = problems_in(mutable_containers)
+    assert not found, "\n".join(found)
+
+
+@pytest.mark.parametrize("line", [
+    "DESCRIPTIONS: dict = {}\n", "registry = {}\n", "NAMES = [name for name in 'ab']\n", "SEEN = set()\n",
+    "TABLE = dict(a=1)\n", "from collections import defaultdict\nBY_KIND = defaultdict(list)\n",
+    "STRATEGIES: list = make()\n",
+])
+def test_the_mutable_container_check_catches_each_kind(line):
+    assert mutable_containers("results.probe", line)
+
+
+def test_the_mutable_container_check_passes_frozen_constants():
+    source = ("from types import MappingProxyType\nNAMES = ('a', 'b')\nKINDS = frozenset({'a'})\n"
+              "TABLE = MappingProxyType({'a': 1})\n__all__ = ['NAMES']\n")
+    assert not mutable_containers("results.probe", source)
+
+
+# names imported from another stage and not used by the importing module, because callers import them from it
+RE_EXPORTS = {"campaign.config": {"load_campaign_settings"}}
+
+
+def unused_imports(module: str, path: str, source: str | None = None) -> list:
+    """Imports of another stage of the package whose names the module never uses: an import for its side
+    effects (filling a registry, say), which hides a dependency the stage order cannot see. A package's
+    ``__init__`` re-exports, and ``RE_EXPORTS`` are exempt."""
+    if path.endswith("__init__.py"):
+        return []
+    tree = ast.parse(open(path).read() if source is None else source)
+    used = {n.id for n in ast.walk(tree) if isinstance(n, ast.Name)}
+    package = [p for p in package_of(module, path) if p != "__init__"]
+    found = []
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            bound = [(alias.asname or alias.name.split(".")[0], alias.name[len("memory_infer."):])
+                     for alias in node.names if alias.name.startswith("memory_infer.")]
+        elif isinstance(node, ast.ImportFrom):
+            if node.level:
+                base = package[: len(package) - (node.level - 1)] if node.level > 1 else package
+                target = ".".join(base + ([node.module] if node.module else []))
+            elif node.module and node.module.startswith("memory_infer"):
+                target = node.module[len("memory_infer"):].strip(".")
+            else:
+                continue
+            bound = [(alias.asname or alias.name, f"{target}.{alias.name}".strip(".")) for alias in node.names]
+        else:
+            continue
+        for name, target in bound:
+            if target.split(".")[0] != module.split(".")[0] and name not in used \
+                    and name not in RE_EXPORTS.get(module, ()):
+                found.append(f"{module} (line {node.lineno}) imports {target} without using it")
+    return found
+
+
+def test_no_module_imports_another_stage_only_for_its_side_effects():
+    found = []
+    for module, path in modules():
+        found += unused_imports(module, path)
+    assert not found, "\n".join(found)
+
+
+@pytest.mark.parametrize("line", [
+    "from ..inference import methods as registered_methods  # noqa: F401\n",
+    "import memory_infer.inference.methods  # noqa: F401\n",
+    "from ..inference.methods import STRATEGIES\n",
+])
+def test_the_side_effect_import_check_catches_an_unused_import(line, tmp_path):
+    path = tmp_path / "probe.py"
+    path.write_text(line + "\n\ndef report():\n    return 1\n")
+    assert unused_imports("reports.probe", str(path))
+    path.write_text(line + "\n\ndef report():\n    return memory_infer, registered_methods, STRATEGIES\n")
+    assert not unused_imports("reports.probe", str(path))
+
+
 def has_logic(path: str) -> bool:
     tree = ast.parse(open(path).read())
     return any(isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef)) for node in ast.walk(tree))

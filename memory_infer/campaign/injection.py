@@ -18,12 +18,14 @@ import os
 import shutil
 import time
 from dataclasses import dataclass
+from types import MappingProxyType
 
 import numpy as np
 
+from ..results.methods import DESCRIPTIONS, NESTED, REWEIGHTING
 from ..waveform.source import combined
 
-NOISE_LABEL = {"gaussian": "Gaussian noise", "zero": "zero noise"}
+NOISE_LABEL = MappingProxyType({"gaussian": "Gaussian noise", "zero": "zero noise"})
 
 
 @dataclass
@@ -123,8 +125,7 @@ def run_injection(task, network: Network) -> dict:
             likelihood = MemoryTransient(detectors, generator)
             estimates, memory_snr = FastApproximation.estimates(likelihood, truth)
             record["memory_snr"] = memory_snr
-            record["ln_bf_plus_fixed"], record["ln_bf_minus_fixed"] = estimates[0].ln_bf, estimates[1].ln_bf
-            record["ln_bf_plus_fast"], record["ln_bf_minus_fast"] = estimates[2].ln_bf, estimates[3].ln_bf
+            record.update(sign_columns(estimates, FastApproximation.describes))
             record.update(expected_over_noise(likelihood, truth, task.amplitude))
             if settings.method != "fast" and record["detected"]:
                 record.update(_full_recovery(task, detectors, generator, truth))
@@ -135,6 +136,25 @@ def run_injection(task, network: Network) -> dict:
         record["error"] = f"{type(error).__name__}: {error}".splitlines()[0][:300]
     record["seconds"] = time.perf_counter() - began
     return record
+
+
+def sign_columns(estimates, descriptions) -> dict:
+    """``ln_bf_plus_<column>`` and ``ln_bf_minus_<column>`` (and their errors, when the family has a Monte-Carlo
+    error) of each described family whose estimates hold both signs, keyed by family and numerator."""
+    found = {(e.family, e.numerator): e for e in estimates}
+    out = {}
+    for description in descriptions:
+        plus, minus = found.get((description.family, "memory")), found.get((description.family, "flipped"))
+        if description.column is None or plus is None or minus is None:
+            continue
+        column = description.column
+        out[f"ln_bf_plus_{column}"] = plus.ln_bf
+        if description.monte_carlo_error:
+            out[f"ln_bf_plus_{column}_err"] = plus.ln_bf_err
+        out[f"ln_bf_minus_{column}"] = minus.ln_bf
+        if description.monte_carlo_error:
+            out[f"ln_bf_minus_{column}_err"] = minus.ln_bf_err
+    return out
 
 
 def _recovery_priors(truth, free_parameters):
@@ -161,34 +181,29 @@ def _recovery_priors(truth, free_parameters):
 def _full_recovery(task, detectors, generator, truth) -> dict:
     """The event's own evidence methods on this injection: a nested run with A = 0 and reweighting,
     or nested runs for every hypothesis as well (``method = "nested"``)."""
+    from ..inference.methods import NestedSampling, Reweighting
     from ..inference.runner import run_methods
     from ..inference.setup import EventSetup
     from ..results.estimates import cumulative_distribution
-    from ..results.methods import campaign_columns
 
     settings = task.settings
     workdir = os.path.join(task.workdir, f"injection-{task.index}")
     event = recovery_settings(settings, task.index)
     setup = EventSetup(settings=event, detectors=detectors, generator=generator, injection=None,
                        priors=_recovery_priors(truth, settings.recovery.free_parameters), grid=event.evidence.grid())
-    result = run_methods(setup, workdir, ["nested", "reweighting"], f"injection-{task.index}", progress=False).result
-    found = {(m.family, m.numerator): m for m in result.methods}
-    out = {}
-    for family, column in campaign_columns().items():  # every method that left both signs, by its own column
-        plus, minus = found.get((family, "memory")), found.get((family, "flipped"))
-        if plus is not None and minus is not None:
-            out.update({f"ln_bf_plus_{column}": plus.ln_bf, f"ln_bf_plus_{column}_err": plus.ln_bf_err,
-                        f"ln_bf_minus_{column}": minus.ln_bf, f"ln_bf_minus_{column}_err": minus.ln_bf_err})
-    plus = found[("reweighting", "memory")]
+    strategies = [NestedSampling.name, Reweighting.name]
+    result = run_methods(setup, workdir, strategies, f"injection-{task.index}", progress=False).result
+    out = sign_columns(result.methods, DESCRIPTIONS)  # every family that left both signs, by its own column
+    plus = {(m.family, m.numerator): m for m in result.methods}[(REWEIGHTING.family, "memory")]
     out.update(effective_sample_size=plus.effective_sample_size, reweighting_reliable=plus.reliable)
     curve = result.amplitude_curve
     grid = np.asarray(curve.amplitudes)
     density = np.exp(np.asarray(curve.ln_mean_ratio) - np.max(curve.ln_mean_ratio))
-    out["amplitude_quantile_reweighting"] = float(np.interp(task.amplitude, grid,
-                                                            cumulative_distribution(grid, density)))
+    out[f"amplitude_quantile_{REWEIGHTING.column}"] = float(np.interp(task.amplitude, grid,
+                                                                      cumulative_distribution(grid, density)))
     if settings.method == "nested":
         samples = np.asarray(result.free_amplitude["samples"])
-        out.update(amplitude_quantile_nested=float(np.mean(samples < task.amplitude)))
+        out[f"amplitude_quantile_{NESTED.column}"] = float(np.mean(samples < task.amplitude))
     shutil.rmtree(workdir, ignore_errors=True)
     return out
 

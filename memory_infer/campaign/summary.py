@@ -5,10 +5,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..inference import methods as registered_methods  # noqa: F401 - importing it describes each method's family
 from ..inputs.population import truncation_warning
 from ..results.campaign import CampaignSummary
-from ..results.methods import DESCRIPTIONS, campaign_columns, preference_order
+from ..results.methods import approximate_column, campaign_columns, full_columns, preference_order, quantile_columns
 
 
 def _preferred_columns() -> list:
@@ -26,23 +25,6 @@ def headline_key(records) -> str:
         if any(r.get(key) is not None for r in records):
             return key
     return f"ln_bf_plus_{columns[-1]}"
-
-
-def full_columns() -> list:
-    """Columns of the families with a Monte-Carlo error (the "full" methods), in registration order."""
-    return [d.column for d in DESCRIPTIONS.values() if d.column is not None and d.monte_carlo_error]
-
-
-def approximate_column() -> str:
-    """The column of the preferred family without a Monte-Carlo error (the approximation campaigns calibrate)."""
-    return next(column for family, column in campaign_columns().items()
-                if family in preference_order() and not DESCRIPTIONS[family].monte_carlo_error)
-
-
-def quantile_columns() -> dict:
-    """``amplitude_quantile_<column>`` -> what it holds, for the families that record it, in registration order."""
-    return {f"amplitude_quantile_{d.column}": d.amplitude_quantile for d in DESCRIPTIONS.values()
-            if d.column is not None and d.amplitude_quantile is not None}
 
 
 def distribution(values) -> dict:

@@ -20,7 +20,6 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from ..common.errors import MemoryInferError
-from ..inference import methods as registered_methods  # noqa: F401 - importing it describes each method's family
 from ..results.catalog import CatalogResult
 from ..results.estimates import (RULE, cumulative_distribution, event_pair, normalized_density, prior_on_grid,
                                  sample_set_name)

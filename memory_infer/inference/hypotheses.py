@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import copy
 from dataclasses import dataclass
+from types import MappingProxyType
 
 from ..common.errors import MemoryInferError
 from ..inputs.settings import FREE_AMPLITUDE_LIMITS
@@ -32,7 +33,7 @@ MEMORY = Hypothesis("memory", 1.0)
 NONE = Hypothesis("none", 0.0)
 FLIPPED = Hypothesis("flipped", -1.0)
 FREE = Hypothesis("free", None)
-HYPOTHESES = {h.name: h for h in (MEMORY, NONE, FLIPPED, FREE)}
+HYPOTHESES = MappingProxyType({h.name: h for h in (MEMORY, NONE, FLIPPED, FREE)})
 
 
 def hypothesis(value) -> Hypothesis:

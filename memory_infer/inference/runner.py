@@ -1,4 +1,4 @@
-"""One event end to end: the configured evidence methods in the registry's order, what each found filed into
+"""One event end to end: the configured evidence methods in the strategies' order, what each found filed into
 the result (estimates, amplitude curve, the weights figure's data, sign proposals ranked by the families'
 preference), the memory SNR at the reference point, the other figures' data, and the headline."""
 from __future__ import annotations
@@ -13,7 +13,7 @@ from ..waveform.source import EARLY_INSPIRAL_EFFECT
 from .figures import importance_weights, memory_spectrum, whitened_series
 from .hypotheses import NONE
 from .likelihood import memory_snr
-from .methods import REGISTRY, Found, RunState
+from .methods import STRATEGIES, Found, RunState
 from .setup import EventSetup
 
 logger = logging.getLogger("memory_infer")
@@ -21,13 +21,14 @@ logger = logging.getLogger("memory_infer")
 FAILURE_TREATMENT = "a failed waveform counts as zero likelihood (ln L = -inf)"
 
 
-def run_methods(setup: EventSetup, outdir: str, names, label: str, progress: bool = True) -> RunState:
-    """Run the evidence methods ``names`` (in the registry's order) on one setup; returns their state."""
+def run_methods(setup: EventSetup, outdir: str, names, label: str, progress: bool = True,
+                strategies: tuple = STRATEGIES) -> RunState:
+    """Run the evidence methods ``names`` (in the order of ``strategies``) on one setup; returns their state."""
     state = RunState(setup=setup, outdir=outdir, progress=progress, result=EventResult(event=label))
     setup.lookup_path = os.path.join(outdir, "runs", "distance_lookup.npz")
     os.makedirs(os.path.join(outdir, "runs"), exist_ok=True)
-    for name, method in REGISTRY.items():
-        if name in names:
+    for method in strategies:
+        if method.name in names:
             file_found(state, method().run(state))
     return state
 

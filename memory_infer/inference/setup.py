@@ -18,7 +18,7 @@ from ..inputs.settings import AnalysisSettings
 from ..waveform.generator import segment_note, waveform_generator
 from .hypotheses import hypothesis_priors
 from .likelihood import MemoryTransient
-from .methods import REGISTRY
+from .methods import STRATEGIES
 
 logger = logging.getLogger("memory_infer")
 
@@ -105,9 +105,10 @@ def prepare(settings: AnalysisSettings, rng=None) -> EventSetup:
     """Read every input and resolve the settings first, then build and check data, generator and priors; raises
     MemoryInferError on any bad input. ``rng`` (a ``numpy.random.Generator``) draws simulated noise; by default
     one seeded with ``[data] seed``."""
+    names = [strategy.name for strategy in STRATEGIES]
     for method in settings.evidence.methods:
-        if method not in REGISTRY:
-            raise MemoryInferError(f"unknown method '{method}' in [evidence]; choose from {', '.join(REGISTRY)}")
+        if method not in names:
+            raise MemoryInferError(f"unknown method '{method}' in [evidence]; choose from {', '.join(names)}")
     inputs = read_event_inputs(settings)
     return build(inputs, np.random.default_rng(settings.data.seed) if rng is None else rng)
 

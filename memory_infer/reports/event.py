@@ -2,10 +2,10 @@
 from __future__ import annotations
 
 import html
+from types import MappingProxyType
 
 import numpy as np
 
-from ..inference import methods as registered_methods  # noqa: F401 - importing it describes each method's family
 from ..inputs.settings import FREE_AMPLITUDE_LIMITS
 from ..results.base import ABSENT
 from ..results.estimates import normalized_density
@@ -154,9 +154,10 @@ def _cross_check_text(check) -> str:
             + ("" if size is None else f" ({size:+.1f} combined standard errors)") + ".</p>")
 
 
-INJECTION_UNITS = {"mass_1": "M☉ (detector frame)", "mass_2": "M☉ (detector frame)", "luminosity_distance": "Mpc",
-                   "theta_jn": "rad", "phase": "rad", "ra": "rad", "dec": "rad", "psi": "rad",
-                   "geocent_time": "s (GPS)", "memory_amplitude": "(1 = general relativity)"}
+INJECTION_UNITS = MappingProxyType({
+    "mass_1": "M☉ (detector frame)", "mass_2": "M☉ (detector frame)", "luminosity_distance": "Mpc",
+    "theta_jn": "rad", "phase": "rad", "ra": "rad", "dec": "rad", "psi": "rad", "geocent_time": "s (GPS)",
+    "memory_amplitude": "(1 = general relativity)"})
 
 
 def injection_text(result: EventResult) -> str:

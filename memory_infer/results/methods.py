@@ -1,18 +1,15 @@
-"""What every later stage needs to know about an evidence method, described once next to its strategy
-(``memory_infer/inference/methods/<method>.py``, registered when ``memory_infer.inference.methods`` is
-imported; the stages after inference import it) and read from here by the preference rule
-(:mod:`memory_infer.results.estimates`), the catalog combiner and the campaign summary.
+"""What every stage needs to know about an evidence method, as static data: one description per family of
+estimates, read by the strategies that make them (``memory_infer/inference/methods/``), the preference rule
+(:mod:`memory_infer.results.estimates`), the catalog combiner, the campaign and the reports.
 
-A strategy gives one description per family of estimates it makes (the fast approximations make two:
-fixed-parameter and two-point); the family is what each :class:`~memory_infer.results.estimates.EvidenceEstimate`
-carries and what a result file stores.
+A strategy makes one or more families (the fast approximations make two: fixed-parameter and two-point); the
+family is what each :class:`~memory_infer.results.estimates.EvidenceEstimate` carries and what a result file
+stores. A new method adds its description to ``DESCRIPTIONS`` here and its strategy to
+``memory_infer.inference.methods.STRATEGIES`` (a test checks that the two lists agree).
 """
 from __future__ import annotations
 
-import contextlib
 from dataclasses import dataclass
-
-from ..common.errors import MemoryInferError
 
 
 @dataclass(frozen=True)
@@ -42,66 +39,62 @@ class MethodDescription:
     with_curve: bool = True
 
 
-DESCRIPTIONS: dict = {}  # family -> MethodDescription, in the order the strategies registered them
+NESTED = MethodDescription(
+    family="nested", label="nested sampling", preference=1, column="nested", monte_carlo_error=True,
+    amplitude_quantile="nested sampling with A free")
+REWEIGHTING = MethodDescription(
+    family="reweighting", label="importance reweighting", preference=0, column="reweighting",
+    monte_carlo_error=True, amplitude_quantile="reweighted A curve from the A = 0 posterior")
+FIXED_POINT = MethodDescription(family="fixed-point", label="fixed-parameter approximation", preference=None,
+                                column="fixed", monte_carlo_error=False, with_curve=False)
+TWO_POINT = MethodDescription(family="two-point", label="two-point approximation", preference=2, column="fast",
+                              monte_carlo_error=False, with_curve=False)
 
-
-def describe(description: MethodDescription) -> MethodDescription:
-    """Register a family; a second, different description of the same family is an error."""
-    known = DESCRIPTIONS.get(description.family)
-    if known is not None and known != description:
-        raise MemoryInferError(f"the evidence family '{description.family}' is described twice, differently")
-    DESCRIPTIONS[description.family] = description
-    return description
-
-
-def forget(family: str) -> None:
-    """Unregister a family (for tests that register a toy method)."""
-    DESCRIPTIONS.pop(family, None)
-
-
-@contextlib.contextmanager
-def described(*descriptions: MethodDescription):
-    """The families registered for the duration of a ``with`` block, then unregistered."""
-    added = [d for d in descriptions if d.family not in DESCRIPTIONS]
-    for description in descriptions:
-        describe(description)
-    try:
-        yield
-    finally:
-        for description in added:
-            forget(description.family)
-
-
-def _registered() -> dict:
-    if not DESCRIPTIONS:
-        raise MemoryInferError("no evidence method is registered: the methods register when "
-                               "memory_infer.inference.methods is imported")
-    return DESCRIPTIONS
+# every family, in the order an event's strategies make them (nested sampling, reweighting, the fast pair): the
+# order of the campaign's columns and of its full methods
+DESCRIPTIONS = (NESTED, REWEIGHTING, FIXED_POINT, TWO_POINT)
 
 
 def description_of(family: str) -> MethodDescription | None:
-    return _registered().get(family)
+    return next((d for d in DESCRIPTIONS if d.family == family), None)
 
 
 def preference_order() -> tuple:
     """The families the preference rule may choose, best first among equal errors."""
-    ranked = [d for d in _registered().values() if d.preference is not None]
+    ranked = [d for d in DESCRIPTIONS if d.preference is not None]
     return tuple(d.family for d in sorted(ranked, key=lambda d: d.preference))
 
 
 def preference_rank(family: str) -> int | None:
-    description = _registered().get(family)
+    description = description_of(family)
     return None if description is None else description.preference
 
 
 def family_of(method: str) -> str:
     """The family whose label begins ``method`` (result files written before estimates carried their family)."""
-    for description in _registered().values():
+    for description in DESCRIPTIONS:
         if method.startswith(description.label):
             return description.family
     return ""
 
 
 def campaign_columns() -> dict:
-    """family -> campaign record column, for the families that have one, in registration order."""
-    return {d.family: d.column for d in _registered().values() if d.column is not None}
+    """family -> campaign record column, for the families that have one, in ``DESCRIPTIONS`` order."""
+    return {d.family: d.column for d in DESCRIPTIONS if d.column is not None}
+
+
+def full_columns() -> list:
+    """Columns of the families with a Monte-Carlo error (the "full" methods), in ``DESCRIPTIONS`` order."""
+    return [d.column for d in DESCRIPTIONS if d.column is not None and d.monte_carlo_error]
+
+
+def approximate_column() -> str:
+    """The column of the preferred family without a Monte-Carlo error (the approximation campaigns calibrate)."""
+    return next(d.column for d in DESCRIPTIONS
+                if d.column is not None and d.family in preference_order() and not d.monte_carlo_error)
+
+
+def quantile_columns() -> dict:
+    """``amplitude_quantile_<column>`` -> what it holds, for the families that record it, in ``DESCRIPTIONS`` order."""
+    return {f"amplitude_quantile_{d.column}": d.amplitude_quantile for d in DESCRIPTIONS
+            if d.column is not None and d.amplitude_quantile is not None}

@@ -4,7 +4,10 @@ import os
 import numpy as np
 import pytest
 
+from memory_infer.campaign.injection import sign_columns
 from memory_infer.common.errors import MemoryInferError
+from memory_infer.results.estimates import EvidenceEstimate
+from memory_infer.results.methods import DESCRIPTIONS, FIXED_POINT, NESTED, REWEIGHTING, TWO_POINT
 
 from helpers import INJECTIONS, campaign_config, run_store, stored
 
@@ -24,6 +27,27 @@ def test_reweighting_recovery_runs_and_is_calibrated_against_fast(tmp_path):
     # Skilling, Bayesian Analysis 1, 833 (2006)); the two-point approximation's bias grows with ln BF: 20% allowed
     for fast, full in summary["calibration"]["pairs"]:
         assert abs(full - fast) < 0.5 + 0.2 * abs(fast), summary["calibration"]["pairs"]
+
+
+def test_sign_columns_are_keyed_by_family_and_named_by_each_description():
+    # the estimates in an order unlike the descriptions', a family with one sign only, and a family twice (the
+    # last of a family's estimates is kept, as a reweighting of several sample sets leaves them)
+    estimate = lambda family, numerator, value, error=None: EvidenceEstimate(
+        method=family, ln_bf=value, ln_bf_err=error, numerator=numerator, family=family)
+    estimates = [estimate(TWO_POINT.family, "flipped", -0.5), estimate(FIXED_POINT.family, "memory", 1.0),
+                 estimate(TWO_POINT.family, "memory", 0.5), estimate(FIXED_POINT.family, "flipped", -1.0),
+                 estimate(NESTED.family, "memory", 2.0, 0.1),
+                 estimate(REWEIGHTING.family, "memory", 3.0, 0.2), estimate(REWEIGHTING.family, "flipped", -3.0, 0.3),
+                 estimate(REWEIGHTING.family, "memory", 4.0, 0.4)]
+    columns = sign_columns(estimates, DESCRIPTIONS)
+    assert columns == {"ln_bf_plus_reweighting": 4.0, "ln_bf_plus_reweighting_err": 0.4,
+                       "ln_bf_minus_reweighting": -3.0, "ln_bf_minus_reweighting_err": 0.3,
+                       "ln_bf_plus_fixed": 1.0, "ln_bf_minus_fixed": -1.0,
+                       "ln_bf_plus_fast": 0.5, "ln_bf_minus_fast": -0.5}
+    # the descriptions' order, not the estimates': the record's columns come out in one order whatever ran first
+    assert list(columns)[:4] == ["ln_bf_plus_reweighting", "ln_bf_plus_reweighting_err", "ln_bf_minus_reweighting",
+                                 "ln_bf_minus_reweighting_err"]
+    assert sign_columns(estimates, (TWO_POINT,)) == {"ln_bf_plus_fast": 0.5, "ln_bf_minus_fast": -0.5}
 
 
 def brute_force_two_point(record, settings, realizations, seed):
@@ -55,7 +79,7 @@ def brute_force_two_point(record, settings, realizations, seed):
                                                                   sampling_frequency=settings.data.sampling_rate,
                                                                   duration=settings.data.duration, start_time=start)
         estimates, _ = fast_estimates(MemoryTransient(detectors, generator), source)
-        values.append(estimates[2].ln_bf)
+        values.append(next(e.ln_bf for e in estimates if (e.family, e.numerator) == (TWO_POINT.family, "memory")))
     return np.asarray(values)
 
 

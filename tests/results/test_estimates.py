@@ -1,7 +1,6 @@
 import numpy as np
 import pytest
 
-import memory_infer.inference.methods  # noqa: F401 - registers the built-in methods' families the rule reads
 from memory_infer.common.errors import MemoryInferError
 from memory_infer.results.estimates import (EvidenceEstimate, SignSummary, consistent_sign, cumulative_distribution,
                                             event_pair, grid_index, headline, normalized_density, preferred)

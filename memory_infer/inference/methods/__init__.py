@@ -1,18 +1,16 @@
-"""Evidence methods as strategies. Each registers itself (:func:`~.base.register`) with the description of its
-families that the later stages read (:mod:`memory_infer.results.methods`); importing this package registers
-them, in the order of the imports below, which is the order an event runs them (later methods use what
-earlier ones left: reweighting uses the nested posteriors, the fast estimates their best sample).
+"""Evidence methods as strategies, one per file; ``STRATEGIES`` lists them in the order an event runs them (not
+sorted: later methods use what earlier ones left: reweighting uses the nested posteriors, the fast estimates
+their best sample). Each strategy names the descriptions of the families it makes, static data in
+:mod:`memory_infer.results.methods` that the later stages read without importing this stage.
 
-A new method is one file in this folder with a registered :class:`~.base.EvidenceMethod` subclass, and one
-import line here.
+A new method is one file in this folder with an :class:`~.base.EvidenceMethod` subclass, its entry in
+``STRATEGIES`` below, and its families' descriptions in ``memory_infer.results.methods.DESCRIPTIONS``.
 """
-from .base import STRATEGIES, EvidenceMethod, Found, RunState, register, unregister
-# the run order (not sorted): each line registers one method
+from .base import EvidenceMethod, Found, RunState
+from .fast import FastApproximation
 from .nested import NestedSampling
 from .reweighting import Reweighting
-from .fast import FastApproximation
 
-REGISTRY = STRATEGIES  # name -> strategy, in the order an event runs them
+STRATEGIES = (NestedSampling, Reweighting, FastApproximation)  # the order an event runs them
 
-__all__ = ["REGISTRY", "STRATEGIES", "EvidenceMethod", "Found", "RunState", "register", "unregister",
-           "NestedSampling", "Reweighting", "FastApproximation"]
+__all__ = ["STRATEGIES", "EvidenceMethod", "Found", "RunState", "NestedSampling", "Reweighting", "FastApproximation"]

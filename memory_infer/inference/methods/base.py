@@ -1,5 +1,5 @@
-"""What an evidence method sees while one event runs, what it hands back, the interface every method implements,
-and the registry the runner reads (a method registers itself with :func:`register`)."""
+"""What an evidence method sees while one event runs, what it hands back, and the interface every method
+implements (the methods an event runs, in order, are ``memory_infer.inference.methods.STRATEGIES``)."""
 from __future__ import annotations
 
 import logging
@@ -11,7 +11,6 @@ import numpy as np
 from ...inputs.checks import SOURCE_PARAMETERS
 from ...results.estimates import AmplitudeCurve
 from ...results.event import EventResult
-from ...results.methods import MethodDescription, describe, forget
 from ..hypotheses import FREE, MEMORY, NONE
 
 logger = logging.getLogger("memory_infer")
@@ -91,31 +90,12 @@ class Found:
 
 class EvidenceMethod:
     """One way of estimating the Bayes factors of an event. Subclasses set ``name`` (what ``[evidence] methods``
-    lists), ``describes`` (one :class:`~memory_infer.results.methods.MethodDescription` per family of estimates
-    they make) and implement :meth:`run`, returning what they found."""
+    lists), ``describes`` (the :class:`~memory_infer.results.methods.MethodDescription` of each family of
+    estimates they make, from ``memory_infer.results.methods.DESCRIPTIONS``) and implement :meth:`run`,
+    returning what they found."""
 
     name: ClassVar[str] = ""
     describes: ClassVar[tuple] = ()
 
     def run(self, state: RunState) -> Found:
         raise NotImplementedError
-
-
-STRATEGIES: dict = {}  # name -> EvidenceMethod subclass, in the order registered (the order an event runs them)
-
-
-def register(method: type) -> type:
-    """Class decorator: add an evidence method to the registry and describe its families for the later stages."""
-    if not method.name or not all(isinstance(d, MethodDescription) for d in method.describes):
-        raise TypeError(f"{method.__name__} needs a name and MethodDescription entries in 'describes'")
-    for description in method.describes:
-        describe(description)
-    STRATEGIES[method.name] = method
-    return method
-
-
-def unregister(method: type) -> None:
-    """Take a method and its families out of the registries (for tests that register a toy method)."""
-    STRATEGIES.pop(method.name, None)
-    for description in method.describes:
-        forget(description.family)

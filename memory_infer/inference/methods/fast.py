@@ -45,15 +45,11 @@ from scipy.special import logsumexp
 
 from ...common.errors import MemoryInferError
 from ...results.estimates import EvidenceEstimate, SignSummary, sign_weight
-from ...results.methods import MethodDescription
+from ...results.methods import FIXED_POINT, TWO_POINT
 from ..hypotheses import FLIPPED, MEMORY, NONE
-from .base import EvidenceMethod, Found, RunState, register
+from .base import EvidenceMethod, Found, RunState
 
 NOTE = "deterministic approximation at one point: no Monte-Carlo error; its bias is measured by campaigns"
-FIXED_POINT = MethodDescription(family="fixed-point", label="fixed-parameter approximation", preference=None,
-                                column="fixed", monte_carlo_error=False, with_curve=False)
-TWO_POINT = MethodDescription(family="two-point", label="two-point approximation", preference=2, column="fast",
-                              monte_carlo_error=False, with_curve=False)
 
 
 def sign_partner(point: dict) -> dict:
@@ -66,7 +62,7 @@ def sign_partner(point: dict) -> dict:
 
 def fast_estimates(likelihood, point: dict):
     """Fixed-parameter and two-point ln BF (A = +1 and -1 against 0) at ``point``, and the memory SNR."""
-    from ..likelihood import fixed_point_log_ratio, memory_snr  # bilby: loaded when a method runs, not registers
+    from ..likelihood import fixed_point_log_ratio, memory_snr  # bilby: loaded when a method runs
 
     products = likelihood.inner_products(point)
     if products is None:
@@ -274,7 +270,6 @@ def two_point_draws(terms: dict, injected: float, amplitude: float, size: int, r
     return two_point_value(terms, injected, amplitude, normals @ basis.T)
 
 
-@register
 class FastApproximation(EvidenceMethod):
     """Fixed-parameter and two-point estimates at the run's reference point (the injection, else the
     best sample of the methods before), without marginalization. Leaves the memory SNR in ``state``."""

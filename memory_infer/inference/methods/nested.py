@@ -13,14 +13,10 @@ import numpy as np
 from ...common.errors import MemoryInferError
 from ...common.writing import read_json, write_json
 from ...results.estimates import EvidenceEstimate, SignSummary, sign_weight
-from ...results.methods import MethodDescription
+from ...results.methods import NESTED as DESCRIPTION
 from ..digests import nested_run_inputs
 from ..hypotheses import FLIPPED, FREE, HYPOTHESES, MEMORY, NONE
-from .base import EvidenceMethod, Found, RunState, register
-
-DESCRIPTION = MethodDescription(
-    family="nested", label="nested sampling", preference=1, column="nested", monte_carlo_error=True,
-    amplitude_quantile="nested sampling with A free")
+from .base import EvidenceMethod, Found, RunState
 
 logger = logging.getLogger("memory_infer")
 
@@ -147,7 +143,6 @@ def sign_from_nested(plus: EvidenceEstimate, minus: EvidenceEstimate, plus_run_e
                             "errors (the A = 0 run cancels)")
 
 
-@register
 class NestedSampling(EvidenceMethod):
     """Runs ``[evidence] nested_hypotheses`` with ``[sampler]`` settings; seeds are the sampler's seed
     plus the hypothesis's position in that list. Leaves its runs in ``state.nested`` for later methods."""

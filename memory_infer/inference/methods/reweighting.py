@@ -22,16 +22,13 @@ from ...common.errors import MemoryInferError, WaveformError
 from ...inputs.settings import AMPLITUDE_GRID, FREE_AMPLITUDE_LIMITS
 from ...results.estimates import AmplitudeCurve, EvidenceEstimate, SignSummary, grid_index, prior_on_grid, sign_weight
 from ...results.estimates import ERROR_UNDEFINED_TEXT as ERROR_UNDEFINED
-from ...results.methods import MethodDescription
+from ...results.methods import REWEIGHTING as DESCRIPTION
 from ..hypotheses import HYPOTHESES, NONE, amplitude_label, fixed_at
-from .base import EvidenceMethod, Found, RunState, fixed_values, register
+from .base import EvidenceMethod, Found, RunState, fixed_values
 
 logger = logging.getLogger("memory_infer")
 
 MINIMUM_FOR_ERROR = 2.0  # effective samples below which the Monte-Carlo error is undefined
-DESCRIPTION = MethodDescription(
-    family="reweighting", label="importance reweighting", preference=0, column="reweighting",
-    monte_carlo_error=True, amplitude_quantile="reweighted A curve from the A = 0 posterior")
 
 
 def sample_labels(samples) -> np.ndarray:
@@ -303,7 +300,6 @@ def sign_from_curve(curve: AmplitudeCurve, free_limits=FREE_AMPLITUDE_LIMITS) ->
                        mass_above_zero=float(positive / total) if total > 0 else 0.5)
 
 
-@register
 class Reweighting(EvidenceMethod):
     """Reweights the nested runs named in ``[evidence] reweight_from`` and the samples of ``samples_file``
     (at most ``max_reweight_samples`` of each, drawn with the sampler's seed). Leaves the best no-memory fit

@@ -1,6 +1,6 @@
-"""A new evidence method is its file plus one import line: here a toy method, registered the way a method file
-registers itself, is run by the runner, preferred by the preference rule, combined by the catalog and chosen
-by the campaign summary, then unregistered."""
+"""A new evidence method is its file, its entry in ``STRATEGIES`` and its families' descriptions in
+``results.methods.DESCRIPTIONS``: the two lists agree, and a toy method added to both is run by the runner,
+preferred by the preference rule, combined by the catalog and chosen by the campaign summary."""
 import types
 
 import numpy as np
@@ -8,8 +8,9 @@ import pytest
 
 from memory_infer.campaign.summary import calibration, headline_key
 from memory_infer.catalog.combine import combine
-from memory_infer.inference.methods import REGISTRY, EvidenceMethod, Found, register, unregister
+from memory_infer.inference.methods import STRATEGIES, EvidenceMethod, Found
 from memory_infer.inference.runner import run_methods
+from memory_infer.results import methods
 from memory_infer.results.estimates import EvidenceEstimate, SignSummary, event_pair
 from memory_infer.results.methods import DESCRIPTIONS, MethodDescription, preference_order
 
@@ -39,19 +40,22 @@ def reweighted(ln_bf_plus, ln_bf_minus, error=0.05):
             for numerator, value in (("memory", ln_bf_plus), ("flipped", ln_bf_minus))]
 
 
+def test_the_strategies_describe_every_family_once_in_the_descriptions_order():
+    assert [s.name for s in STRATEGIES] == ["nested", "reweighting", "fast"]  # the run order
+    assert tuple(d for strategy in STRATEGIES for d in strategy.describes) == DESCRIPTIONS
+
+
 @pytest.fixture
-def toy():
-    register(ToyMethod)
-    try:
-        yield ToyMethod
-    finally:
-        unregister(ToyMethod)
+def toy(monkeypatch):
+    """The toy's description added to the static list for one test (the strategies are passed to the runner)."""
+    monkeypatch.setattr(methods, "DESCRIPTIONS", DESCRIPTIONS + (TOY,))
+    return (*STRATEGIES, ToyMethod)
 
 
-def test_a_registered_toy_method_is_run_preferred_combined_and_summarized(toy, tmp_path):
-    assert list(REGISTRY)[-1] == "toy" and preference_order()[0] == "toy"
+def test_a_toy_method_is_run_preferred_combined_and_summarized(toy, tmp_path):
+    assert toy[-1].name == "toy" and preference_order()[0] == "toy"
     setup = types.SimpleNamespace(grid=np.linspace(-4, 4, 81), lookup_path=None)
-    state = run_methods(setup, str(tmp_path), ["toy"], "toy-event", progress=False)
+    state = run_methods(setup, str(tmp_path), ["toy"], "toy-event", progress=False, strategies=toy)
     result = state.result
     # the runner filed the toy's sign at the toy family's preference rank
     assert [e.family for e in result.methods] == ["toy", "toy"] and list(state.signs) == [-1]
@@ -70,13 +74,13 @@ def test_a_registered_toy_method_is_run_preferred_combined_and_summarized(toy, t
     records = [{"ln_bf_plus_toy": 0.1 * i, "ln_bf_plus_reweighting": 0.1 * i + 0.01, "ln_bf_plus_fast": 0.05 * i}
                for i in range(4)]
     assert headline_key(records) == "ln_bf_plus_toy"
-    assert calibration(records)["full_method"] == "reweighting"  # registered before the toy: compared first
+    assert calibration(records)["full_method"] == "reweighting"  # described before the toy: compared first
 
 
-def test_without_the_toy_the_built_in_rule_applies_again():
-    register(ToyMethod)
-    unregister(ToyMethod)
-    assert "toy" not in REGISTRY and "toy" not in DESCRIPTIONS
+def test_without_the_toy_the_built_in_rule_applies(tmp_path):
+    assert "toy" not in [s.name for s in STRATEGIES] and "toy" not in [d.family for d in DESCRIPTIONS]
+    setup = types.SimpleNamespace(grid=np.linspace(-4, 4, 81), lookup_path=None)
+    assert run_methods(setup, str(tmp_path), ["toy"], "toy-event", progress=False).result.methods == []
     methods = reweighted(0.2, -0.1) + [EvidenceEstimate(method="toy estimate", ln_bf=TOY_PLUS, ln_bf_err=0.05,
                                                         family="toy")]
     assert event_pair(methods)["memory"].family == "reweighting"  # an unknown family is never preferred
