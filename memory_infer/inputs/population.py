@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import os
 from dataclasses import dataclass, fields
+from types import MappingProxyType
 
 import numpy as np
 
@@ -54,7 +55,7 @@ class Population:
 
 
 SPIN_ORIENTATIONS = ("aligned", "isotropic")
-_DEFAULTS = {field.name: field.default for field in fields(Population)}
+_DEFAULTS = MappingProxyType({field.name: field.default for field in fields(Population)})
 POPULATION_SCHEMA = {
     "population": {
         "alpha": (NUMBER, _DEFAULTS["alpha"]), "minimum_mass": (NUMBER, _DEFAULTS["minimum_mass"]),

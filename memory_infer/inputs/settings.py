@@ -3,7 +3,7 @@ mapping (:mod:`.config` checks it key by key). Every default of a setting is def
 waveform stage's own: the approximant, band edge and reference frequency come from :mod:`memory_infer.waveform.models`,
 and ``ModelSettings.memory_taper`` repeats ``waveform.source.DEFAULT_TAPER_DURATION`` (a test compares them). Not
 settings, and defined where they are used: the source parameters fixed at zero when absent
-(``inputs.checks.ZERO_DEFAULTS``) and a catalog run's own methods (``inputs.catalog_config.BUILT_IN_DEFAULTS``).
+(``inputs.checks.ZERO_DEFAULTS``) and a catalog run's own methods (``inputs.release_list.BUILT_IN_DEFAULTS``).
 The code below the inputs stage takes these objects, never the mapping. A changed value is a new object
 (:func:`dataclasses.replace`), with its origin recorded in ``origins`` or the model's ``*_from`` fields.
 """

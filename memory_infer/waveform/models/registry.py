@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import functools
 from dataclasses import dataclass
+from types import MappingProxyType
 from typing import Callable
 
 from . import analytic, fd_modes, lal_modes, pyseobnr_modes
@@ -34,7 +35,7 @@ def _analytic(approximant, mass_1, mass_2, luminosity_distance, delta_t, minimum
 
 
 _LAL = lal_modes.choose_td_modes
-MODELS = {model.name: model for model in (
+MODELS = MappingProxyType({model.name: model for model in (
     Model("IMRPhenomTHM", TIME, False, _LAL),
     Model("IMRPhenomTPHM", TIME, True, _LAL),
     Model("SEOBNRv4PHM", TIME, True, _LAL),
@@ -44,7 +45,7 @@ MODELS = {model.name: model for model in (
             else None) for name in pyseobnr_modes.MODELS),
     Model(analytic.NAME, TIME, False, _analytic),
     *(Model(name, FREQUENCY, name in fd_modes.PRECESSING, fd_modes.mode_spectra) for name in fd_modes.MODELS),
-)}
+)})
 SUPPORTED = tuple(name for name, model in MODELS.items() if model.domain == TIME)
 FREQUENCY_DOMAIN = tuple(name for name, model in MODELS.items() if model.domain == FREQUENCY)
 

@@ -1,8 +1,11 @@
 """The model registry: one entry per model, the domain looked up there, spins as the models take them."""
+from types import MappingProxyType
+
 import pytest
 
 from memory_infer.common.errors import WaveformError
 from memory_infer.waveform.models import generate_modes
+from memory_infer.waveform.models import registry
 from memory_infer.waveform.models.lal_modes import spin_support
 from memory_infer.waveform.models.registry import (FREQUENCY, FREQUENCY_DOMAIN, MODELS, SUPPORTED, TIME,
                                                    is_frequency_domain, model, takes_precessing_spins)
@@ -31,7 +34,8 @@ def test_a_new_model_is_one_entry(monkeypatch):
         calls.append(approximant)
         return MODELS["LeadingOrderInspiral"].generate(approximant, *arguments)
 
-    monkeypatch.setitem(MODELS, "Probe", MODELS["LeadingOrderInspiral"].__class__("Probe", TIME, False, generate))
+    entry = MODELS["LeadingOrderInspiral"].__class__("Probe", TIME, False, generate)  # the entry a new model adds
+    monkeypatch.setattr(registry, "MODELS", MappingProxyType({**MODELS, "Probe": entry}))
     series = generate_modes("Probe", 10.0, 8.0, 100.0, 1 / 4096, 30.0, finer_for_memory=False)
     assert calls == ["Probe"] and (2, 2) in series.modes
     with pytest.raises(WaveformError, match="frequency-domain modes"):
