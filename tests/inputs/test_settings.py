@@ -26,7 +26,7 @@ def test_settings_take_the_written_values_and_one_default_each():
 def test_the_model_defaults_agree_with_the_waveform_stage():
     """The waveform stage's defaults are the settings' (the memory taper is the one repeated, not imported)."""
     from memory_infer.waveform.models import DEFAULT_MINIMUM_FREQUENCY
-    from memory_infer.waveform.source import DEFAULT_TAPER_DURATION
+    from memory_infer.waveform.options import DEFAULT_TAPER_DURATION
 
     assert ModelSettings().memory_taper == DEFAULT_TAPER_DURATION
     assert DataSettings().minimum_frequency == DEFAULT_MINIMUM_FREQUENCY
