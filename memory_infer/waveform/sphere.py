@@ -153,7 +153,8 @@ class HarmonicSet:
 
 
 @lru_cache(maxsize=64)
-def _direction_tables(input_modes: tuple):
+def direction_tables(input_modes: tuple):
+    """The output harmonics and coupling table of ``input_modes`` (``coupling_table`` up to twice their largest l)."""
     ell_max = max(2, 2 * max(l for l, _ in input_modes))
     output, table = coupling_table(input_modes, ell_max)
     return HarmonicSet(output), table
@@ -165,7 +166,7 @@ def direction_matrix(input_modes: tuple, theta: float, phi: float) -> np.ndarray
     ``h_mem(t, N) = int dt sum_ij W_ij dh_i conj(dh_j)`` with
     ``W_ij = sum_l coefficients[(l, m_i - m_j), i, j] -2Y_{l, m_i - m_j}(N)``, l up to l_i + l_j.
     """
-    harmonics, table = _direction_tables(tuple(input_modes))
+    harmonics, table = direction_tables(tuple(input_modes))
     return np.einsum("k,kij->ij", harmonics(theta, phi), table)  # einsum: independent of BLAS threads
 
 
