@@ -258,6 +258,29 @@ def test_the_side_effect_import_check_catches_an_unused_import(line, tmp_path):
     assert not unused_imports("reports.probe", str(path))
 
 
+def private_imports(module: str, path: str) -> list:
+    """Names starting with an underscore that ``path`` imports from another module of the package."""
+    found = []
+    for node in ast.walk(ast.parse(open(path).read())):
+        if isinstance(node, ast.ImportFrom) and (node.level or (node.module or "").startswith("memory_infer")):
+            found += [f"{module} (line {node.lineno}) imports the private name {alias.name}"
+                      for alias in node.names if alias.name.startswith("_") and not alias.name.startswith("__")]
+    return found
+
+
+def test_no_module_imports_another_modules_private_name():
+    found = []
+    for module, path in modules():
+        found += private_imports(module, path)
+    assert not found, "\n".join(found)
+
+
+def test_the_private_import_check_catches_one(tmp_path):
+    path = tmp_path / "probe.py"
+    path.write_text("from .readers import release_group, _scalar_text\nfrom __future__ import annotations\n")
+    assert private_imports("inputs.probe", str(path)) == ["inputs.probe (line 1) imports the private name _scalar_text"]
+
+
 def has_logic(path: str) -> bool:
     tree = ast.parse(open(path).read())
     return any(isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef)) for node in ast.walk(tree))
@@ -401,7 +424,7 @@ def cached_functions(source: str) -> list:
 CACHES = {
     "waveform.sphere.wigner_3j": "a float",
     "waveform.sphere.coupling_table": "coupling coefficients (arrays, read only)",
-    "waveform.sphere._direction_tables": "a harmonic set and its table (read only)",
+    "waveform.sphere.direction_tables": "a harmonic set and its table (read only)",
     "waveform.source._harmonic_set": "a harmonic set (read only)",
     "waveform.models.refine._lagrange_weights": "interpolation weights (an array, read only)",
     "waveform.memory._mirror_plan": "row indices (read only)",

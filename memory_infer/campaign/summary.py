@@ -230,7 +230,7 @@ def forecast(detected, campaign):
         "quadrature_error": max(column("ln_bf_plus_expected_err"), default=None),
         "known_sign": dict(distribution(column("ln_bf_plus_known_sign")),
                            note="known-sign bound per event: A_t rho^2 - rho^2/2 = rho^2/2 for A_t = 1 (parameters "
-                                "and sign known; L. S. Finn, PRD 46, 5236 (1992))"),
+                                "and sign known; PRD 46, 5236 (1992))"),
         "zero_noise": dict(distribution(column("ln_bf_plus_zero_noise")),
                            note="diagnostic only: the estimator on noiseless data, not an expectation (negative "
                                 "for sign-degenerate events with rho < 1.4)"),
@@ -254,7 +254,7 @@ def events_to_bound_spread(memory_snrs, bootstrap: int, seed: int, bound: float 
     """Events for the 90% upper bound on the spread sigma of the amplitudes A_i ~ N(mu, sigma^2) to fall below
     ``bound`` when every event holds general relativity's memory (sigma = 0).
 
-    For a known signal each event's best-fit A is normal with variance 1/rho_i^2 (Finn, PRD 46, 5236 (1992)); with a
+    For a known signal each event's best-fit A is normal with variance 1/rho_i^2 (PRD 46, 5236 (1992)); with a
     spread it is 1/rho_i^2 + sigma^2, so the Fisher information on s = sigma^2 at s = 0 is sum_i rho_i^4 / 2, and the
     one-sided 90% bound s_90 = 1.28 / sqrt(N <rho^4> / 2) reaches bound^2 at N = 2 (1.28 / bound^2)^2 / <rho^4>
     (large-N, fixed-parameter approximation). It is optimistic: catalogs of that size analysed by the catalog's
@@ -263,7 +263,7 @@ def events_to_bound_spread(memory_snrs, bootstrap: int, seed: int, bound: float 
     """
     snrs = np.asarray([value for value in memory_snrs if value is not None and np.isfinite(value)], dtype=float)
     method = ("2 (1.28 / bound^2)^2 / <rho_mem^4> over detected injections: the Fisher information on sigma^2 at 0 "
-              "(known signals, Finn, PRD 46, 5236 (1992)); optimistic, about half the events the spread model needs "
+              "(known signals, PRD 46, 5236 (1992)); optimistic, about half the events the spread model needs "
               "on simulated catalogs; 90% range over resampled injections")
     if snrs.size == 0 or not np.any(snrs > 0):
         return {"bound": bound, "median": None, "lower_90": None, "upper_90": None, "method": method}

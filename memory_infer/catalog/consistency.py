@@ -2,7 +2,7 @@
 
 - **Expected against observed.** For a signal whose parameters are known, ln BF(A = 1 vs 0) = ln L(1) - ln L(0)
   = <d, h> - <h, h>/2 with ``h`` the memory; in Gaussian noise with ``d = h + n`` it is normal with mean
-  rho^2/2 and variance rho^2 (rho the memory's optimal SNR; Finn, PRD 46, 5236 (1992)), and with ``d = n`` it has
+  rho^2/2 and variance rho^2 (rho the memory's optimal SNR; PRD 46, 5236 (1992)), and with ``d = n`` it has
   mean -rho^2/2 and the same variance. Over independent events the sums add: under GR memory the catalog's
   sum of ln BF+ has mean sum rho^2/2 and standard deviation sqrt(sum rho^2). Marginalizing over the other source
   parameters makes this approximate.
@@ -41,7 +41,7 @@ def expected_versus_observed(used) -> dict:
             "p_value": None if deviation is None else float(2 * stats.norm.sf(abs(deviation))),
             "method": "expected under GR memory: sum of rho_mem^2/2 at each event's reference point, spread "
                       "sqrt(sum rho_mem^2) (the standard deviation of the sum for known source parameters in "
-                      "Gaussian noise; Finn, PRD 46, 5236 (1992)); without memory the mean is -sum rho_mem^2/2 "
+                      "Gaussian noise; PRD 46, 5236 (1992)); without memory the mean is -sum rho_mem^2/2 "
                       "with the same spread; observed: the consistent-sign sum over the same events; p-value "
                       "two-sided from the normal distribution"}
 

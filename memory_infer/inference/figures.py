@@ -43,7 +43,7 @@ def whitened_series(detectors, generator, point) -> dict:
 
 def memory_spectrum(detectors, generator, point, minimum_frequency: float) -> dict:
     """Each detector's memory response 2 sqrt(f) |h(f)| and noise ASD (both strain per root hertz, comparable on
-    one axis; e.g. Moore, Cole and Berry, CQG 32, 015014 (2015)) on log-spaced frequencies of the analysis band
+    one axis; e.g. CQG 32, 015014 (2015)) on log-spaced frequencies of the analysis band
     (outside it the response is masked to zero and there is nothing to draw)."""
     _, memory, _ = _polarizations(generator, point)
     out = {"minimum_frequency": float(minimum_frequency), "detectors": {}}

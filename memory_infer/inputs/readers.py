@@ -197,7 +197,7 @@ def is_release(path: str) -> bool:
         return False
 
 
-def _scalar_text(value):
+def scalar_text(value):
     """A dataset's value as one number or string (releases store both, often as 1-element byte arrays)."""
     value = np.asarray(value).ravel()
     if value.size == 0:
@@ -226,7 +226,7 @@ def analysis_model(group) -> str | None:
 
     for place in PLACES["waveform_model"]:
         if place in group and isinstance(group[place], h5py.Dataset):
-            value = _scalar_text(group[place][()])
+            value = scalar_text(group[place][()])
             if isinstance(value, str) and value:
                 return value
     return None
@@ -262,7 +262,7 @@ def choose_analysis(handle, name: str) -> tuple:
                     f"{', '.join(ANALYSIS_PREFERENCE)}); not taken: {', '.join(skipped)}")
 
 
-def _release_group(handle, name: str, analysis: str | None, why: list | None = None):
+def release_group(handle, name: str, analysis: str | None, why: list | None = None):
     """(group, analysis) of the named analysis, or of the one the rule chooses; ``why`` receives the reason."""
     analyses = release_analyses(handle)
     reason = "[evidence] samples_analysis"
@@ -290,7 +290,7 @@ def read_release(path: str, analysis: str | None = None) -> dict:
     name = os.path.basename(path)
     try:
         with h5py.File(path, "r") as handle:
-            group, analysis = _release_group(handle, name, analysis)
+            group, analysis = release_group(handle, name, analysis)
             table = group[SAMPLES]
             if isinstance(table, h5py.Dataset) and table.dtype.names:
                 data = table[()]
@@ -309,7 +309,7 @@ def read_release(path: str, analysis: str | None = None) -> dict:
             for key in ("reference_frequency", "waveform_model"):
                 for place in PLACES[key]:
                     if place in group and isinstance(group[place], h5py.Dataset):
-                        value = _scalar_text(group[place][()])
+                        value = scalar_text(group[place][()])
                         if value is not None:
                             found[key] = float(value) if key == "reference_frequency" else str(value)
                             break

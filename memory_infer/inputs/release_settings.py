@@ -11,7 +11,7 @@ import re
 import numpy as np
 
 from ..common.errors import MemoryInferError
-from .readers import _release_group, _scalar_text
+from .readers import release_group, scalar_text
 from .release_layout import CALIBRATION_ENVELOPES, PLACES, SAMPLES
 from .settings import DEFAULT_POST_TRIGGER
 
@@ -37,7 +37,7 @@ def _per_detector(value):
             return {key: float(number) for key, number in pairs}
         except ValueError:
             return None
-    return _scalar_text(np.asarray([value]))
+    return scalar_text(np.asarray([value]))
 
 
 def _detector_list(value) -> list | None:
@@ -62,7 +62,7 @@ def read_release_settings(path: str, analysis: str | None = None) -> dict:
     try:
         with h5py.File(path, "r") as handle:
             why = []
-            group, analysis = _release_group(handle, name, analysis, why)
+            group, analysis = release_group(handle, name, analysis, why)
             found["analysis"] = (analysis, f"{name}: {why[0]}")
             for setting, places in PLACES.items():
                 for place in places:
@@ -75,7 +75,7 @@ def read_release_settings(path: str, analysis: str | None = None) -> dict:
                         elif setting in TEXT_SETTINGS:
                             value = str(raw).strip() if raw is not None and str(raw).strip() not in EMPTY_TEXT else None
                         else:
-                            value = _scalar_text(np.asarray([raw]))
+                            value = scalar_text(np.asarray([raw]))
                             value = float(value) if isinstance(value, float) else None
                         if value is not None:
                             found[setting] = (value, f"{name}: {analysis}/{place}")

@@ -183,15 +183,15 @@ def parameter_value(name: str, value) -> str:
 
 def expected_ln_bf_text(snr_value: float, injected_amplitude) -> str:
     """What a perfectly known signal would give in expectation: ln BF+ = (A_true - 1/2) rho^2 for data holding memory
-    of amplitude A_true (Finn, PRD 46, 5236 (1992)); for data of unknown content, the values under GR and without
+    of amplitude A_true (PRD 46, 5236 (1992)); for data of unknown content, the values under GR and without
     memory."""
     rho2 = snr_value ** 2
     if injected_amplitude is not None:
         amplitude = float(injected_amplitude)
         return (f"Expected ln BF₊ for a perfectly known signal with the injected memory amplitude A = {amplitude:g}: "
-                f"(A − 1/2) ρ² = {(amplitude - 0.5) * rho2:.3f} (Finn, PRD 46, 5236 (1992)).")
+                f"(A − 1/2) ρ² = {(amplitude - 0.5) * rho2:.3f} (PRD 46, 5236 (1992)).")
     return (f"Expected ln BF₊ for a perfectly known signal: ρ²/2 = {rho2 / 2:.3f} if the data hold the memory general "
-            f"relativity predicts, −ρ²/2 = {-rho2 / 2:.3f} if they hold none (Finn, PRD 46, 5236 (1992)).")
+            f"relativity predicts, −ρ²/2 = {-rho2 / 2:.3f} if they hold none (PRD 46, 5236 (1992)).")
 
 
 def parameters_html(roles: dict) -> str:

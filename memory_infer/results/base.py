@@ -39,7 +39,7 @@ class Block:
         return any(getattr(self, item.name) is not ABSENT for item in dataclasses.fields(self))
 
     def to_dict(self) -> dict:
-        return {item.name: _plain(value) for item in dataclasses.fields(self)
+        return {item.name: json_ready(value) for item in dataclasses.fields(self)
                 if (value := getattr(self, item.name)) is not ABSENT}
 
     @classmethod
@@ -94,7 +94,7 @@ class ResultFile:
     def to_json(self) -> dict:
         out = {"schema": {"kind": self.KIND, "version": SCHEMA_VERSION}}
         for item in dataclasses.fields(self):
-            out[item.name] = _plain(getattr(self, item.name))
+            out[item.name] = json_ready(getattr(self, item.name))
         return out
 
     @classmethod
@@ -129,15 +129,16 @@ class ResultFile:
         return cls.from_json(read_json(path, f"{cls.KIND} result"), f"'{path}'")
 
 
-def _plain(value):
+def json_ready(value):
+    """``value`` as JSON holds it: blocks and dataclasses as dicts, tuples as lists, other values as they are."""
     if isinstance(value, Block):
         return value.to_dict()
     if dataclasses.is_dataclass(value):
-        return {k: _plain(v) for k, v in dataclasses.asdict(value).items()}
+        return {k: json_ready(v) for k, v in dataclasses.asdict(value).items()}
     if isinstance(value, dict):
-        return {k: _plain(v) for k, v in value.items()}
+        return {k: json_ready(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
+        return [json_ready(v) for v in value]
     return value
 
 

@@ -7,7 +7,7 @@ import dataclasses
 from dataclasses import dataclass
 
 from ..common.errors import MemoryInferError
-from .base import ABSENT, Block, _plain
+from .base import ABSENT, Block, json_ready
 
 
 @dataclass(frozen=True)
@@ -61,9 +61,9 @@ class PopulationModel(Block):
         return dict(self.parameters)[name]
 
     def to_dict(self) -> dict:
-        out = {key: _plain(getattr(self, key)) for key in self.FIXED}
+        out = {key: json_ready(getattr(self, key)) for key in self.FIXED}
         out.update((name, summary.to_dict()) for name, summary in self.parameters)
-        out.update((key, _plain(value)) for key in ("sigma_max", "figure")
+        out.update((key, json_ready(value)) for key in ("sigma_max", "figure")
                    if (value := getattr(self, key)) is not ABSENT)
         return out
 
@@ -105,7 +105,7 @@ class PopulationModels(Block):
             if item.name == "entries":
                 out.update((name, model.to_dict()) for name, model in self.entries)
             elif (value := getattr(self, item.name)) is not ABSENT:
-                out[item.name] = _plain(value)
+                out[item.name] = json_ready(value)
         return out
 
     @classmethod

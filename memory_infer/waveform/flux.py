@@ -14,7 +14,7 @@ import numpy as np
 
 from .compiled import (complex_form_rates, contract_real, differences_into, mirror_holds, pair_sums, pair_weights,
                        real_form_rates)
-from .sphere import HarmonicSet, _direction_tables
+from .sphere import HarmonicSet, direction_tables
 
 
 def mirrored_rows(keys, modes) -> bool:
@@ -53,7 +53,7 @@ def flux_tables(keys: tuple, mirrored: bool, real: bool | None = None):
     ``(-1)^l conj`` of their partners, which the tables absorb. The tables also hold the 1/144 of
     :func:`differences` (``12 step dh/dt``). Without the symmetry: complex tables over every mode, or with
     ``real`` the real layout over every mode (``y = [Re dh; Im dh]`` of all of them)."""
-    harmonics, table = _direction_tables(keys)
+    harmonics, table = direction_tables(keys)
     own = tuple(k for k in keys if k[1] >= 0) if mirrored else keys
     count = len(own)
     to_complex = np.zeros((len(keys), 2 * count), dtype=complex)  # dh_keys = to_complex @ y

@@ -2,14 +2,14 @@
 
 Units: geometric (G = c = 1). Inputs are ``r h_lm / M`` sampled uniformly in ``t / M``.
 
-Flux form (Wiseman & Will, PRD 44, R2945 (1991)), r = 1:
+Flux form (PRD 44, R2945 (1991)), r = 1:
 ``h_mem(t, N) = (1/4pi) int_{-inf}^t dt' oint dOmega' |dh/dt'|^2 (mbar(N).n')^2 / (1 - n'.N)``.
 Mode form: ``h_mem_lm = sqrt((l-2)!/(l+2)!) int dt' sum dh_{l'm'} conj(dh_{l''m''})
 oint -2Y_{l'm'} conj(-2Y_{l''m''}) conj(Y_lm) dOmega`` (couplings in :mod:`memory_infer.waveform.sphere`).
 
 Sign convention (the one place it is decided). Inputs and outputs are modes in lalsimulation's
-convention: its polarization basis is rotated by 90 degrees from (e_theta, e_phi) (Blanchet et al.,
-CQG 25, 165003 (2008)), so every oscillatory mode has the opposite sign there (leading order
+convention: its polarization basis is rotated by 90 degrees from (e_theta, e_phi) (CQG 25, 165003 (2008)),
+so every oscillatory mode has the opposite sign there (leading order
 ``h_22 = +8 sqrt(pi/5) eta x e^{-2i Phi}``) while ``|dh/dt|^2`` is the same. The flux form gives the
 memory in the (e_theta, e_phi) basis; it is multiplied by ``LALSIMULATION_SIGN`` = -1 before it meets
 lalsimulation's modes. Checked against lalsimulation's own TaylorT4 memory modes (tests/waveform/test_memory.py),
@@ -20,7 +20,7 @@ grid does not resolve them (:mod:`memory_infer.waveform.models.refine`); the cum
 joined continuously to the one before at the level's ``use_from`` time and read off at the data's times.
 
 The memory accumulated before the first sample (the early inspiral) is not in the modes;
-``early_inspiral=True`` adds its leading-order value (Favata, PRD 80, 024002 (2009)):
+``early_inspiral=True`` adds its leading-order value (PRD 80, 024002 (2009)):
 ``h+_mem = -2 eta x sin^2(i) (17 + cos^2 i) / 96`` (lalsimulation's sign) at the first sample's ``x``.
 It is constant over a segment, so it only moves the zero-frequency bin and never changes ln L.
 """
@@ -333,7 +333,7 @@ def _joined(times, coarse, levels, own_array: bool = False):
 def _leading_order_projection():
     """Coefficients c_l with ``h_mem_l0 = c_l eta x`` for the leading-order (2, +-2) memory.
 
-    Projects Favata's ``2 sin^2 i (17 + cos^2 i) / 96`` on ``-2Y_l0`` (a polynomial: the
+    Projects the leading-order ``2 sin^2 i (17 + cos^2 i) / 96`` on ``-2Y_l0`` (a polynomial: the
     Gauss-Legendre rule is exact), times ``LALSIMULATION_SIGN``; only l = 2 and l = 4 are nonzero.
     """
     nodes, weights = np.polynomial.legendre.leggauss(16)
@@ -368,7 +368,7 @@ def early_inspiral_offset(modes: dict, times, symmetric_mass_ratio: float | None
 
 
 def energy_flux(modes: dict, times) -> np.ndarray:
-    """Radiated power ``dE/dt = (1/16 pi) sum_lm |d(r h_lm)/dt|^2`` (Ruiz et al., GRG 40, 1705 (2008))."""
+    """Radiated power ``dE/dt = (1/16 pi) sum_lm |d(r h_lm)/dt|^2`` (GRG 40, 1705 (2008))."""
     step = _uniform_step(times)
     _, stacked = _stack(modes)
     return np.sum(np.abs(time_derivative(stacked, step)) ** 2, axis=0) / (16 * np.pi)

@@ -1,7 +1,7 @@
 """Spin-weighted spherical harmonics, Wigner 3j symbols and small-d functions, and the memory coupling tables.
 
 Conventions (stated once here, tested in tests/test_sphere.py):
-- ``sY_lm`` follows Goldberg et al., J. Math. Phys. 8, 2155 (1967) with the Condon-Shortley
+- ``sY_lm`` follows J. Math. Phys. 8, 2155 (1967) with the Condon-Shortley
   phase, as used by lalsimulation; e.g. ``-2Y_22 = sqrt(5/(64 pi)) (1 + cos th)^2 e^{2 i ph}``.
 - The complex strain is ``h = h_plus - i h_cross = sum_lm h_lm -2Y_lm(theta, phi)``.
 """
@@ -19,7 +19,7 @@ from .compiled import goldberg_sums
 def spin_weighted_harmonic(s: int, l: int, m: int, theta, phi):
     """Spin-weighted spherical harmonic ``sY_lm(theta, phi)``, vectorized over the angles.
 
-    Goldberg et al. (1967), eq. (3.1):
+    J. Math. Phys. 8, 2155 (1967), eq. (3.1):
     ``sY_lm = (-1)^m sqrt[(l+m)!(l-m)!(2l+1) / (4 pi (l+s)!(l-s)!)] sin^{2l}(th/2)
     sum_r C(l-s, r) C(l+s, r+s-m) (-1)^{l-r-s} e^{i m ph} cot^{2r+s-m}(th/2)``.
     """
@@ -90,7 +90,7 @@ def triple_integral(l1: int, m1: int, l2: int, m2: int, l: int, m: int) -> float
 
 
 def memory_normalisation(l: int) -> float:
-    """``sqrt((l-2)!/(l+2)!)``, the factor of the memory mode of degree l (Wiseman & Will, PRD 44, R2945 (1991), in mode form)."""
+    """``sqrt((l-2)!/(l+2)!)``, the factor of the memory mode of degree l (PRD 44, R2945 (1991), in mode form)."""
     return sqrt(factorial(l - 2) / factorial(l + 2))
 
 
@@ -153,7 +153,8 @@ class HarmonicSet:
 
 
 @lru_cache(maxsize=64)
-def _direction_tables(input_modes: tuple):
+def direction_tables(input_modes: tuple):
+    """The output harmonics and coupling table of ``input_modes`` (``coupling_table`` up to twice their largest l)."""
     ell_max = max(2, 2 * max(l for l, _ in input_modes))
     output, table = coupling_table(input_modes, ell_max)
     return HarmonicSet(output), table
@@ -165,7 +166,7 @@ def direction_matrix(input_modes: tuple, theta: float, phi: float) -> np.ndarray
     ``h_mem(t, N) = int dt sum_ij W_ij dh_i conj(dh_j)`` with
     ``W_ij = sum_l coefficients[(l, m_i - m_j), i, j] -2Y_{l, m_i - m_j}(N)``, l up to l_i + l_j.
     """
-    harmonics, table = _direction_tables(tuple(input_modes))
+    harmonics, table = direction_tables(tuple(input_modes))
     return np.einsum("k,kij->ij", harmonics(theta, phi), table)  # einsum: independent of BLAS threads
 
 

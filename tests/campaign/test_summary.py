@@ -134,8 +134,8 @@ def test_crossing_errors_include_the_noise_draws_own_scatter():
 
 
 def test_events_to_bound_the_spread_agree_with_the_spread_model_on_simulated_catalogs():
-    # reference: each event's best-fit A for a known signal is normal around the true A with variance 1/rho^2 (Finn,
-    # PRD 46, 5236 (1992)); catalogs analysed by the catalog's spread model. The forecast is a large-N Fisher estimate
+    # reference: each event's best-fit A for a known signal is normal around the true A with variance 1/rho^2
+    # (PRD 46, 5236 (1992)); catalogs analysed by the catalog's spread model. The forecast is a large-N Fisher estimate
     # and optimistic: at its size the median 90% bound on sigma is 0.65 (measured), at twice its size 0.48
     import numpy as np
 

@@ -49,7 +49,7 @@ def test_weights_tend_to_linear_interpolation_below_the_grid_spacing():
 
 def catalog_from(rng, amplitudes, snrs, grid):
     """Event curves of a fixed-parameter memory signal in Gaussian noise: ln L(A)/L(0) = A <d,h> - A^2 rho^2 / 2,
-    with <d,h> ~ N(A_true rho^2, rho^2), the exact likelihood of A (Finn, PRD 46, 5236 (1992))."""
+    with <d,h> ~ N(A_true rho^2, rho^2), the exact likelihood of A (PRD 46, 5236 (1992))."""
     overlap = rng.normal(amplitudes * snrs ** 2, snrs)
     ln_curves = overlap[:, None] * grid[None, :] - 0.5 * grid[None, :] ** 2 * snrs[:, None] ** 2
     return EventCurves(grid, ln_curves, 0.0)

@@ -7,7 +7,7 @@ from memory_infer.catalog.consistency import expected_versus_observed, leave_one
 
 
 def test_expected_sum_has_the_spread_of_gr_memory_and_matches_simulated_catalogs():
-    # Finn, PRD 46, 5236 (1992): for known parameters, ln BF(1 vs 0) = <d,h> - <h,h>/2 is normal with mean rho^2/2
+    # PRD 46, 5236 (1992): for known parameters, ln BF(1 vs 0) = <d,h> - <h,h>/2 is normal with mean rho^2/2
     # and variance rho^2 when the data hold h; checked here against a direct simulation of the inner products
     rng = np.random.default_rng(5)
     snrs = np.array([3.0, 1.5, 0.8, 4.2])

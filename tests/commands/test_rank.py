@@ -17,7 +17,7 @@ def test_rank_orders_events_by_memory_snr(tmp_path, capsys):
     snr = dict(zip(ranking["label"], ranking["memory_snr"]))
     # memory scales as 1/distance (like the oscillatory strain: r h is distance-independent)
     assert np.isclose(snr["near"] / snr["far"], 4.0, rtol=1e-6)
-    assert snr["face-on"] < snr["near"]  # the memory is largest edge-on: sin^2(i) (Favata 2009, leading order)
+    assert snr["face-on"] < snr["near"]  # the memory is largest edge-on: sin^2(i) (PRD 80, 024002 (2009), leading order)
 
 
 @pytest.mark.slow

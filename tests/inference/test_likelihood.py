@@ -97,7 +97,7 @@ def test_phase_marginalization_is_refused(generator):
 
 
 def test_known_signal_log_likelihood_ratio_statistics(generator):
-    # L. S. Finn, PRD 46, 5236 (1992): with the signal known, ln Lambda has mean rho^2/2 and standard
+    # PRD 46, 5236 (1992): with the signal known, ln Lambda has mean rho^2/2 and standard
     # deviation rho over Gaussian-noise realizations; 240 realizations, within 3 standard errors
     values, snrs = [], []
     for seed in range(240):

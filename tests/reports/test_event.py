@@ -65,7 +65,7 @@ def test_figures_name_quantity_and_unit_and_keep_to_the_band():
 
 
 def test_a_control_page_expects_a_negative_ln_bf_and_shows_times_and_parameter_roles():
-    # the expectation for a known signal in Gaussian noise: ln BF+ = (A_true - 1/2) rho^2 (Finn, PRD 46, 5236 (1992))
+    # the expectation for a known signal in Gaussian noise: ln BF+ = (A_true - 1/2) rho^2 (PRD 46, 5236 (1992))
     from memory_infer.reports.event import event_page
     from memory_infer.results.event import EventResult
 

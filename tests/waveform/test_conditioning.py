@@ -125,7 +125,7 @@ def test_zero_memory_likelihood_is_bilbys_at_random_points(approximant, source, 
         expected = reference.log_likelihood_ratio(point)
         curve = ours.log_likelihood_ratio_curve(point, [0.0, 1.0])
         assert abs(curve[0] - expected) <= max(1e-3, 5e-8 * abs(expected)), (point, curve[0], expected)
-    # at the truth, data without memory: ln BF+ = -rho_mem^2 / 2 (Finn, PRD 46, 5236 (1992), zero noise)
+    # at the truth, data without memory: ln BF+ = -rho_mem^2 / 2 (PRD 46, 5236 (1992), zero noise)
     curve = ours.log_likelihood_ratio_curve(truth, [0.0, 1.0])
     rho2 = ours.inner_products(truth).mem_mem
     assert rho2 > 0 and abs((curve[1] - curve[0]) + rho2 / 2) < 1e-6 * rho2 + 1e-9

@@ -11,7 +11,7 @@ from memory_infer.waveform.sphere import direction_matrix
 @pytest.mark.parametrize("spins", [((0, 0, 0.3), (0, 0, -0.2)), ((0.4, 0.2, 0.3), (-0.1, 0.3, 0.2))])
 def test_rates_equal_the_direct_quadratic_form(spins):
     # the rate sum_ij W_ij dh_i conj(dh_j) written out over every mode with W from the couplings (the mode form
-    # of Wiseman & Will, PRD 44, R2945 (1991)), against the stacked form: m >= 0 rows in the real layout when
+    # of PRD 44, R2945 (1991)), against the stacked form: m >= 0 rows in the real layout when
     # h_{l,-m} = (-1)^l conj(h_lm) holds (aligned spins), the complex form over every mode otherwise
     approximant = "IMRPhenomTPHM" if spins[0][0] else "IMRPhenomTHM"
     series = generate_modes(approximant, 30.0, 25.0, 100.0, 1 / 2048, 20.0, *spins, 20.0, finer_for_memory=False)

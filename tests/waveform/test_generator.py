@@ -53,3 +53,42 @@ def test_waveform_failure_inside_sampling_is_minus_infinity_and_counted():
     assert value < -1e300
     assert np.all(np.isneginf(likelihood.log_likelihood_ratio_curve(point, [0.0, 1.0])))
     assert generator.failures >= before + 1
+
+
+def test_the_private_bilby_members_the_generator_uses_keep_their_meaning(monkeypatch):
+    """bilby's WaveformGenerator (reference library, bilby 2.x): ``frequency_domain_strain`` hands the converted
+    parameters to ``_strain_from_model(model_data_points, model, parameters)``, and ``_format_parameters`` converts
+    them and adds the waveform arguments. The generator overrides the first and calls the second; pyproject bounds
+    bilby below its next minor version, and this test names whichever changed."""
+    import inspect
+
+    from bilby.gw.waveform_generator import WaveformGenerator
+
+    changed = []
+    if list(inspect.signature(WaveformGenerator._strain_from_model).parameters) != [
+            "self", "model_data_points", "model", "parameters"]:
+        changed.append("_strain_from_model (its arguments)")
+    generator = waveform_generator(2.0, 1024.0, 1e9, ARGUMENTS)
+    seen = []
+    original = WaveformGenerator._strain_from_model
+
+    def recording(self, model_data_points, model, parameters):
+        seen.append(dict(parameters))
+        return original(self, model_data_points, model, parameters)
+
+    monkeypatch.setattr(WaveformGenerator, "_strain_from_model", recording)
+    components = bilby.gw.conversion.generate_mass_parameters({"mass_1": 36.0, "mass_2": 29.0})
+    point = {k: v for k, v in POINT.items() if k not in ("mass_1", "mass_2")}
+    point.update(chirp_mass=components["chirp_mass"], mass_ratio=components["mass_ratio"], memory_amplitude=1.0)
+    bilby.gw.waveform_generator.WaveformGenerator(  # a plain bilby generator: does it call the member?
+        duration=2.0, sampling_frequency=1024.0, start_time=1e9,
+        frequency_domain_source_model=bilby.gw.source.lal_binary_black_hole,
+        parameter_conversion=bilby.gw.conversion.convert_to_lal_binary_black_hole_parameters,
+        waveform_arguments=dict(ARGUMENTS)).frequency_domain_strain(dict(point))
+    if not seen or abs(seen[0].get("mass_1", 0.0) - 36.0) > 1e-9:
+        changed.append("_strain_from_model (not called with converted parameters by frequency_domain_strain)")
+    formatted = generator._format_parameters(dict(point))
+    if abs(formatted.get("mass_1", 0.0) - 36.0) > 1e-9 or formatted.get("waveform_approximant") != "IMRPhenomTHM":
+        changed.append("_format_parameters (no longer converts and adds the waveform arguments)")
+    assert not changed, (f"bilby {bilby.__version__} changed private members memory_infer.waveform.generator uses: "
+                         + "; ".join(changed))

@@ -53,8 +53,8 @@ def test_leading_order_mode_matches_closed_form(leading_order):
     times, modes, eta, x = leading_order
     memory = memory_modes(modes, times)
     i, j = len(times) // 4, int(0.9 * len(times))
-    # r h_mem_20 / M = -(4/7) sqrt(5 pi / 6) eta x: M. Favata, PRD 80, 024002 (2009) (l = 2 projection),
-    # negative in lalsimulation's basis (Blanchet et al., CQG 25, 165003 (2008))
+    # r h_mem_20 / M = -(4/7) sqrt(5 pi / 6) eta x: PRD 80, 024002 (2009) (l = 2 projection),
+    # negative in lalsimulation's basis (CQG 25, 165003 (2008))
     expected = -(4 / 7) * np.sqrt(5 * np.pi / 6) * eta * (x[j] - x[i])
     assert abs((memory[(2, 0)][j] - memory[(2, 0)][i]).real / expected - 1) < 5e-3
 
@@ -65,8 +65,8 @@ def test_leading_order_plus_polarization_matches_closed_form(leading_order, incl
     memory = memory_at_direction(modes, times, inclination, 0.3)
     i, j = len(times) // 4, int(0.9 * len(times))
     # h+_mem = -(2 eta M x / R) sin^2 i (17 + cos^2 i) / 96 for h22 = +8 sqrt(pi/5) eta x e^{-2i Phi}:
-    # M. Favata, ApJ 696, L159 (2009) and PRD 80, 024002 (2009), in the (e_theta, e_phi) basis with the other
-    # sign; lalsimulation's basis: Blanchet et al., CQG 25, 165003 (2008)
+    # ApJ 696, L159 (2009) and PRD 80, 024002 (2009), in the (e_theta, e_phi) basis with the other
+    # sign; lalsimulation's basis: CQG 25, 165003 (2008)
     expected = -2 * eta * (x[j] - x[i]) * np.sin(inclination) ** 2 * (17 + np.cos(inclination) ** 2) / 96
     accumulated = memory[j] - memory[i]
     assert abs(accumulated.real / expected - 1) < 5e-3
@@ -76,7 +76,7 @@ def test_leading_order_plus_polarization_matches_closed_form(leading_order, incl
 @pytest.mark.parametrize("masses", [(30.0, 30.0), (45.0, 15.0)])
 @pytest.mark.parametrize("direction", [(0.3, 0.2), (1.4, 2.0)])
 def test_mode_sum_matches_quadrature(masses, direction):
-    # second, independent implementation: quadrature of the flux form (Wiseman & Will, PRD 44, R2945 (1991))
+    # second, independent implementation: quadrature of the flux form (PRD 44, R2945 (1991))
     series = generate_modes("IMRPhenomTHM", *masses, 100.0, 1 / 4096, 20.0)
     times, modes = series.geometric()
     fast = memory_at_direction(modes, times, *direction)
@@ -151,12 +151,12 @@ def test_memory_contains_every_allowed_m(thm_modes):
     memory = memory_modes(modes, times, ell_max=6)
     assert {(2, 0), (4, 0), (6, 0), (3, 1), (2, 1), (4, 4), (5, 3)} <= set(memory)
     assert all(abs(m) <= l <= 6 for l, m in memory)
-    # aligned spins: the m = 0, even-l modes carry the offset (Favata, PRD 80, 024002 (2009))
+    # aligned spins: the m = 0, even-l modes carry the offset (PRD 80, 024002 (2009))
     assert abs(memory[(2, 0)][-1]) > 10 * abs(memory[(3, 1)][-1])
 
 
 def test_energy_flux_identity(thm_modes):
-    # dE/dt = (1/16 pi) sum |dh_lm/dt|^2 (Ruiz et al., GRG 40, 1705 (2008)) equals the sphere
+    # dE/dt = (1/16 pi) sum |dh_lm/dt|^2 (GRG 40, 1705 (2008)) equals the sphere
     # integral (r^2 / 16 pi) oint |dh/dt|^2 dOmega: exact identity, 1e-10
     times, modes = thm_modes
     flux = energy_flux(modes, times)
@@ -183,7 +183,7 @@ def test_equal_mass_energy_and_final_memory():
     assert radiated < 0.048
     memory = memory_modes(modes, times, ell_max=4, early_inspiral=True, symmetric_mass_ratio=0.25)
     # final r h_mem_20 / M near 0.1 in size for equal masses (ApJ 696, L159 (2009), value from memory), 20%, early inspiral
-    # included; negative in lalsimulation's basis (Blanchet et al., CQG 25, 165003 (2008))
+    # included; negative in lalsimulation's basis (CQG 25, 165003 (2008))
     assert abs(memory[(2, 0)][-1].real + 0.1) < 0.02
 
 
@@ -192,7 +192,7 @@ def test_early_inspiral_offset_is_the_leading_order_value(leading_order):
     offset = early_inspiral_offset(modes, times, eta)
     # x at the first sample from the (2, 2) phase rate equals the analytic x(t) of the model
     assert abs(orbital_velocity_parameter(modes, times) / x[0] - 1) < 1e-3
-    # Favata, PRD 80, 024002 (2009): the (2, 0) value -(4/7) sqrt(5 pi / 6) eta x in lalsimulation's basis
+    # PRD 80, 024002 (2009): the (2, 0) value -(4/7) sqrt(5 pi / 6) eta x in lalsimulation's basis
     assert abs(offset[(2, 0)] / (-(4 / 7) * np.sqrt(5 * np.pi / 6) * eta * x[0]) - 1) < 1e-3
     with_offset = memory_modes(modes, times, early_inspiral=True, symmetric_mass_ratio=eta)
     without = memory_modes(modes, times)
@@ -232,7 +232,7 @@ def _taylor_t4_own_modes(amplitude_order, rate=4096.0):
 
 def test_sign_and_size_match_lalsimulation_taylor_t4_memory_modes():
     # reference library: lalsimulation's TaylorT4 returns its own post-Newtonian memory modes (2, 0) and (4, 0)
-    # (Blanchet et al., CQG 25, 165003 (2008)); ours from the same run's oscillatory modes
+    # (CQG 25, 165003 (2008)); ours from the same run's oscillatory modes
     times, modes = _taylor_t4_own_modes(3)
     oscillatory = {k: v for k, v in modes.items() if k[1] != 0}
     ours = memory_modes(oscillatory, times)
@@ -243,7 +243,7 @@ def test_sign_and_size_match_lalsimulation_taylor_t4_memory_modes():
     # size: reference library (lalsimulation's own TaylorT4 (2, 0)); the two differ by the post-Newtonian order at
     # which the amplitudes are truncated, which at x ~ 0.1 near the end is of order 1% (measured 0.9%): 1.5% allowed
     assert abs(ours[(2, 0)][-1].real / own_20 - 1) < 0.015
-    # lalsimulation's own memory modes are the leading-order formula c_l eta x (Favata, PRD 80, 024002 (2009)),
+    # lalsimulation's own memory modes are the leading-order formula c_l eta x (PRD 80, 024002 (2009)),
     # checked here to 0.6% along the run; ours carries the flux of the 1.5PN-accurate amplitudes, so (4, 0),
     # whose leading-order coefficient is small, differs by the next order: 17% measured, 20% allowed
     from memory_infer.waveform.memory import _leading_order_projection

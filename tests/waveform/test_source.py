@@ -145,6 +145,6 @@ def test_physical_data_window_moves_ln_bf_by_under_two_percent_of_rho_squared(de
     # windowed there; the model tapers its plateau. ln BF may move by at most 2% of rho_mem^2, at 20 Hz
     # (second generation) and 5 Hz (third generation, where slow ramps matter most)
     model, physical, rho2 = _ln_bf_model_and_physical(detector, curve, minimum_frequency, duration, rate, distance)
-    assert abs(model - rho2 / 2) < 1e-6 * rho2  # zero noise, truth: ln BF = rho^2 / 2 (Finn, PRD 46, 5236 (1992))
+    assert abs(model - rho2 / 2) < 1e-6 * rho2  # zero noise, truth: ln BF = rho^2 / 2 (PRD 46, 5236 (1992))
     assert rho2 > 0.01
     assert abs(physical - model) < 0.02 * rho2, (model, physical, rho2)

@@ -12,7 +12,7 @@ phi = np.linspace(0, 2 * np.pi, 9)
 
 
 def test_harmonics_match_closed_forms():
-    # Goldberg et al., J. Math. Phys. 8, 2155 (1967); closed forms of -2Y_22, -2Y_21, -2Y_20
+    # J. Math. Phys. 8, 2155 (1967); closed forms of -2Y_22, -2Y_21, -2Y_20
     closed = {
         (2, 2): np.sqrt(5 / (64 * np.pi)) * (1 + np.cos(theta)) ** 2 * np.exp(2j * phi),
         (2, 0): np.sqrt(15 / (32 * np.pi)) * np.sin(theta) ** 2 + 0j,

@@ -28,7 +28,7 @@ one-dimensional integral is split at the softplus kink and done by Gauss-Legendr
 the independent check.
 
 Limits. With the sign resolved (``delta`` large, so ``u`` -> +inf) the estimator is ``D``, whose expectation
-at ``A = A_t = 1`` is ``<m,m>/2 = rho^2/2`` (Finn, PRD 46, 5236 (1992)). With a (2, +-2)-only signal
+at ``A = A_t = 1`` is ``<m,m>/2 = rho^2/2`` (PRD 46, 5236 (1992)). With a (2, +-2)-only signal
 ``delta = 0``, ``m' = -m``, hence ``u = 0``, ``x2 = -x1`` and, at ``A = A_t = 1``,
 ``ln BF = ln cosh(y) - rho^2/2`` with ``y = rho^2 + x1``, ``x1 ~ N(0, rho^2)``. Expanding
 ``ln cosh y = y^2/2 - y^4/12 + O(y^6)`` with ``E[y^2] = rho^2 + rho^4`` and ``E[y^4] = 3 rho^4 + O(rho^6)`` gives

@@ -2,9 +2,8 @@
 
 ``x = tau^(-1/4) / 4``, orbital phase ``phi = -tau^(5/8) / eta``, ``tau = eta (t_c - t) / (5 M)``,
 ``r h_22 / M = +8 sqrt(pi/5) eta x e^{-2 i phi}``, ``h_2-2 = conj(h_22)``: lalsimulation's
-convention, whose polarization basis is rotated by 90 degrees from (e_theta, e_phi) (Blanchet et al.,
-CQG 25, 165003 (2008)); in the (e_theta, e_phi) basis of e.g. Blanchet, Living Rev. Rel. 17, 2 (2014),
-eqs. 317 and 327, the sign is minus.
+convention, whose polarization basis is rotated by 90 degrees from (e_theta, e_phi) (CQG 25, 165003 (2008));
+in the (e_theta, e_phi) basis of e.g. Living Rev. Rel. 17, 2 (2014), eqs. 317 and 327, the sign is minus.
 The series ends at x = 1/6 (t = 0 there), abruptly: use it away from its end.
 """
 from __future__ import annotations

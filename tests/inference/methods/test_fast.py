@@ -51,7 +51,7 @@ def test_higher_modes_resolve_the_sign():
     estimates, snr = fast_estimates(likelihood, SOURCE)
     two_plus, two_minus = [e.ln_bf for e in estimates if e.method.startswith("two-point")]
     assert two_plus - two_minus > 4.0  # zero noise: 2 rho^2 when the partner does not fit
-    assert two_plus == pytest.approx(snr ** 2 / 2, rel=1e-6)  # zero noise: rho^2 / 2 (Finn 1992, mean value)
+    assert two_plus == pytest.approx(snr ** 2 / 2, rel=1e-6)  # zero noise: rho^2 / 2 (PRD 46, 5236 (1992), mean value)
 
 
 # ---- the two-point estimator over Gaussian noise -------------------------------------------------------------
@@ -145,7 +145,7 @@ def test_quadrupole_only_event_expects_rho_four_over_four():
 
 
 def test_sign_resolving_event_expects_rho_squared_over_two():
-    # L. S. Finn, PRD 46, 5236 (1992): with the sign known the expected ln BF is rho^2/2; an edge-on-ish
+    # PRD 46, 5236 (1992): with the sign known the expected ln BF is rho^2/2; an edge-on-ish
     # IMRPhenomTHM event in Cosmic Explorer resolves the sign (<delta, delta> ~ 1e2), so the two-point
     # expectation equals rho^2/2 to 1e-6 relative
     from memory_infer.inference.methods.fast import two_point_noise_average, two_point_terms
@@ -155,7 +155,7 @@ def test_sign_resolving_event_expects_rho_squared_over_two():
     assert terms["split"] > 50
     average = two_point_noise_average(terms, 1.0, 1.0)
     assert abs(average["mean"] / (terms["memory"] / 2) - 1) < 1e-6
-    assert abs(average["spread"] / np.sqrt(terms["memory"]) - 1) < 1e-6  # standard deviation rho (Finn 1992)
+    assert abs(average["spread"] / np.sqrt(terms["memory"]) - 1) < 1e-6  # standard deviation rho (PRD 46, 5236 (1992))
 
 
 def _terms_from_gram(gram):

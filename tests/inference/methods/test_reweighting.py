@@ -87,7 +87,7 @@ def test_small_loud_problem_nested_and_reweighting_agree(tmp_path):
     assert reweighted["reliable"]
     assert abs(nested["ln_bf"] - reweighted["ln_bf"]) < 3 * np.hypot(nested["ln_bf_err"], reweighted["ln_bf_err"])
     assert reweighted["ln_bf"] > 0 and nested["ln_bf"] > 0
-    # zero noise and the phase free: close to rho^2/2 (Finn, PRD 46, 5236 (1992)), which is > 1 here
+    # zero noise and the phase free: close to rho^2/2 (PRD 46, 5236 (1992)), which is > 1 here
     assert record["memory_snr"]["value"] ** 2 / 2 > 1
     assert abs(reweighted["ln_bf"] - record["memory_snr"]["value"] ** 2 / 2) < 0.3
     assert os.path.exists(tmp_path / "gr" / "report.html")
