@@ -140,10 +140,14 @@ def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approxima
     if mode_list:
         modes = {k: v for k, v in modes.items() if k in {tuple(x) for x in mode_list}}
     size = next(iter(modes.values())).size
-    frequencies = np.abs((np.arange(size) - size // 2) * delta_f)
+    half = size // 2
+    # the window is 1 from the minimum frequency on: only |f| < f_min (the ramp and below it) is multiplied
+    reach = min(half, int(np.ceil(minimum_frequency / delta_f)))
+    ramp = slice(half - reach, half + reach + 1)
+    frequencies = np.abs((np.arange(ramp.start, ramp.stop) - half) * delta_f)
     window = np.clip((frequencies - start) / max(minimum_frequency - start, delta_f), 0.0, 1.0)
     window = 0.5 - 0.5 * np.cos(np.pi * window)  # lalsimulation's half-cosine between start and f_min
-    modes = {k: v * window for k, v in modes.items()}
+    modes = {k: _windowed(v, ramp, window) for k, v in modes.items()}
     if precessing:
         values = lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
             mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, reference_frequency, float(phase), float(inclination),
@@ -157,6 +161,12 @@ def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approxima
                        tail=tail, total_mass=total, luminosity_distance=luminosity_distance,
                        symmetric_mass_ratio=mass_1 * mass_2 / total ** 2, approximant=approximant,
                        aligned_spins=aligned and not precessing)
+
+
+def _windowed(values: np.ndarray, ramp: slice, window: np.ndarray) -> np.ndarray:
+    """``values`` (a fresh array, changed in place) times a window that is 1 outside ``ramp``."""
+    values[ramp] *= window
+    return values
 
 
 def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | None = None) -> ModeSeries:
@@ -175,20 +185,22 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     lead_n = min(int(np.ceil(spectra.lead / delta_t)), n_time - tail_n - 1)
     index = np.arange(-lead_n, tail_n + 1)
     keys = tuple(spectra.modes)
-    buffer = np.zeros((len(keys), n_time), dtype=complex)
+    width = spectra.modes[keys[0]][band].size  # every column is written when the band fills the buffer
+    buffer = (np.empty if width >= n_time else np.zeros)((len(keys), n_time), dtype=complex)
     for row, key in enumerate(keys):  # f = k delta_f at index k mod n_time; the k >= 0 part last (it wins at f = N)
         part = spectra.modes[key][band]
         buffer[row, n_time - keep:] = part[:keep]
         buffer[row, :part.size - keep] = part[keep:]
     series = np.fft.ifft(buffer, axis=1)  # row by row, as one transform each
-    series *= n_time * spectra.delta_f  # h(t) = sum_f h(f) e^{2 pi i f t} df
-    picked = series[:, index % n_time]
+    scale = n_time * spectra.delta_f  # h(t) = sum_f h(f) e^{2 pi i f t} df
+    key = (2, 2) if (2, 2) in keys else (2, -2)
+    if key in keys:  # the samples before the conditioned start hold only the transform's ringing: dropped
+        h = series[keys.index(key), index % n_time] * scale
+        index = index[int(np.argmax(np.abs(h) >= START_AMPLITUDE * np.abs(h).max())):]
+    picked = series[:, index % n_time]  # only the samples kept are gathered and scaled
+    picked *= scale
     modes = {key: picked[row] for row, key in enumerate(keys)}
     times = index * delta_t
-    key = (2, 2) if (2, 2) in modes else (2, -2)
-    if key in modes:  # the samples before the conditioned start hold only the transform's ringing: dropped
-        first = int(np.argmax(np.abs(modes[key]) >= START_AMPLITUDE * np.abs(modes[key]).max()))
-        times, modes = times[first:], {k: v[first:] for k, v in modes.items()}
     if start_frequency is not None and key in modes:
         h = modes[key]
         step = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * delta_t)
