@@ -233,7 +233,8 @@ def late_modes(native: ModeSeries, delta_t: float, start_frequency: float) -> Mo
         return None
     h, step = native.modes[key], native.delta_t
     frequency = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * step)
-    loud = np.abs(h[1:]) > 1e-3 * np.abs(h).max()
+    modulus = np.abs(h)
+    loud = modulus[1:] > 1e-3 * modulus.max()
     reached = np.nonzero(loud & (frequency >= start_frequency))[0]
     if not reached.size or reached[0] < 8 + RAMP_SAMPLES:
         return None
@@ -243,7 +244,11 @@ def late_modes(native: ModeSeries, delta_t: float, start_frequency: float) -> Mo
     if n < 4 * RAMP_SAMPLES:
         return None
     padded = int(round(n * step / delta_t))
-    spectrum = np.fft.fft(rows[:, :n] * _ramps(n), axis=1)
+    stretch = rows[:, :n]  # raised and lowered in place: the ramps of :func:`_ramps`, 1 between them
+    rise = _ramps(2 * RAMP_SAMPLES)
+    stretch[:, :RAMP_SAMPLES] *= rise[:RAMP_SAMPLES]
+    stretch[:, n - RAMP_SAMPLES:] *= rise[RAMP_SAMPLES:]
+    spectrum = np.fft.fft(stretch, axis=1)
     buffer = np.zeros((rows.shape[0], padded), dtype=complex)
     low = (n + 1) // 2  # non-negative frequencies first, then the negative ones (numpy's order)
     buffer[:, :low], buffer[:, padded - (n - low):] = spectrum[:, :low], spectrum[:, low:]
