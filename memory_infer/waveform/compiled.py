@@ -306,15 +306,13 @@ def pair_weights(harmonics, tables, real_weights, imaginary_weights):
     """``Q = sum_k harmonics[k] Q_k`` on the pairs: ``tables[k] = [Re Q_k pairs; Im Q_k pairs]`` ``(2, P)``."""
     count = tables.shape[0]
     pairs = tables.shape[2]
-    for p in range(pairs):
-        real = 0.0
-        imaginary = 0.0
-        for k in range(count):
-            y = harmonics[k]
-            real += y.real * tables[k, 0, p] - y.imag * tables[k, 1, p]
-            imaginary += y.real * tables[k, 1, p] + y.imag * tables[k, 0, p]
-        real_weights[p] = real
-        imaginary_weights[p] = imaginary
+    real_weights[:pairs] = 0.0
+    imaginary_weights[:pairs] = 0.0
+    for k in range(count):  # harmonic by harmonic along the tables' rows (each pair's sum in the order of k)
+        c, s = harmonics[k].real, harmonics[k].imag
+        for p in range(pairs):
+            real_weights[p] += c * tables[k, 0, p] - s * tables[k, 1, p]
+            imaginary_weights[p] += c * tables[k, 1, p] + s * tables[k, 0, p]
 
 
 @_compile
