@@ -33,6 +33,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+import scipy.fft
 
 from .lal_call import call, checked_binary, conditioning_bounds, lal_modules, quiet, walk, waveform_dictionary
 from .precessing_twist import twisted_modes
@@ -248,12 +249,18 @@ def late_modes(native: ModeSeries, delta_t: float, start_frequency: float) -> Mo
     rise = _ramps(2 * RAMP_SAMPLES)
     stretch[:, :RAMP_SAMPLES] *= rise[:RAMP_SAMPLES]
     stretch[:, n - RAMP_SAMPLES:] *= rise[RAMP_SAMPLES:]
-    spectrum = np.fft.fft(stretch, axis=1)
-    buffer = np.zeros((rows.shape[0], padded), dtype=complex)
-    low = (n + 1) // 2  # non-negative frequencies first, then the negative ones (numpy's order)
-    buffer[:, :low], buffer[:, padded - (n - low):] = spectrum[:, :low], spectrum[:, low:]
-    values = np.fft.ifft(buffer, axis=1)
-    values *= padded / n
+    # the ramped stretch, zero at both ends, is transformed zero-padded to a length with small prime factors (a
+    # length with a large prime factor costs pocketfft several times more); the finer samples past its end are
+    # dropped. With a whole factor between the steps only: the finer samples then fall on the same times.
+    factor = int(round(step / delta_t))
+    length = scipy.fft.next_fast_len(n) if abs(factor * delta_t - step) <= 1e-9 * step else n
+    total = padded if length == n else length * factor
+    spectrum = np.fft.fft(stretch, n=length, axis=1)
+    buffer = np.zeros((rows.shape[0], total), dtype=complex)
+    low = (length + 1) // 2  # non-negative frequencies first, then the negative ones (numpy's order)
+    buffer[:, :low], buffer[:, total - (length - low):] = spectrum[:, :low], spectrum[:, low:]
+    values = np.fft.ifft(buffer, axis=1)[:, :padded]
+    values *= total / length
     keys = [key] + [k for k in native.modes if k != key]  # the order of ``rows``
     modes = {k: values[keys.index(k)] for k in native.modes}
     times = native.times[first] + np.arange(padded) * (n * step / padded)
