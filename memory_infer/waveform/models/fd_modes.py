@@ -192,7 +192,8 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
         part = spectra.modes[key][band]
         buffer[row, n_time - keep:] = part[:keep]
         buffer[row, :part.size - keep] = part[keep:]
-    series = np.fft.ifft(buffer, axis=1)  # row by row, as one transform each
+    # row by row, as one transform each (scipy's pocketfft: numpy's numbers, a little faster, in place)
+    series = scipy.fft.ifft(buffer, axis=1, overwrite_x=True)
     scale = n_time * spectra.delta_f  # h(t) = sum_f h(f) e^{2 pi i f t} df
     key = (2, 2) if (2, 2) in keys else (2, -2)
     if key in keys:  # the samples before the conditioned start hold only the transform's ringing: dropped
@@ -255,11 +256,11 @@ def late_modes(native: ModeSeries, delta_t: float, start_frequency: float) -> Mo
     factor = int(round(step / delta_t))
     length = scipy.fft.next_fast_len(n) if abs(factor * delta_t - step) <= 1e-9 * step else n
     total = padded if length == n else length * factor
-    spectrum = np.fft.fft(stretch, n=length, axis=1)
+    spectrum = scipy.fft.fft(stretch, n=length, axis=1)
     buffer = np.zeros((rows.shape[0], total), dtype=complex)
     low = (length + 1) // 2  # non-negative frequencies first, then the negative ones (numpy's order)
     buffer[:, :low], buffer[:, total - (length - low):] = spectrum[:, :low], spectrum[:, low:]
-    values = np.fft.ifft(buffer, axis=1)[:, :padded]
+    values = scipy.fft.ifft(buffer, axis=1, overwrite_x=True)[:, :padded]
     values *= total / length
     keys = [key] + [k for k in native.modes if k != key]  # the order of ``rows``
     modes = {k: values[keys.index(k)] for k in native.modes}
