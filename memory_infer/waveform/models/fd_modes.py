@@ -164,6 +164,15 @@ def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approxima
                        aligned_spins=aligned and not precessing)
 
 
+def _columns(series: np.ndarray, low: int, high: int) -> np.ndarray:
+    """A copy of the columns ``low .. high - 1`` of ``series``, counted modulo its length (a circular buffer;
+    ``-len < low < high <= len``): one or two contiguous blocks, as ``series[:, np.arange(low, high) % len]``."""
+    n = series.shape[1]
+    if low >= 0 or high <= 0:
+        return series[:, low % n:(high - 1) % n + 1].copy()
+    return np.concatenate((series[:, n + low:], series[:, :high]), axis=1)
+
+
 def _windowed(values: np.ndarray, ramp: slice, window: np.ndarray) -> np.ndarray:
     """``values`` (a fresh array, changed in place) times a window that is 1 outside ``ramp``."""
     values[ramp] *= window
@@ -199,7 +208,7 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     if key in keys:  # the samples before the conditioned start hold only the transform's ringing: dropped
         h = series[keys.index(key), index % n_time] * scale
         index = index[int(np.argmax(np.abs(h) >= START_AMPLITUDE * np.abs(h).max())):]
-    picked = series[:, index % n_time]  # only the samples kept are gathered and scaled
+    picked = _columns(series, index[0], index[-1] + 1)  # only the samples kept are copied out and scaled
     picked *= scale
     modes = {key: picked[row] for row, key in enumerate(keys)}
     times = index * delta_t
