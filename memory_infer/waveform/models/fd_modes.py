@@ -108,11 +108,7 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
     mass_s = (mass_1 + mass_2) * SOLAR_MASS_SECONDS
     top = max(1.05 * CUTOFF / mass_s, float(maximum_frequency))  # every mode ends at the cutoff (checked in the tests)
     f_max = delta_f * 2 ** np.ceil(np.log2(top / delta_f))
-    params = waveform_dictionary(mode_list)
     phi_ref = float(phase) if precessing else 0.0
-    arguments = (mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2, delta_f, start, f_max,
-                 reference_frequency, phi_ref, luminosity_distance * MEGAPARSEC_METRES, float(inclination), params,
-                 lalsim.GetApproximantFromString(approximant))
     if precessing and not mode_list:  # the J-frame modes from one generation of the co-precessing modes
         with quiet():
             try:
@@ -125,6 +121,9 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
             return _conditioned(twisted, delta_f, start, minimum_frequency, lead, tail, approximant, mass_1, mass_2,
                                 luminosity_distance, reference_frequency, phase, inclination, spin_1, spin_2,
                                 precessing, aligned, mode_list)
+    arguments = (mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2, delta_f, start, f_max,
+                 reference_frequency, phi_ref, luminosity_distance * MEGAPARSEC_METRES, float(inclination),
+                 waveform_dictionary(mode_list), lalsim.GetApproximantFromString(approximant))
     linked = call(lalsim.SimInspiralChooseFDModes, arguments, approximant, mass_1, mass_2)
     modes = {key: np.array(series.data.data, dtype=complex) for key, series in walk(linked)}
     return _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approximant, mass_1, mass_2,
