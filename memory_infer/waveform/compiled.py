@@ -248,11 +248,27 @@ def strided_differences(modes, stride, last, out):
 def pair_sums(d, skip, first_rows, second_rows, real_weights, imaginary_weights):
     """The rate ``y^T Q y`` at the columns ``skip ..`` of the real rows ``d`` as a sum over the symmetric
     form's pairs ``a <= b`` (``weights[p]`` holds ``Q_ab + Q_ba``, or ``Q_aa``): (real, imaginary) parts. Loops over
-    pairs outside and samples inside, so the inner loop runs along memory."""
+    pairs outside and samples inside, so the inner loop runs along memory; four pairs at a time, so that each
+    sample's two sums are loaded and stored once per four pairs (added to in the same order, pair by pair: the
+    same numbers as one pair at a time)."""
     count = d.shape[1] - skip
     real = np.zeros(count)
     imaginary = np.zeros(count)
-    for p in range(first_rows.size):
+    pairs = first_rows.size
+    grouped = pairs - pairs % 4
+    for p in range(0, grouped, 4):
+        x0, y0 = d[first_rows[p], skip:], d[second_rows[p], skip:]
+        x1, y1 = d[first_rows[p + 1], skip:], d[second_rows[p + 1], skip:]
+        x2, y2 = d[first_rows[p + 2], skip:], d[second_rows[p + 2], skip:]
+        x3, y3 = d[first_rows[p + 3], skip:], d[second_rows[p + 3], skip:]
+        a0, a1, a2, a3 = real_weights[p], real_weights[p + 1], real_weights[p + 2], real_weights[p + 3]
+        b0, b1, b2, b3 = (imaginary_weights[p], imaginary_weights[p + 1], imaginary_weights[p + 2],
+                          imaginary_weights[p + 3])
+        for t in range(count):
+            z0, z1, z2, z3 = x0[t] * y0[t], x1[t] * y1[t], x2[t] * y2[t], x3[t] * y3[t]
+            real[t] = (((real[t] + a0 * z0) + a1 * z1) + a2 * z2) + a3 * z3
+            imaginary[t] = (((imaginary[t] + b0 * z0) + b1 * z1) + b2 * z2) + b3 * z3
+    for p in range(grouped, pairs):
         x = d[first_rows[p], skip:]
         y = d[second_rows[p], skip:]
         a = real_weights[p]
@@ -290,15 +306,13 @@ def pair_weights(harmonics, tables, real_weights, imaginary_weights):
     """``Q = sum_k harmonics[k] Q_k`` on the pairs: ``tables[k] = [Re Q_k pairs; Im Q_k pairs]`` ``(2, P)``."""
     count = tables.shape[0]
     pairs = tables.shape[2]
-    for p in range(pairs):
-        real = 0.0
-        imaginary = 0.0
-        for k in range(count):
-            y = harmonics[k]
-            real += y.real * tables[k, 0, p] - y.imag * tables[k, 1, p]
-            imaginary += y.real * tables[k, 1, p] + y.imag * tables[k, 0, p]
-        real_weights[p] = real
-        imaginary_weights[p] = imaginary
+    real_weights[:pairs] = 0.0
+    imaginary_weights[:pairs] = 0.0
+    for k in range(count):  # harmonic by harmonic along the tables' rows (each pair's sum in the order of k)
+        c, s = harmonics[k].real, harmonics[k].imag
+        for p in range(pairs):
+            real_weights[p] += c * tables[k, 0, p] - s * tables[k, 1, p]
+            imaginary_weights[p] += c * tables[k, 1, p] + s * tables[k, 0, p]
 
 
 @_compile

@@ -59,6 +59,33 @@ def test_pair_sums_equal_the_full_quadratic_form(modes):
     assert np.max(np.abs(cumulative - expected)) < 1e-12 * np.max(np.abs(expected))
 
 
+def test_pair_sums_and_weights_equal_a_pair_by_pair_numpy_loop_bit_for_bit():
+    # the compiled loops take four pairs per pass and the harmonics row by row; each sum keeps numpy's order of
+    # operations, so the numbers must be the same to the last bit (reference: the plain loop, no source)
+    rng = np.random.default_rng(7)
+    d = rng.normal(size=(10, 300))
+    first, second = np.triu_indices(10)
+    first, second = first[:50].astype(np.int64), second[:50].astype(np.int64)  # two left after groups of four
+    harmonics = rng.normal(size=7) + 1j * rng.normal(size=7)
+    tables = rng.normal(size=(7, 2, 50))
+    real_weights, imaginary_weights = np.empty(50), np.empty(50)
+    compiled.pair_weights(harmonics, tables, real_weights, imaginary_weights)
+    expected_real, expected_imaginary = np.zeros(50), np.zeros(50)
+    for k in range(7):
+        c, s = harmonics[k].real, harmonics[k].imag
+        expected_real += c * tables[k, 0] - s * tables[k, 1]
+        expected_imaginary += c * tables[k, 1] + s * tables[k, 0]
+    assert np.array_equal(real_weights, expected_real) and np.array_equal(imaginary_weights, expected_imaginary)
+    for skip in (0, 3):
+        real, imaginary = compiled.pair_sums(d, skip, first, second, real_weights, imaginary_weights)
+        loop_real, loop_imaginary = np.zeros(300 - skip), np.zeros(300 - skip)
+        for p in range(50):
+            z = d[first[p], skip:] * d[second[p], skip:]
+            loop_real += real_weights[p] * z
+            loop_imaginary += imaginary_weights[p] * z
+        assert np.array_equal(real, loop_real) and np.array_equal(imaginary, loop_imaginary)
+
+
 def numpy_continued_phases(modes, orders):  # the numpy steps the compiled loop replaced
     wrapped = np.angle(modes[:, 1:] * np.conj(modes[:, :-1]))
     change = np.diff(wrapped[0])

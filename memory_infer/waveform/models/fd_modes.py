@@ -33,6 +33,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+import scipy.fft
 
 from .lal_call import call, checked_binary, conditioning_bounds, lal_modules, quiet, walk, waveform_dictionary
 from .precessing_twist import twisted_modes
@@ -107,11 +108,7 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
     mass_s = (mass_1 + mass_2) * SOLAR_MASS_SECONDS
     top = max(1.05 * CUTOFF / mass_s, float(maximum_frequency))  # every mode ends at the cutoff (checked in the tests)
     f_max = delta_f * 2 ** np.ceil(np.log2(top / delta_f))
-    params = waveform_dictionary(mode_list)
     phi_ref = float(phase) if precessing else 0.0
-    arguments = (mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2, delta_f, start, f_max,
-                 reference_frequency, phi_ref, luminosity_distance * MEGAPARSEC_METRES, float(inclination), params,
-                 lalsim.GetApproximantFromString(approximant))
     if precessing and not mode_list:  # the J-frame modes from one generation of the co-precessing modes
         with quiet():
             try:
@@ -124,6 +121,9 @@ def mode_spectra(approximant, mass_1, mass_2, luminosity_distance, minimum_frequ
             return _conditioned(twisted, delta_f, start, minimum_frequency, lead, tail, approximant, mass_1, mass_2,
                                 luminosity_distance, reference_frequency, phase, inclination, spin_1, spin_2,
                                 precessing, aligned, mode_list)
+    arguments = (mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, *spin_1, *spin_2, delta_f, start, f_max,
+                 reference_frequency, phi_ref, luminosity_distance * MEGAPARSEC_METRES, float(inclination),
+                 waveform_dictionary(mode_list), lalsim.GetApproximantFromString(approximant))
     linked = call(lalsim.SimInspiralChooseFDModes, arguments, approximant, mass_1, mass_2)
     modes = {key: np.array(series.data.data, dtype=complex) for key, series in walk(linked)}
     return _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approximant, mass_1, mass_2,
@@ -140,10 +140,14 @@ def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approxima
     if mode_list:
         modes = {k: v for k, v in modes.items() if k in {tuple(x) for x in mode_list}}
     size = next(iter(modes.values())).size
-    frequencies = np.abs((np.arange(size) - size // 2) * delta_f)
+    half = size // 2
+    # the window is 1 from the minimum frequency on: only |f| < f_min (the ramp and below it) is multiplied
+    reach = min(half, int(np.ceil(minimum_frequency / delta_f)))
+    ramp = slice(half - reach, half + reach + 1)
+    frequencies = np.abs((np.arange(ramp.start, ramp.stop) - half) * delta_f)
     window = np.clip((frequencies - start) / max(minimum_frequency - start, delta_f), 0.0, 1.0)
     window = 0.5 - 0.5 * np.cos(np.pi * window)  # lalsimulation's half-cosine between start and f_min
-    modes = {k: v * window for k, v in modes.items()}
+    modes = {k: _windowed(v, ramp, window) for k, v in modes.items()}
     if precessing:
         values = lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
             mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, reference_frequency, float(phase), float(inclination),
@@ -157,6 +161,21 @@ def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approxima
                        tail=tail, total_mass=total, luminosity_distance=luminosity_distance,
                        symmetric_mass_ratio=mass_1 * mass_2 / total ** 2, approximant=approximant,
                        aligned_spins=aligned and not precessing)
+
+
+def _columns(series: np.ndarray, low: int, high: int) -> np.ndarray:
+    """A copy of the columns ``low .. high - 1`` of ``series``, counted modulo its length (a circular buffer;
+    ``-len < low < high <= len``): one or two contiguous blocks, as ``series[:, np.arange(low, high) % len]``."""
+    n = series.shape[1]
+    if low >= 0 or high <= 0:
+        return series[:, low % n:(high - 1) % n + 1].copy()
+    return np.concatenate((series[:, n + low:], series[:, :high]), axis=1)
+
+
+def _windowed(values: np.ndarray, ramp: slice, window: np.ndarray) -> np.ndarray:
+    """``values`` (a fresh array, changed in place) times a window that is 1 outside ``ramp``."""
+    values[ramp] *= window
+    return values
 
 
 def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | None = None) -> ModeSeries:
@@ -175,20 +194,23 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     lead_n = min(int(np.ceil(spectra.lead / delta_t)), n_time - tail_n - 1)
     index = np.arange(-lead_n, tail_n + 1)
     keys = tuple(spectra.modes)
-    buffer = np.zeros((len(keys), n_time), dtype=complex)
+    width = spectra.modes[keys[0]][band].size  # every column is written when the band fills the buffer
+    buffer = (np.empty if width >= n_time else np.zeros)((len(keys), n_time), dtype=complex)
     for row, key in enumerate(keys):  # f = k delta_f at index k mod n_time; the k >= 0 part last (it wins at f = N)
         part = spectra.modes[key][band]
         buffer[row, n_time - keep:] = part[:keep]
         buffer[row, :part.size - keep] = part[keep:]
-    series = np.fft.ifft(buffer, axis=1)  # row by row, as one transform each
-    series *= n_time * spectra.delta_f  # h(t) = sum_f h(f) e^{2 pi i f t} df
-    picked = series[:, index % n_time]
+    # row by row, as one transform each (scipy's pocketfft: numpy's numbers, a little faster, in place)
+    series = scipy.fft.ifft(buffer, axis=1, overwrite_x=True)
+    scale = n_time * spectra.delta_f  # h(t) = sum_f h(f) e^{2 pi i f t} df
+    key = (2, 2) if (2, 2) in keys else (2, -2)
+    if key in keys:  # the samples before the conditioned start hold only the transform's ringing: dropped
+        h = series[keys.index(key), index % n_time] * scale
+        index = index[int(np.argmax(np.abs(h) >= START_AMPLITUDE * np.abs(h).max())):]
+    picked = _columns(series, index[0], index[-1] + 1)  # only the samples kept are copied out and scaled
+    picked *= scale
     modes = {key: picked[row] for row, key in enumerate(keys)}
     times = index * delta_t
-    key = (2, 2) if (2, 2) in modes else (2, -2)
-    if key in modes:  # the samples before the conditioned start hold only the transform's ringing: dropped
-        first = int(np.argmax(np.abs(modes[key]) >= START_AMPLITUDE * np.abs(modes[key]).max()))
-        times, modes = times[first:], {k: v[first:] for k, v in modes.items()}
     if start_frequency is not None and key in modes:
         h = modes[key]
         step = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * delta_t)
@@ -221,7 +243,8 @@ def late_modes(native: ModeSeries, delta_t: float, start_frequency: float) -> Mo
         return None
     h, step = native.modes[key], native.delta_t
     frequency = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * step)
-    loud = np.abs(h[1:]) > 1e-3 * np.abs(h).max()
+    modulus = np.abs(h)
+    loud = modulus[1:] > 1e-3 * modulus.max()
     reached = np.nonzero(loud & (frequency >= start_frequency))[0]
     if not reached.size or reached[0] < 8 + RAMP_SAMPLES:
         return None
@@ -231,12 +254,22 @@ def late_modes(native: ModeSeries, delta_t: float, start_frequency: float) -> Mo
     if n < 4 * RAMP_SAMPLES:
         return None
     padded = int(round(n * step / delta_t))
-    spectrum = np.fft.fft(rows[:, :n] * _ramps(n), axis=1)
-    buffer = np.zeros((rows.shape[0], padded), dtype=complex)
-    low = (n + 1) // 2  # non-negative frequencies first, then the negative ones (numpy's order)
-    buffer[:, :low], buffer[:, padded - (n - low):] = spectrum[:, :low], spectrum[:, low:]
-    values = np.fft.ifft(buffer, axis=1)
-    values *= padded / n
+    stretch = rows[:, :n]  # raised and lowered in place: the ramps of :func:`_ramps`, 1 between them
+    rise = _ramps(2 * RAMP_SAMPLES)
+    stretch[:, :RAMP_SAMPLES] *= rise[:RAMP_SAMPLES]
+    stretch[:, n - RAMP_SAMPLES:] *= rise[RAMP_SAMPLES:]
+    # the ramped stretch, zero at both ends, is transformed zero-padded to a length with small prime factors (a
+    # length with a large prime factor costs pocketfft several times more); the finer samples past its end are
+    # dropped. With a whole factor between the steps only: the finer samples then fall on the same times.
+    factor = int(round(step / delta_t))
+    length = scipy.fft.next_fast_len(n) if abs(factor * delta_t - step) <= 1e-9 * step else n
+    total = padded if length == n else length * factor
+    spectrum = scipy.fft.fft(stretch, n=length, axis=1)
+    buffer = np.zeros((rows.shape[0], total), dtype=complex)
+    low = (length + 1) // 2  # non-negative frequencies first, then the negative ones (numpy's order)
+    buffer[:, :low], buffer[:, total - (length - low):] = spectrum[:, :low], spectrum[:, low:]
+    values = scipy.fft.ifft(buffer, axis=1, overwrite_x=True)[:, :padded]
+    values *= total / length
     keys = [key] + [k for k in native.modes if k != key]  # the order of ``rows``
     modes = {k: values[keys.index(k)] for k in native.modes}
     times = native.times[first] + np.arange(padded) * (n * step / padded)

@@ -70,10 +70,12 @@ def dominant_phase_step(series: ModeSeries) -> np.ndarray:
     for key in keys:
         h = series.modes[key]
         steps.append(np.abs(np.angle(h[1:] * np.conj(h[:-1]))))
-        amplitudes.append(np.minimum(np.abs(h[1:]), np.abs(h[:-1])))
-    choice = np.argmax(amplitudes, axis=0)
-    step = np.take_along_axis(np.array(steps), choice[None], 0)[0]
-    amplitude = np.take_along_axis(np.array(amplitudes), choice[None], 0)[0]
+        modulus = np.abs(h)
+        amplitudes.append(np.minimum(modulus[1:], modulus[:-1]))
+    step, amplitude = steps[0], amplitudes[0]
+    if len(keys) == 2:  # the louder of the two at each sample, the first on a tie
+        second = amplitudes[1] > amplitude
+        step, amplitude = np.where(second, steps[1], step), np.where(second, amplitudes[1], amplitude)
     return np.where(amplitude > QUIET_AMPLITUDE * amplitude.max(), step, 0.0)
 
 

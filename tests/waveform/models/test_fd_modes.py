@@ -5,8 +5,8 @@ import pytest
 
 from memory_infer.common.errors import WaveformError
 from memory_infer.waveform.models import generate_modes, takes_precessing_spins
-from memory_infer.waveform.models.fd_modes import (RAMP_SAMPLES, band_step, late_modes, mode_spectra, polarizations,
-                                                   time_modes)
+from memory_infer.waveform.models.fd_modes import (RAMP_SAMPLES, _columns, band_step, late_modes, mode_spectra,
+                                                   polarizations, time_modes)
 from memory_infer.waveform.source import observer_angles
 
 CASES = [("IMRPhenomXHM", (0, 0, 0.3), (0, 0, -0.2)), ("IMRPhenomXPHM", (0.4, 0.1, 0.3), (0.1, -0.3, -0.2))]
@@ -47,6 +47,14 @@ def test_mode_sum_reproduces_lalsimulation_polarizations(approximant, spin_1, sp
     if approximant == "IMRPhenomXPHM":
         plus, _ = lalsimulation_polarizations(approximant, spin_1, spin_2, spectra.delta_f, f_max, inclination, phase)
         assert np.max(np.abs(ours["plus"][band] - plus[band])) < 1e-3 * scale  # measured 7e-5
+
+
+def test_columns_of_the_circular_transform_equal_the_gather_by_index():
+    # the kept samples are copied out as one or two blocks; reference: numpy's gather modulo the length (no source)
+    series = np.arange(3 * 16).reshape(3, 16) * (1 + 1j)
+    for low in range(-15, 16):
+        for high in range(low + 1, min(low + 16, 16) + 1):
+            assert np.array_equal(_columns(series, low, high), series[:, np.arange(low, high) % 16])
 
 
 def test_spectra_end_at_the_model_cutoff_and_time_modes_keep_the_convention():
