@@ -1,7 +1,7 @@
 """Typed settings: each section of a run's configuration as a frozen dataclass, built once from the checked TOML
 mapping (:mod:`.config` checks it key by key). Every default of a setting is defined here, once, except the
 waveform stage's own: the approximant, band edge and reference frequency come from :mod:`memory_infer.waveform.models`,
-and ``ModelSettings.memory_taper`` repeats ``waveform.source.DEFAULT_TAPER_DURATION`` (a test compares them). Not
+and ``ModelSettings.memory_taper`` repeats ``waveform.options.DEFAULT_TAPER_DURATION`` (a test compares them). Not
 settings, and defined where they are used: the source parameters fixed at zero when absent
 (``inputs.checks.ZERO_DEFAULTS``) and a catalog run's own methods (``inputs.release_list.BUILT_IN_DEFAULTS``).
 The code below the inputs stage takes these objects, never the mapping. A changed value is a new object
