@@ -289,7 +289,7 @@ def main(argv=None):
     rows.append(("reweighting per sample / bilby IMRPhenomTHM likelihood", ratio, 1.4, "lower",
                  f"bilby THM {anchor * 1e3:.2f} ms", "same samples, interleaved"))
     ratio, note = reweighting_vs_bilby("IMRPhenomXPHM", dict(tilt_1=0.6, tilt_2=1.9, phi_12=0.8))
-    rows.append(("reweighting per sample / bilby IMRPhenomXPHM likelihood", ratio, 1.4, "lower", "bilby XPHM, same run",
+    rows.append(("reweighting per sample / bilby IMRPhenomXPHM likelihood", ratio, 1.5, "lower", "bilby XPHM, same run",
                  note))
     from memory_infer.waveform.models import pyseobnr_modes
 
