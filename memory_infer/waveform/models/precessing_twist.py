@@ -29,12 +29,15 @@ import numpy as np
 
 from ...common.compiled import compiled
 from ..sphere import wigner_d, wigner_terms  # noqa: F401 (wigner_d: for its tests)
+from .checked_interpolation import checked_interpolation
 from .lal_call import lal_modules
 
 COPRECESSING = ((2, 1), (2, 2), (3, 2), (3, 3), (4, 4))  # (l, m') of the model's co-precessing modes
 M_PRIMES = (1, 2, 3, 4)  # the angles' m' (their rows in :func:`twist_into`)
 MSA_VERSIONS = (220, 221, 222, 223, 224)
 QUIET = 1e-7  # the twist's end: a co-precessing mode's last value above this fraction of the loudest mode's peak
+ANGLE_TOLERANCE = 1e-8  # the angles in use: interpolated between calls where a check holds them within this (rad)
+ANGLE_STEP = 0.01  # the interpolation's nodes: this far apart in ln f (about 1% in frequency)
 CHECK_TOLERANCE = 1e-2  # the single-mode check: lalsimulation's own mode on a few frequencies (not multibanded)
 
 
@@ -148,12 +151,14 @@ def twist_into(coprecessing, ends, alpha, gamma, cos_beta, turn, first, centre, 
                 out[row, base1 - t] += d1[t] * z
 
 
-def msa_angles(lo, ends, delta_f, m1, m2, spins, inclination, reference_frequency):
+def msa_angles(lo, ends, delta_f, m1, m2, spins, inclination, reference_frequency, tolerance=0.0):
     """(alpha, gamma, cos beta) of every m' (rows in ``M_PRIMES`` order) on ``f = k delta_f``, ``lo <= k < lo +
     ends[row]`` (zero beyond), from one call of ``SimIMRPhenomXPMSAAngles``: mode ``m'``'s angles at ``f`` are the
     m' = 2 angles at ``2 f / m'`` (the function uses m' only to take the orbital frequency ``2 f / m'`` of its
     argument), so one call on the union of the ``2 f / m'``, multiples of ``delta_f / 6``, serves all four (the
-    same arguments to the last bit for m' = 1, 2, 4; for m' = 3 ``2 f / 3`` is rounded once instead of ``2 / 3``)."""
+    same arguments to the last bit for m' = 1, 2, 4; for m' = 3 ``2 f / 3`` is rounded once instead of ``2 / 3``).
+    ``tolerance`` > 0 (rad, and for cos beta): the call is made at nodes ``ANGLE_STEP`` apart in ln f and the angles
+    between them interpolated where that is checked to hold within it (:mod:`.checked_interpolation`)."""
     lal, lalsim = lal_modules()
     ks = [np.arange(lo, lo + end, dtype=np.int64) for end in ends]
     sixths = np.concatenate([(12 // mp) * k for mp, k in zip(M_PRIMES, ks)])  # 2 f / m' in units of delta_f / 6
@@ -161,23 +166,29 @@ def msa_angles(lo, ends, delta_f, m1, m2, spins, inclination, reference_frequenc
     used[sixths] = True
     union = np.flatnonzero(used)  # ascending, each once
     where = (np.cumsum(used) - 1)[sixths]
-    arguments = lal.CreateREAL8Vector(union.size)
-    arguments.data[:] = union * delta_f / 6
-    values = lalsim.SimIMRPhenomXPMSAAngles(arguments, m1, m2, *spins, inclination, reference_frequency, 2, None)
+    frequencies = union * delta_f / 6
+
+    def evaluate(indices):
+        arguments = lal.CreateREAL8Vector(indices.size)
+        arguments.data[:] = frequencies[indices]
+        values = lalsim.SimIMRPhenomXPMSAAngles(arguments, m1, m2, *spins, inclination, reference_frequency, 2, None)
+        return np.array([value.data for value in values])
+
+    values = checked_interpolation(np.log(frequencies), evaluate, 3, ANGLE_STEP, tolerance)
     angles = np.zeros((3, len(M_PRIMES), max(ends)))
     offsets = np.cumsum([0, *ends])
     for row, end in enumerate(ends):
-        for angle, value in zip(angles, values):
-            angle[row, :end] = value.data[where[offsets[row]:offsets[row + 1]]]
+        angles[:, row, :end] = values[:, where[offsets[row]:offsets[row + 1]]]
     return angles
 
 
 def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, reference_frequency, phase, inclination,
-                  distance_m, size, quiet: float = QUIET) -> dict | None:
+                  distance_m, size, quiet: float = QUIET, angle_tolerance: float = ANGLE_TOLERANCE) -> dict | None:
     """J-frame modes ``(l, m) -> h_lm`` on ``f = (k - N) delta_f`` (``2 N + 1 = size`` samples, as
     ``SimInspiralChooseFDModes``), masses in solar masses, distance in metres; None if not applicable
     (module docstring). Each co-precessing mode is twisted up to its last value above ``quiet`` times the loudest
-    mode's peak (0: to its last nonzero value, lalsimulation's modes to rounding)."""
+    mode's peak (0: to its last nonzero value, lalsimulation's modes to rounding), with the angles interpolated
+    within ``angle_tolerance`` (0: every angle from lalsimulation, :func:`msa_angles`)."""
     if default_precession_version() not in MSA_VERSIONS:
         return None
     lal, lalsim = lal_modules()
@@ -212,7 +223,8 @@ def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, referen
         m1, m2, reference_frequency, phase, inclination, *spins, lal.CreateDict())[4]
         - lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
         m1, m2, reference_frequency, 0.0, inclination, *spins, lal.CreateDict())[4])
-    alpha, gamma, cos_beta = msa_angles(lo, angle_ends, delta_f, m1, m2, spins, inclination, reference_frequency)
+    alpha, gamma, cos_beta = msa_angles(lo, angle_ends, delta_f, m1, m2, spins, inclination, reference_frequency,
+                                        angle_tolerance)
     if not (np.isfinite(alpha).all() and np.isfinite(gamma).all() and np.isfinite(cos_beta).all()):
         return None  # finite inputs give finite modes (bounded factors)
     keys, terms = twist_terms()
