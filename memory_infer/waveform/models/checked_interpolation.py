@@ -50,55 +50,71 @@ def cubic_fill(x, values, node, interval, check, threshold, out_bad):
     check misses by more than ``threshold``; ``out_bad[i]`` marks the abscissae left to evaluate exactly."""
     n = x.size
     where = np.flatnonzero(node)
-    count = where.size
-    bad_interval = np.zeros(max(count - 1, 1), dtype=np.bool_)
-    estimate = np.empty(values.shape[0])
-    for i in range(n):  # the checks first
-        if check[i]:
+    bad_interval = np.zeros(max(where.size - 1, 1), dtype=np.bool_)
+    components = values.shape[0]
+    estimate = np.empty(components)
+    scaled = np.empty((components, 4))  # the interval's node values over their Lagrange denominators
+    stencil = np.empty(4)
+    for rest in range(2):  # the checks first, then the rest
+        current = -1
+        for i in range(n):
+            if node[i] or check[i] != (rest == 0):
+                continue
             k = interval[i]
-            _cubic(x, values, where, k, x[i], estimate)
-            for c in range(values.shape[0]):
-                if not abs(estimate[c] - values[c, i]) <= threshold:  # nan fails too
-                    bad_interval[k] = True
-    for i in range(n):
-        if node[i] or check[i]:
-            continue
-        k = interval[i]
-        if bad_interval[k]:
-            out_bad[i] = True
-        else:
-            _cubic(x, values, where, k, x[i], estimate)
-            for c in range(values.shape[0]):
-                values[c, i] = estimate[c]
+            if rest == 1 and bad_interval[k]:
+                out_bad[i] = True
+                continue
+            if k != current:
+                current = k
+                _stencil(x, values, where, k, stencil, scaled)
+            _cubic(x[i], stencil, scaled, estimate)
+            if rest == 0:
+                for c in range(components):
+                    if not abs(estimate[c] - values[c, i]) <= threshold:  # nan fails too
+                        bad_interval[k] = True
+            else:
+                for c in range(components):
+                    values[c, i] = estimate[c]
 
 
 @compiled
-def _cubic(x, values, where, k, at, result):
-    """``result`` = the cubic through the four nodes around interval ``k`` (clipped at the ends), at ``at``."""
-    count = where.size
-    first = min(max(k - 1, 0), max(count - 4, 0))
-    last = min(first + 4, count)
-    result[:] = 0.0
-    for a in range(first, last):
-        weight = 1.0
-        xa = x[where[a]]
-        for b in range(first, last):
+def _stencil(x, values, where, k, stencil, scaled):
+    """The four nodes around interval ``k`` (clipped at the ends) into ``stencil``, their values over the Lagrange
+    denominators ``prod_{b != a} (x_a - x_b)`` into ``scaled``."""
+    first = min(max(k - 1, 0), where.size - 4)
+    for a in range(4):
+        stencil[a] = x[where[first + a]]
+    for a in range(4):
+        denominator = 1.0
+        for b in range(4):
             if b != a:
-                xb = x[where[b]]
-                weight *= (at - xb) / (xa - xb)
+                denominator *= stencil[a] - stencil[b]
         for c in range(values.shape[0]):
-            result[c] += weight * values[c, where[a]]
+            scaled[c, a] = values[c, where[first + a]] / denominator
+
+
+@compiled
+def _cubic(at, stencil, scaled, result):
+    """``result`` = the cubic through the stencil's nodes at ``at`` (Lagrange's form)."""
+    d0, d1, d2, d3 = at - stencil[0], at - stencil[1], at - stencil[2], at - stencil[3]
+    w0, w1, w2, w3 = d1 * d2 * d3, d0 * d2 * d3, d0 * d1 * d3, d0 * d1 * d2
+    for c in range(result.size):
+        result[c] = scaled[c, 0] * w0 + scaled[c, 1] * w1 + scaled[c, 2] * w2 + scaled[c, 3] * w3
 
 
 def checked_interpolation(x: np.ndarray, evaluate, components: int, step: float, tolerance: float) -> np.ndarray:
     """``evaluate(indices) -> (components, len(indices))`` exact values at ``x[indices]`` (ascending ``x``); the
-    values at every ``x`` (see the module docstring). ``tolerance = 0`` evaluates everything exactly."""
+    values at every ``x`` (see the module docstring). ``tolerance = 0``, fewer than 8 abscissae or fewer than four
+    nodes evaluate everything exactly."""
     n = x.size
     values = np.empty((components, n))
     if tolerance <= 0 or n < 8:
         values[:] = evaluate(np.arange(n))
         return values
     node, check, interval = nodes_and_checks(x, step)
+    if np.count_nonzero(node) < 4:  # too few nodes for a cubic
+        values[:] = evaluate(np.arange(n))
+        return values
     first = np.flatnonzero(node | check)
     values[:, first] = evaluate(first)
     bad = np.zeros(n, dtype=bool)

@@ -51,121 +51,177 @@ def default_precession_version() -> int:
 
 @lru_cache(maxsize=1)
 def twist_terms():
-    """(J-frame keys in lalsimulation's order, tables of :func:`twist_into`): one group per J-frame mode,
-    co-precessing mode and side (``d^l_{m,-m'}`` at positive frequencies, then ``(-1)^l d^l_{m,m'}`` at negative
-    ones: groups in pairs), each group the terms ``coefficient cos(beta/2)^p sin(beta/2)^q`` of its small d."""
+    """(J-frame keys in lalsimulation's order, tables of :func:`twist_into`): one group per l, m >= 0 and
+    co-precessing mode m' of that l, with the terms ``coefficient cos(beta/2)^p sin(beta/2)^q`` of ``d^l_{m,-m'}``
+    and then of ``d^l_{m,m'}``. The J-frame modes (l, m) and (l, -m) are both written from them: at positive
+    frequencies ``d^l_{m,-m'}`` and ``d^l_{-m,-m'} = (-1)^(m-m') d^l_{m,m'}``, at negative ones ``(-1)^l d^l_{m,m'}``
+    and ``(-1)^l d^l_{-m,m'} = (-1)^(l+m+m') d^l_{m,-m'}`` (the small d's symmetry ``d^l_{-a,-b} = (-1)^(a-b)
+    d^l_{ab}``)."""
     keys = tuple((l, m) for l in (4, 3, 2) for m in range(l, -l - 1, -1))  # l, then m, descending
-    rows, sources, sides, orders, starts = [], [], [], [], [0]
+    plus_rows, minus_rows, sources, orders, starts, signs = [], [], [], [], [0], []
     coefficients, cos_orders, sin_orders = [], [], []
-    for row, (l, m) in enumerate(keys):
+    for l, m in keys:
+        if m < 0:
+            continue
         for j, (ll, mp) in enumerate(COPRECESSING):
             if ll != l:
                 continue
-            for side, b, sign in ((0, -mp, 1), (1, mp, (-1) ** l)):
-                rows.append(row), sources.append(j), sides.append(side), orders.append(m + 4)
+            plus_rows.append(keys.index((l, m))), minus_rows.append(keys.index((l, -m)))
+            sources.append(j), orders.append(m)
+            signs.append(((-1) ** l, (-1) ** (m - mp), (-1) ** (l + m + mp)))
+            for b in (-mp, mp):
                 for coefficient, p, q in wigner_terms(l, m, b):
-                    coefficients.append(sign * coefficient), cos_orders.append(p), sin_orders.append(q)
+                    coefficients.append(coefficient), cos_orders.append(p), sin_orders.append(q)
                 starts.append(len(coefficients))
-    as_int = [np.array(x, dtype=np.int64) for x in (rows, sources, sides, orders, starts, cos_orders, sin_orders)]
+    as_int = [np.array(x, dtype=np.int64) for x in (plus_rows, minus_rows, sources, orders, starts, cos_orders,
+                                                    sin_orders)]
     angle_rows = np.array([M_PRIMES.index(mp) for _, mp in COPRECESSING], dtype=np.int64)
-    terms = (angle_rows, *as_int[:5], np.array(coefficients), *as_int[5:])
+    terms = (angle_rows, *as_int[:5], np.array(signs, dtype=float), np.array(coefficients), *as_int[5:])
     for array in terms:
         array.flags.writeable = False
     return keys, terms
 
 
 @compiled
-def twist_into(coprecessing, ends, alpha, gamma, cos_beta, turn, first, centre, angle_rows, rows, sources, sides,
-               orders, starts, coefficients, cos_orders, sin_orders, out):
-    """``out[row, centre + first + t] += d e^{-i m (alpha + turn)} x`` and ``out[row, centre - first - t] += d'
-    e^{-i m (alpha + turn)} conj(x)`` over the pairs of groups (``d``, ``d'`` their small d of ``beta``), with
-    ``x = e^{i m' gamma} h'_{l,-m'}`` (``coprecessing[j, t]``), the angles of ``m'`` on row ``angle_rows[j] = m' - 1``.
-    Source ``j`` is taken for ``t < ends[j]`` only (zero beyond). Each stage runs along the frequencies (contiguous
-    rows; the output's rows are far apart in memory)."""
-    n_angles, n = alpha.shape
+def _small_d(cos_powers, sin_powers, a, lo, hi, coefficients, cos_orders, sin_orders, end, out):
+    """``out[:end] = sum_e coefficients[e] cos_powers[a, p_e] sin_powers[a, q_e]`` over the terms ``lo .. hi - 1``."""
+    out[:end] = 0.0
+    for e in range(lo, hi):
+        coefficient = coefficients[e]
+        cp = cos_powers[a, cos_orders[e]]
+        sp = sin_powers[a, sin_orders[e]]
+        for t in range(end):
+            out[t] += coefficient * cp[t] * sp[t]
+
+
+@compiled
+def twist_into(coprecessing, ends, angles, where, offsets, angle_ends, turn, first, centre, angle_rows, plus_rows,
+               minus_rows, sources, orders, starts, signs, coefficients, cos_orders, sin_orders, out):
+    """For each group of :func:`twist_terms` (l, m >= 0, m'), with ``d_a = d^l_{m,-m'}``, ``d_b = d^l_{m,m'}`` of
+    ``beta``, ``e = e^{-i m (alpha + turn)}`` and ``x = e^{i m' gamma} h'_{l,-m'}`` (``coprecessing[j, t]``, the
+    angles of ``m'`` on row ``angle_rows[j] = m' - 1``): ``out[(l, m), centre + first + t] += d_a e x``,
+    ``out[(l, m), centre - first - t] += (-1)^l d_b e conj(x)``, and for m > 0 ``out[(l, -m), centre + first + t]
+    += (-1)^(m-m') d_b conj(e) x``, ``out[(l, -m), centre - first - t] += (-1)^(l+m+m') d_a conj(e) conj(x)``.
+    The angles are ``angles[:, where[offsets[row] + t]]`` (:func:`msa_angle_union`; the sines and cosines are taken
+    once per union point, the powers ``e^{-i m alpha}``, ``e^{i m' gamma}`` by multiplication). Source ``j`` is taken
+    for ``t < ends[j]`` only (zero beyond). Each stage runs along the frequencies (contiguous rows; the output's rows
+    are far apart in memory)."""
+    n_angles = angle_ends.size
+    n = angle_ends.max()
     n_sources = coprecessing.shape[0]
-    angle_ends = np.zeros(n_angles, dtype=np.int64)
-    for j in range(n_sources):
-        angle_ends[angle_rows[j]] = max(angle_ends[angle_rows[j]], ends[j])
+    count = angles.shape[1]
+    half_cos = np.empty(count)
+    half_sin = np.empty(count)
+    spins = np.empty(count, dtype=np.complex128)  # e^{-i (alpha + turn)}
+    twists = np.empty(count, dtype=np.complex128)  # e^{i gamma}
+    for u in range(count):
+        cosine = min(max(angles[2, u], -1.0), 1.0)
+        half_cos[u] = np.sqrt(0.5 * (1.0 + cosine))
+        half_sin[u] = np.sqrt(0.5 * (1.0 - cosine))
+        angle = angles[0, u] + turn
+        spins[u] = complex(np.cos(angle), -np.sin(angle))
+        twists[u] = complex(np.cos(angles[1, u]), np.sin(angles[1, u]))
     cos_powers = np.empty((n_angles, 9, n))
     sin_powers = np.empty((n_angles, 9, n))
     turns = np.empty((n_angles, 5, n), dtype=np.complex128)  # m = 0..4; negative m by conjugation
     turned = np.empty((n_sources, n), dtype=np.complex128)
     for a in range(n_angles):
         for t in range(angle_ends[a]):
-            cosine = min(max(cos_beta[a, t], -1.0), 1.0)
-            c = np.sqrt(0.5 * (1.0 + cosine))
-            s = np.sqrt(0.5 * (1.0 - cosine))
+            u = where[offsets[a] + t]
+            c = half_cos[u]
+            s = half_sin[u]
             cos_powers[a, 0, t] = 1.0
             sin_powers[a, 0, t] = 1.0
             for p in range(1, 9):
                 cos_powers[a, p, t] = cos_powers[a, p - 1, t] * c
                 sin_powers[a, p, t] = sin_powers[a, p - 1, t] * s
-            angle = alpha[a, t] + turn
-            spin = complex(np.cos(angle), -np.sin(angle))
+            spin = spins[u]
             turns[a, 0, t] = 1.0
             for m in range(1, 5):
                 turns[a, m, t] = turns[a, m - 1, t] * spin
     for j in range(n_sources):
         a = angle_rows[j]
         for t in range(ends[j]):
-            angle = (a + 1) * gamma[a, t]
-            turned[j, t] = complex(np.cos(angle), np.sin(angle)) * coprecessing[j, t]
-    d0 = np.empty(n)
-    d1 = np.empty(n)
-    for g in range(0, rows.size, 2):  # groups in pairs: side 0 then side 1 of the same row and source
+            z = twists[where[offsets[a] + t]]
+            power = z
+            for _ in range(a):  # e^{i m' gamma}, m' = a + 1
+                power = power * z
+            turned[j, t] = power * coprecessing[j, t]
+    d_a = np.empty(n)
+    d_b = np.empty(n)
+    base0 = centre + first
+    base1 = centre - first
+    for g in range(sources.size):
         j = sources[g]
         a = angle_rows[j]
         end = ends[j]
-        d0[:end] = 0.0
-        d1[:end] = 0.0
-        for e in range(starts[g], starts[g + 1]):
-            coefficient = coefficients[e]
-            cp = cos_powers[a, cos_orders[e]]
-            sp = sin_powers[a, sin_orders[e]]
-            for t in range(end):
-                d0[t] += coefficient * cp[t] * sp[t]
-        for e in range(starts[g + 1], starts[g + 2]):
-            coefficient = coefficients[e]
-            cp = cos_powers[a, cos_orders[e]]
-            sp = sin_powers[a, sin_orders[e]]
-            for t in range(end):
-                d1[t] += coefficient * cp[t] * sp[t]
-        m = orders[g] - 4
-        tw = turns[a, abs(m)]
+        _small_d(cos_powers, sin_powers, a, starts[2 * g], starts[2 * g + 1], coefficients, cos_orders, sin_orders,
+                 end, d_a)
+        _small_d(cos_powers, sin_powers, a, starts[2 * g + 1], starts[2 * g + 2], coefficients, cos_orders,
+                 sin_orders, end, d_b)
+        m = orders[g]
+        tw = turns[a, m]
         x = turned[j]
-        row = rows[g]
-        base0 = centre + first
-        base1 = centre - first
-        if m >= 0:
+        plus, minus = plus_rows[g], minus_rows[g]
+        s1, s2, s3 = signs[g, 0], signs[g, 1], signs[g, 2]
+        if m == 0:
             for t in range(end):
-                y = tw[t] * x[t]
-                z = tw[t] * np.conj(x[t])
-                out[row, base0 + t] += d0[t] * y
-                out[row, base1 - t] += d1[t] * z
+                ex = tw[t] * x[t]
+                exc = tw[t] * np.conj(x[t])
+                out[plus, base0 + t] += d_a[t] * ex
+                out[plus, base1 - t] += (s1 * d_b[t]) * exc
         else:
             for t in range(end):
-                y = np.conj(tw[t]) * x[t]
-                z = np.conj(tw[t]) * np.conj(x[t])
-                out[row, base0 + t] += d0[t] * y
-                out[row, base1 - t] += d1[t] * z
+                ex = tw[t] * x[t]
+                exc = tw[t] * np.conj(x[t])
+                out[plus, base0 + t] += d_a[t] * ex
+                out[plus, base1 - t] += (s1 * d_b[t]) * exc
+                out[minus, base0 + t] += (s2 * d_b[t]) * np.conj(exc)  # conj(e) x
+                out[minus, base1 - t] += (s3 * d_a[t]) * np.conj(ex)  # conj(e) conj(x)
 
 
-def msa_angles(lo, ends, delta_f, m1, m2, spins, inclination, reference_frequency, tolerance=0.0):
-    """(alpha, gamma, cos beta) of every m' (rows in ``M_PRIMES`` order) on ``f = k delta_f``, ``lo <= k < lo +
-    ends[row]`` (zero beyond), from one call of ``SimIMRPhenomXPMSAAngles``: mode ``m'``'s angles at ``f`` are the
-    m' = 2 angles at ``2 f / m'`` (the function uses m' only to take the orbital frequency ``2 f / m'`` of its
-    argument), so one call on the union of the ``2 f / m'``, multiples of ``delta_f / 6``, serves all four (the
-    same arguments to the last bit for m' = 1, 2, 4; for m' = 3 ``2 f / 3`` is rounded once instead of ``2 / 3``).
-    ``tolerance`` > 0 (rad, and for cos beta): the call is made at nodes ``ANGLE_STEP`` apart in ln f and the angles
-    between them interpolated where that is checked to hold within it (:mod:`.checked_interpolation`)."""
+@compiled
+def union_of_arguments(lo, ends, factors):
+    """(the union of ``factors[r] k`` over rows ``r`` and ``lo <= k < lo + ends[r]``, ascending, each once; the
+    position in it of every row's entry, rows one after the other): the angles' arguments ``2 f / m'`` in units of
+    ``delta_f / 6`` (``factors = 12 / m'``)."""
+    top = 0
+    for r in range(ends.size):
+        top = max(top, factors[r] * (lo + ends[r]))
+    used = np.zeros(top + 1, dtype=np.int64)
+    for r in range(ends.size):
+        for k in range(lo, lo + ends[r]):
+            used[factors[r] * k] = 1
+    count = 0
+    for value in range(top + 1):  # used[value] becomes the value's position in the union, plus one
+        if used[value]:
+            count += 1
+            used[value] = count
+    union = np.empty(count, dtype=np.int64)
+    for value in range(top + 1):
+        if used[value]:
+            union[used[value] - 1] = value
+    where = np.empty(ends.sum(), dtype=np.int64)
+    at = 0
+    for r in range(ends.size):
+        for k in range(lo, lo + ends[r]):
+            where[at] = used[factors[r] * k] - 1
+            at += 1
+    return union, where
+
+
+def msa_angle_union(lo, ends, delta_f, m1, m2, spins, inclination, reference_frequency, tolerance=0.0):
+    """(values, where): the angles (alpha, gamma, cos beta) ``values[:, u]`` on the union of the arguments ``2 f /
+    m'`` of every m' (rows in ``M_PRIMES`` order) and ``f = k delta_f``, ``lo <= k < lo + ends[row]``, and the position
+    ``where[offset(row) + k - lo]`` in that union of each row's entry (rows one after the other), from one call of
+    ``SimIMRPhenomXPMSAAngles``: mode ``m'``'s angles at ``f`` are the m' = 2 angles at ``2 f / m'`` (the function
+    uses m' only to take the orbital frequency ``2 f / m'`` of its argument), so one call on the union, multiples of
+    ``delta_f / 6``, serves all four (the same arguments to the last bit for m' = 1, 2, 4; for m' = 3 ``2 f / 3`` is
+    rounded once instead of ``2 / 3``). ``tolerance`` > 0 (rad, and for cos beta): the call is made at nodes
+    ``ANGLE_STEP`` apart in ln f and the angles between them interpolated where that is checked to hold within it
+    (:mod:`.checked_interpolation`)."""
     lal, lalsim = lal_modules()
-    ks = [np.arange(lo, lo + end, dtype=np.int64) for end in ends]
-    sixths = np.concatenate([(12 // mp) * k for mp, k in zip(M_PRIMES, ks)])  # 2 f / m' in units of delta_f / 6
-    used = np.zeros(12 * (lo + max(ends)) + 1, dtype=bool)
-    used[sixths] = True
-    union = np.flatnonzero(used)  # ascending, each once
-    where = (np.cumsum(used) - 1)[sixths]
+    union, where = union_of_arguments(lo, np.asarray(ends, dtype=np.int64), np.array([12 // mp for mp in M_PRIMES]))
     frequencies = union * delta_f / 6
 
     def evaluate(indices):
@@ -174,7 +230,13 @@ def msa_angles(lo, ends, delta_f, m1, m2, spins, inclination, reference_frequenc
         values = lalsim.SimIMRPhenomXPMSAAngles(arguments, m1, m2, *spins, inclination, reference_frequency, 2, None)
         return np.array([value.data for value in values])
 
-    values = checked_interpolation(np.log(frequencies), evaluate, 3, ANGLE_STEP, tolerance)
+    return checked_interpolation(np.log(frequencies), evaluate, 3, ANGLE_STEP, tolerance), where
+
+
+def msa_angles(lo, ends, delta_f, m1, m2, spins, inclination, reference_frequency, tolerance=0.0):
+    """(alpha, gamma, cos beta) of every m' (rows in ``M_PRIMES`` order) on ``f = k delta_f``, ``lo <= k < lo +
+    ends[row]`` (zero beyond): :func:`msa_angle_union` row by row."""
+    values, where = msa_angle_union(lo, ends, delta_f, m1, m2, spins, inclination, reference_frequency, tolerance)
     angles = np.zeros((3, len(M_PRIMES), max(ends)))
     offsets = np.cumsum([0, *ends])
     for row, end in enumerate(ends):
@@ -223,13 +285,15 @@ def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, referen
         m1, m2, reference_frequency, phase, inclination, *spins, lal.CreateDict())[4]
         - lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
         m1, m2, reference_frequency, 0.0, inclination, *spins, lal.CreateDict())[4])
-    alpha, gamma, cos_beta = msa_angles(lo, angle_ends, delta_f, m1, m2, spins, inclination, reference_frequency,
-                                        angle_tolerance)
-    if not (np.isfinite(alpha).all() and np.isfinite(gamma).all() and np.isfinite(cos_beta).all()):
+    angles, where = msa_angle_union(lo, angle_ends, delta_f, m1, m2, spins, inclination, reference_frequency,
+                                    angle_tolerance)
+    if not np.isfinite(angles).all():
         return None  # finite inputs give finite modes (bounded factors)
     keys, terms = twist_terms()
     block = np.zeros((len(keys), size), dtype=complex)
-    twist_into(sources, ends, alpha, gamma, cos_beta, float(turn), lo, half, *terms, block)
+    offsets = np.cumsum(np.array([0, *angle_ends[:-1]], dtype=np.int64))
+    twist_into(sources, ends, angles, where, offsets, np.asarray(angle_ends, dtype=np.int64), float(turn), lo, half,
+               *terms, block)
     modes = {key: block[row] for row, key in enumerate(keys)}
     if not _agrees(modes, m1, m2, spins, delta_f, lo, hi, half, reference_frequency, phase, inclination, distance_m):
         return None

@@ -38,11 +38,12 @@ def test_interpolation_within_tolerance_through_kinks_and_jumps():
 
 
 def test_zero_tolerance_and_short_inputs_are_exact():
-    # closed form (common practice, no source): tolerance 0 or fewer than 8 abscissae call everything exactly
+    # closed form (common practice, no source): tolerance 0, fewer than 8 abscissae or fewer than four nodes (a step
+    # as long as the range) call everything exactly
     x = np.linspace(0.0, 1.0, 50)
-    for tolerance, xs in ((0.0, x), (1e-3, x[:5])):
+    for tolerance, xs, step in ((0.0, x, 0.1), (1e-3, x[:5], 0.1), (1e-3, x, 0.6)):
         counted = Counted(xs, smooth_kink_jump)
-        assert np.array_equal(checked_interpolation(xs, counted, 2, 0.1, tolerance), smooth_kink_jump(xs))
+        assert np.array_equal(checked_interpolation(xs, counted, 2, step, tolerance), smooth_kink_jump(xs))
         assert sorted(counted.asked) == list(range(xs.size))
 
 
