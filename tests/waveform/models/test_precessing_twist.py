@@ -32,7 +32,7 @@ def test_twist_reproduces_lalsimulation_inertial_modes(case):
     theirs = lalsimulation_modes(*case)
     size = theirs[(2, 2)].size
     ours = twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, 20.0, phase, inclination, 1e24, size,
-                         quiet=0.0, angle_tolerance=0.0)
+                         quiet=0.0, angle_check=0.0)
     assert ours is not None and list(ours) == list(theirs)
     zero = size // 2  # f = 0 lies below the start: not a frequency the modes are used at
     for key, mode in theirs.items():
@@ -100,13 +100,13 @@ def test_one_angle_call_equals_one_call_per_m_prime():
 @pytest.mark.parametrize("case", CASES[:2])
 def test_twist_ends_where_the_modes_are_quiet(case):
     # convergence, common practice, no source: the twist in use (each co-precessing mode up to its last value above
-    # QUIET of the loudest peak, the angles interpolated within ANGLE_TOLERANCE) against the whole twist (quiet = 0,
+    # QUIET of the loudest peak, the angles interpolated (ANGLE_CHECK)) against the whole twist (quiet = 0,
     # every angle from lalsimulation; checked against lalsimulation above); measured 1.0e-7 of the loudest J-frame
     # peak for QUIET = 1e-7
     mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, phase, inclination = case
     size = 2 * int(f_max / delta_f) + 1
     arguments = (mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, 20.0, phase, inclination, 1e24, size)
-    whole, ours = twisted_modes(*arguments, quiet=0.0, angle_tolerance=0.0), twisted_modes(*arguments)
+    whole, ours = twisted_modes(*arguments, quiet=0.0, angle_check=0.0), twisted_modes(*arguments)
     peak = max(np.max(np.abs(mode)) for mode in whole.values())
     worst = max(np.max(np.abs(ours[key] - mode)) for key, mode in whole.items()) / peak
     assert 0.0 < worst <= 2 * precessing_twist.QUIET
