@@ -95,6 +95,33 @@ def first_loud_fast_step(h, cos_limit, quiet_fraction):
 
 
 @_compile
+def dominant_steps(first, second, both, quiet_fraction, out):
+    """``out[t]``: the phase step ``|angle(h[t+1] conj(h[t]))|`` of the louder (by ``min(|h[t]|, |h[t+1]|)``, the first
+    on a tie) of ``first`` and, with ``both``, ``second``; zero where that modulus is not above ``quiet_fraction`` of
+    its largest value (numpy's ``np.where`` expression of :func:`.models.refine.dominant_phase_step`, sample by
+    sample)."""
+    n = out.size
+    amplitudes = np.empty(n)
+    loudest = -np.inf
+    for t in range(n):
+        z = first[t + 1] * np.conj(first[t])
+        step = abs(np.arctan2(z.imag, z.real))
+        amplitude = min(abs(first[t + 1]), abs(first[t]))
+        if both:
+            z = second[t + 1] * np.conj(second[t])
+            other = min(abs(second[t + 1]), abs(second[t]))
+            if other > amplitude:
+                step = abs(np.arctan2(z.imag, z.real))
+                amplitude = other
+        out[t] = step
+        amplitudes[t] = amplitude
+        loudest = max(loudest, amplitude)
+    for t in range(n):
+        if not amplitudes[t] > quiet_fraction * loudest:
+            out[t] = 0.0
+
+
+@_compile
 def first_unresolved_step(h, cos_limit, quiet_fraction):
     """(``k``, phase step from ``h[k]`` to ``h[k+1]``) for the last sample ``k`` before :func:`first_loud_fast_step`'s
     (its step zero where either sample is quiet), or (-1, 0) when every loud step is within the limit."""

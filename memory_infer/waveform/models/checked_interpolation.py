@@ -72,13 +72,25 @@ def judge(x, values, nodes, middles, intervals, threshold, accepted):
 
 @compiled
 def fill_between(x, values, nodes):
-    """``values`` at every abscissa that is not a node: the cubic of its interval's four nearest nodes."""
-    estimate = np.empty(values.shape[0])
+    """``values`` at every abscissa that is not a node: the cubic of its interval's four nearest nodes (Lagrange's
+    weights with the interval's denominators taken once)."""
+    components = values.shape[0]
+    scaled = np.empty((components, 4))
     for k in range(nodes.size - 1):
+        if nodes[k + 1] - nodes[k] < 2:
+            continue
+        first = min(max(k - 1, 0), nodes.size - 4)
+        x0, x1, x2, x3 = x[nodes[first]], x[nodes[first + 1]], x[nodes[first + 2]], x[nodes[first + 3]]
+        inverse = (1.0 / ((x0 - x1) * (x0 - x2) * (x0 - x3)), 1.0 / ((x1 - x0) * (x1 - x2) * (x1 - x3)),
+                   1.0 / ((x2 - x0) * (x2 - x1) * (x2 - x3)), 1.0 / ((x3 - x0) * (x3 - x1) * (x3 - x2)))
+        for c in range(components):
+            for a in range(4):
+                scaled[c, a] = values[c, nodes[first + a]] * inverse[a]
         for i in range(nodes[k] + 1, nodes[k + 1]):
-            _cubic(x, values, nodes, k, x[i], estimate)
-            for c in range(values.shape[0]):
-                values[c, i] = estimate[c]
+            d0, d1, d2, d3 = x[i] - x0, x[i] - x1, x[i] - x2, x[i] - x3
+            w0, w1, w2, w3 = d1 * d2 * d3, d0 * d2 * d3, d0 * d1 * d3, d0 * d1 * d2
+            for c in range(components):
+                values[c, i] = scaled[c, 0] * w0 + scaled[c, 1] * w1 + scaled[c, 2] * w2 + scaled[c, 3] * w3
 
 
 @compiled

@@ -74,6 +74,7 @@ class ModeSpectra:
     symmetric_mass_ratio: float
     approximant: str
     aligned_spins: bool
+    block: np.ndarray | None = None  # when the modes are the rows of one array, in their order: that array
 
 
 def time_bounds(mass_1, mass_2, spin_1z, spin_2z, minimum_frequency):
@@ -147,7 +148,11 @@ def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approxima
     frequencies = np.abs((np.arange(ramp.start, ramp.stop) - half) * delta_f)
     window = np.clip((frequencies - start) / max(minimum_frequency - start, delta_f), 0.0, 1.0)
     window = 0.5 - 0.5 * np.cos(np.pi * window)  # lalsimulation's half-cosine between start and f_min
-    modes = {k: _windowed(v, ramp, window) for k, v in modes.items()}
+    block = _rows_of_one_block(modes)
+    if block is not None:  # one operation on the block (the twisted modes' rows)
+        block[:, ramp] *= window
+    else:
+        modes = {k: _windowed(v, ramp, window) for k, v in modes.items()}
     if precessing:
         values = lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
             mass_1 * lal.MSUN_SI, mass_2 * lal.MSUN_SI, reference_frequency, float(phase), float(inclination),
@@ -160,7 +165,22 @@ def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approxima
     return ModeSpectra(delta_f=delta_f, modes=modes, theta=theta, phi=phi, rotation=complex(rotation), lead=lead,
                        tail=tail, total_mass=total, luminosity_distance=luminosity_distance,
                        symmetric_mass_ratio=mass_1 * mass_2 / total ** 2, approximant=approximant,
-                       aligned_spins=aligned and not precessing)
+                       aligned_spins=aligned and not precessing, block=block)
+
+
+def _rows_of_one_block(modes: dict) -> np.ndarray | None:
+    """The 2-D array whose rows, in order, are the values of ``modes`` (as the twist writes them), else None."""
+    rows = list(modes.values())
+    block = rows[0].base
+    if not (isinstance(block, np.ndarray) and block.ndim == 2 and block.shape[0] == len(rows)
+            and block.flags.c_contiguous):
+        return None
+    start = block.__array_interface__["data"][0]
+    for row, values in enumerate(rows):
+        if (values.base is not block or values.shape != block.shape[1:]
+                or values.__array_interface__["data"][0] != start + row * block.strides[0]):
+            return None
+    return block
 
 
 def _columns(series: np.ndarray, low: int, high: int) -> np.ndarray:
@@ -196,10 +216,16 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     keys = tuple(spectra.modes)
     width = spectra.modes[keys[0]][band].size  # every column is written when the band fills the buffer
     buffer = (np.empty if width >= n_time else np.zeros)((len(keys), n_time), dtype=complex)
-    for row, key in enumerate(keys):  # f = k delta_f at index k mod n_time; the k >= 0 part last (it wins at f = N)
-        part = spectra.modes[key][band]
-        buffer[row, n_time - keep:] = part[:keep]
-        buffer[row, :part.size - keep] = part[keep:]
+    # f = k delta_f at index k mod n_time; the k >= 0 part last (it wins at f = N)
+    if spectra.block is not None:  # all rows at once
+        part = spectra.block[:, band]
+        buffer[:, n_time - keep:] = part[:, :keep]
+        buffer[:, :part.shape[1] - keep] = part[:, keep:]
+    else:
+        for row, key in enumerate(keys):
+            part = spectra.modes[key][band]
+            buffer[row, n_time - keep:] = part[:keep]
+            buffer[row, :part.size - keep] = part[keep:]
     # row by row, as one transform each (scipy's pocketfft: numpy's numbers, a little faster, in place)
     series = scipy.fft.ifft(buffer, axis=1, overwrite_x=True)
     scale = n_time * spectra.delta_f  # h(t) = sum_f h(f) e^{2 pi i f t} df

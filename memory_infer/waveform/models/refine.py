@@ -39,7 +39,7 @@ from functools import lru_cache
 import numpy as np
 
 from ...common.errors import WaveformError
-from ..compiled import first_fast_probe, first_unresolved_step, interpolated_rows
+from ..compiled import dominant_steps, first_fast_probe, first_unresolved_step, interpolated_rows
 from .series import ModeSeries
 
 logger = logging.getLogger("memory_infer")
@@ -66,17 +66,11 @@ def dominant_phase_step(series: ModeSeries) -> np.ndarray:
         keys = [(2, 2)]
     if not keys:
         return np.zeros(series.times.size - 1)
-    steps, amplitudes = [], []
-    for key in keys:
-        h = series.modes[key]
-        steps.append(np.abs(np.angle(h[1:] * np.conj(h[:-1]))))
-        modulus = np.abs(h)
-        amplitudes.append(np.minimum(modulus[1:], modulus[:-1]))
-    step, amplitude = steps[0], amplitudes[0]
-    if len(keys) == 2:  # the louder of the two at each sample, the first on a tie
-        second = amplitudes[1] > amplitude
-        step, amplitude = np.where(second, steps[1], step), np.where(second, amplitudes[1], amplitude)
-    return np.where(amplitude > QUIET_AMPLITUDE * amplitude.max(), step, 0.0)
+    first = np.ascontiguousarray(series.modes[keys[0]], dtype=complex)
+    second = np.ascontiguousarray(series.modes[keys[-1]], dtype=complex)
+    out = np.empty(first.size - 1)
+    dominant_steps(first, second, len(keys) == 2, QUIET_AMPLITUDE, out)  # one compiled pass
+    return out
 
 
 def _late_part(series: ModeSeries) -> int:
