@@ -276,12 +276,22 @@ def pair_sums(d, skip, first_rows, second_rows, real_weights, imaginary_weights)
     """The rate ``y^T Q y`` at the columns ``skip ..`` of the real rows ``d`` as a sum over the symmetric
     form's pairs ``a <= b`` (``weights[p]`` holds ``Q_ab + Q_ba``, or ``Q_aa``): (real, imaginary) parts. Loops over
     pairs outside and samples inside, so the inner loop runs along memory; four pairs at a time, so that each
-    sample's two sums are loaded and stored once per four pairs (added to in the same order, pair by pair: the
-    same numbers as one pair at a time)."""
+    sample's sums are loaded and stored once per four pairs (added to in the same order, pair by pair: the same
+    numbers as one pair at a time). When most pairs weigh in only one of the two parts (an observer at azimuth 0
+    of the modes' frame, as for the precessing models' J-frame modes: every pair's other weight is exactly zero),
+    each part is summed over its own pairs: the same terms in the same order, without the zero ones."""
     count = d.shape[1] - skip
+    pairs = first_rows.size
+    real_pairs = np.flatnonzero(real_weights[:pairs] != 0.0)
+    imaginary_pairs = np.flatnonzero(imaginary_weights[:pairs] != 0.0)
+    if real_pairs.size + imaginary_pairs.size <= pairs + pairs // 4:
+        real = np.zeros(count)
+        imaginary = np.zeros(count)
+        _weighted_sum(d, skip, first_rows, second_rows, real_weights, real_pairs, real)
+        _weighted_sum(d, skip, first_rows, second_rows, imaginary_weights, imaginary_pairs, imaginary)
+        return real, imaginary
     real = np.zeros(count)
     imaginary = np.zeros(count)
-    pairs = first_rows.size
     grouped = pairs - pairs % 4
     for p in range(0, grouped, 4):
         x0, y0 = d[first_rows[p], skip:], d[second_rows[p], skip:]
@@ -305,6 +315,38 @@ def pair_sums(d, skip, first_rows, second_rows, real_weights, imaginary_weights)
             real[t] += a * z
             imaginary[t] += b * z
     return real, imaginary
+
+
+@_compile
+def _weighted_sum(d, skip, first_rows, second_rows, weights, chosen, out):
+    """``out[t] += weights[p] d[first_rows[p], skip + t] d[second_rows[p], skip + t]`` over the pairs ``chosen``, in
+    their order, eight at a time (each sample's sum loaded and stored once per eight pairs)."""
+    count = out.size
+    grouped = chosen.size - chosen.size % 8
+    for i in range(0, grouped, 8):
+        p0, p1, p2, p3 = chosen[i], chosen[i + 1], chosen[i + 2], chosen[i + 3]
+        p4, p5, p6, p7 = chosen[i + 4], chosen[i + 5], chosen[i + 6], chosen[i + 7]
+        x0, y0 = d[first_rows[p0], skip:], d[second_rows[p0], skip:]
+        x1, y1 = d[first_rows[p1], skip:], d[second_rows[p1], skip:]
+        x2, y2 = d[first_rows[p2], skip:], d[second_rows[p2], skip:]
+        x3, y3 = d[first_rows[p3], skip:], d[second_rows[p3], skip:]
+        x4, y4 = d[first_rows[p4], skip:], d[second_rows[p4], skip:]
+        x5, y5 = d[first_rows[p5], skip:], d[second_rows[p5], skip:]
+        x6, y6 = d[first_rows[p6], skip:], d[second_rows[p6], skip:]
+        x7, y7 = d[first_rows[p7], skip:], d[second_rows[p7], skip:]
+        a0, a1, a2, a3 = weights[p0], weights[p1], weights[p2], weights[p3]
+        a4, a5, a6, a7 = weights[p4], weights[p5], weights[p6], weights[p7]
+        for t in range(count):
+            out[t] = (((((((out[t] + a0 * (x0[t] * y0[t])) + a1 * (x1[t] * y1[t])) + a2 * (x2[t] * y2[t]))
+                         + a3 * (x3[t] * y3[t])) + a4 * (x4[t] * y4[t])) + a5 * (x5[t] * y5[t]))
+                      + a6 * (x6[t] * y6[t])) + a7 * (x7[t] * y7[t])
+    for i in range(grouped, chosen.size):
+        p = chosen[i]
+        x = d[first_rows[p], skip:]
+        y = d[second_rows[p], skip:]
+        a = weights[p]
+        for t in range(count):
+            out[t] += a * (x[t] * y[t])
 
 
 @_compile

@@ -86,6 +86,28 @@ def test_pair_sums_and_weights_equal_a_pair_by_pair_numpy_loop_bit_for_bit():
         assert np.array_equal(real, loop_real) and np.array_equal(imaginary, loop_imaginary)
 
 
+def test_pair_sums_with_one_weight_per_pair_equal_the_plain_loop_bit_for_bit():
+    # an observer at azimuth 0 of the modes' frame (the precessing models' J-frame) gives every pair one zero weight:
+    # each part is then summed over its own pairs, eight at a time; the same terms in the same order, so the same
+    # numbers as the plain pair-by-pair loop (reference: the plain loop, no source)
+    rng = np.random.default_rng(8)
+    d = rng.normal(size=(12, 257))
+    first, second = (x.astype(np.int64) for x in np.triu_indices(12))
+    real_only = rng.random(first.size) < 0.55
+    real_weights = np.where(real_only, rng.normal(size=first.size), 0.0)
+    imaginary_weights = np.where(real_only, 0.0, rng.normal(size=first.size))
+    for skip in (0, 5):
+        real, imaginary = compiled.pair_sums(d, skip, first, second, real_weights, imaginary_weights)
+        loop_real, loop_imaginary = np.zeros(257 - skip), np.zeros(257 - skip)
+        for p in range(first.size):
+            z = d[first[p], skip:] * d[second[p], skip:]
+            if real_weights[p] != 0:
+                loop_real += real_weights[p] * z
+            if imaginary_weights[p] != 0:
+                loop_imaginary += imaginary_weights[p] * z
+        assert np.array_equal(real, loop_real) and np.array_equal(imaginary, loop_imaginary)
+
+
 def numpy_continued_phases(modes, orders):  # the numpy steps the compiled loop replaced
     wrapped = np.angle(modes[:, 1:] * np.conj(modes[:, :-1]))
     change = np.diff(wrapped[0])
