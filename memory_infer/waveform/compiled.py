@@ -99,7 +99,7 @@ def dominant_steps(first, second, both, quiet_fraction, out):
     """``out[t]``: the phase step ``|angle(h[t+1] conj(h[t]))|`` of the louder (by ``min(|h[t]|, |h[t+1]|)``, the first
     on a tie) of ``first`` and, with ``both``, ``second``; zero where that modulus is not above ``quiet_fraction`` of
     its largest value (numpy's ``np.where`` expression of :func:`.models.refine.dominant_phase_step`, sample by
-    sample)."""
+    sample; the angles to the last bit or so, numpy's vectorized arctan2 and libm's can differ there)."""
     n = out.size
     amplitudes = np.empty(n)
     loudest = -np.inf
@@ -119,6 +119,59 @@ def dominant_steps(first, second, both, quiet_fraction, out):
     for t in range(n):
         if not amplitudes[t] > quiet_fraction * loudest:
             out[t] = 0.0
+
+
+@_compile
+def first_fast_dominant(first, second, both, quiet_fraction, limit):
+    """(``k``, step) as :func:`.models.refine.first_unresolved` takes them from :func:`dominant_steps`: ``k`` the
+    sample before the first whose step exceeds ``limit`` (< pi / 2), and the step there (zero where quiet); (-1, 0)
+    when none does. The same decisions without the whole step array: a step is compared with ``limit`` through
+    ``|Im z| <> Re z tan(limit)`` where that is clear by a relative 1e-9, through the angle itself otherwise."""
+    n = first.size - 1
+    amplitudes = np.empty(n)
+    use_second = np.zeros(n, dtype=np.bool_)
+    previous_first = abs(first[0])
+    previous_second = abs(second[0]) if both else 0.0
+    loudest = -np.inf
+    for t in range(n):
+        current = abs(first[t + 1])
+        amplitude = min(current, previous_first)
+        previous_first = current
+        if both:
+            current = abs(second[t + 1])
+            other = min(current, previous_second)
+            previous_second = current
+            if other > amplitude:
+                amplitude = other
+                use_second[t] = True
+        amplitudes[t] = amplitude
+        loudest = max(loudest, amplitude)
+    threshold = quiet_fraction * loudest
+    slope = np.tan(limit)
+    bad = -1
+    for t in range(n):
+        if not amplitudes[t] > threshold:
+            continue
+        h = second if use_second[t] else first
+        z = h[t + 1] * np.conj(h[t])
+        if z.real > 0.0:
+            bound = z.real * slope
+            if abs(z.imag) < bound * (1.0 - 1e-9):
+                continue
+            if not abs(z.imag) > bound * (1.0 + 1e-9) and not abs(np.arctan2(z.imag, z.real)) > limit:
+                continue
+        elif not abs(np.arctan2(z.imag, z.real)) > limit:  # Re z <= 0: beyond pi / 2 unless nan
+            continue
+        bad = t
+        break
+    if bad < 0:
+        return -1, 0.0
+    index = max(bad - 1, 0)
+    if not amplitudes[index] > threshold:
+        return index, 0.0
+    h = second if use_second[index] else first
+    z = h[index + 1] * np.conj(h[index])
+    return index, abs(np.arctan2(z.imag, z.real))
 
 
 @_compile

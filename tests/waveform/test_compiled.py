@@ -108,6 +108,44 @@ def test_pair_sums_with_one_weight_per_pair_equal_the_plain_loop_bit_for_bit():
         assert np.array_equal(real, loop_real) and np.array_equal(imaginary, loop_imaginary)
 
 
+def numpy_first_fast(first, second, both, quiet, limit):  # the numpy steps the compiled scan replaced
+    steps, amplitudes = [], []
+    for h in (first, second) if both else (first,):
+        steps.append(np.abs(np.angle(h[1:] * np.conj(h[:-1]))))
+        modulus = np.abs(h)
+        amplitudes.append(np.minimum(modulus[1:], modulus[:-1]))
+    step, amplitude = steps[0], amplitudes[0]
+    if both:
+        louder = amplitudes[1] > amplitude
+        step, amplitude = np.where(louder, steps[1], step), np.where(louder, amplitudes[1], amplitude)
+    step = np.where(amplitude > quiet * amplitude.max(), step, 0.0)
+    bad = np.nonzero(step > limit)[0]
+    if not bad.size:
+        return -1, 0.0
+    index = max(int(bad[0]) - 1, 0)
+    return index, float(step[index])
+
+
+def test_first_fast_dominant_step_equals_the_numpy_steps():
+    # chirps of rising frequency, one louder than the other in turns, quiet stretches, and steps set exactly at the
+    # limit: the compiled scan must find the same sample as the numpy steps, and the same step to the last bit or
+    # two (numpy's vectorized arctan2 and libm's may differ there) (reference: numpy, no source)
+    rng = np.random.default_rng(9)
+    t = np.linspace(0, 1, 4000)
+    for trial in range(6):
+        phase = 2 * np.pi * np.cumsum(5 + 400 * t ** rng.uniform(2, 6)) / 4000 * rng.uniform(0.5, 2.0)
+        envelope = np.exp(-((t - rng.uniform(0.6, 0.95)) / 0.2) ** 2)
+        first = envelope * np.exp(-1j * phase)
+        second = (1 + 0.3 * np.sin(9 * t)) * envelope * np.exp(1j * phase * 1.01)
+        first[:300] *= 1e-6  # quiet
+        if trial == 5:  # a step exactly at the limit
+            second[2001] = second[2000] * np.exp(1j * 0.3)
+        for both in (True, False):
+            expected = numpy_first_fast(first, second, both, 1e-3, 0.3)
+            index, step = compiled.first_fast_dominant(first, second, both, 1e-3, 0.3)
+            assert index == expected[0] and abs(step - expected[1]) <= 4e-16 * max(abs(expected[1]), 1e-300)
+
+
 def numpy_continued_phases(modes, orders):  # the numpy steps the compiled loop replaced
     wrapped = np.angle(modes[:, 1:] * np.conj(modes[:, :-1]))
     change = np.diff(wrapped[0])

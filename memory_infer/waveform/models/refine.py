@@ -39,7 +39,7 @@ from functools import lru_cache
 import numpy as np
 
 from ...common.errors import WaveformError
-from ..compiled import dominant_steps, first_fast_probe, first_unresolved_step, interpolated_rows
+from ..compiled import dominant_steps, first_fast_dominant, first_fast_probe, first_unresolved_step, interpolated_rows
 from .series import ModeSeries
 
 logger = logging.getLogger("memory_infer")
@@ -93,15 +93,15 @@ def first_unresolved(series: ModeSeries, whole: bool = False):
         if index < 0:
             return None
         return float(series.times[start + index]), float(step / (2 * np.pi * series.delta_t))
-    late = series if start == 0 else dataclasses.replace(series, times=series.times[start:],
-                                                         modes={k: v[start:] for k, v in series.modes.items()})
-    step = dominant_phase_step(late)
-    bad = np.nonzero(step > PHASE_STEP_LIMIT)[0]
-    if bad.size == 0:
+    keys = [k for k in ((2, 2), (2, -2)) if k in series.modes]
+    if not keys:
         return None
-    index = max(int(bad[0]) - 1, 0)
-    frequency = step[index] / (2 * np.pi * series.delta_t)
-    return float(late.times[index]), float(frequency)
+    first, second = (np.ascontiguousarray(series.modes[k][start:], dtype=complex) for k in (keys[0], keys[-1]))
+    # the first step of dominant_phase_step above the limit, in one compiled pass
+    index, step = first_fast_dominant(first, second, len(keys) == 2, QUIET_AMPLITUDE, PHASE_STEP_LIMIT)
+    if index < 0:
+        return None
+    return float(series.times[start + index]), float(step / (2 * np.pi * series.delta_t))
 
 
 @lru_cache(maxsize=16)
