@@ -190,6 +190,24 @@ def first_unresolved_step(h, cos_limit, quiet_fraction):
 
 
 @_compile
+def first_loud(row, first, count, scale, fraction):
+    """The first ``k < count`` with ``|row[(first + k) mod n] scale| >= fraction max_j |row[(first + j) mod n]
+    scale|`` (numpy's ``argmax`` of that comparison over the circular stretch: 0 when none holds)."""
+    n = row.size
+    moduli = np.empty(count)
+    peak = -np.inf
+    for k in range(count):
+        value = abs(row[(first + k) % n] * scale)
+        moduli[k] = value
+        peak = max(peak, value)
+    threshold = fraction * peak
+    for k in range(count):
+        if moduli[k] >= threshold:
+            return k
+    return 0
+
+
+@_compile
 def loud_end(stacked, quiet_fraction):
     """One past the last sample where any row's modulus exceeds ``quiet_fraction`` of row 0's peak; 0 if none."""
     # Squared moduli decide wherever they are clear by a relative 1e-12 (far above their rounding); only samples

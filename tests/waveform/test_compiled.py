@@ -302,3 +302,15 @@ def test_split_spectrum_equals_two_real_transforms(size):
     wrong = np.empty(bins, complex)
     compiled.split_spectrum(np.fft.fft(x - 1j * y), phase, plus, wrong)  # a conjugated input changes the sign
     assert np.max(np.abs(wrong - y_alone)) < 1e-12 * scale
+
+
+def test_first_loud_equals_numpys_argmax_over_the_circular_stretch():
+    # the conditioned start of the time-domain modes; reference: numpy's gather, modulus and argmax (no source)
+    rng = np.random.default_rng(10)
+    row = rng.normal(size=64) + 1j * rng.normal(size=64)
+    row[40:] *= 1e-3
+    for first, count in ((-20, 50), (0, 64), (-63, 10), (5, 30)):
+        index = np.arange(first, first + count)
+        h = row[index % 64] * 2.5
+        expected = int(np.argmax(np.abs(h) >= 0.01 * np.abs(h).max()))
+        assert compiled.first_loud(row, first, count, 2.5, 0.01) == expected

@@ -37,7 +37,7 @@ import scipy.fft
 
 from .lal_call import call, checked_binary, conditioning_bounds, lal_modules, quiet, walk, waveform_dictionary
 from .precessing_twist import twisted_modes
-from ..compiled import loud_end
+from ..compiled import first_loud, loud_end
 from .refine import QUIET_AMPLITUDE
 from .series import MEGAPARSEC_METRES, SOLAR_MASS_SECONDS, ModeSeries
 
@@ -183,13 +183,17 @@ def _rows_of_one_block(modes: dict) -> np.ndarray | None:
     return block
 
 
-def _columns(series: np.ndarray, low: int, high: int) -> np.ndarray:
-    """A copy of the columns ``low .. high - 1`` of ``series``, counted modulo its length (a circular buffer;
-    ``-len < low < high <= len``): one or two contiguous blocks, as ``series[:, np.arange(low, high) % len]``."""
+def _columns(series: np.ndarray, low: int, high: int, scale: float) -> np.ndarray:
+    """``scale`` times the columns ``low .. high - 1`` of ``series``, counted modulo its length (a circular buffer;
+    ``-len < low < high <= len``): one or two contiguous blocks, as ``series[:, np.arange(low, high) % len] *
+    scale``, scaled as they are copied."""
     n = series.shape[1]
     if low >= 0 or high <= 0:
-        return series[:, low % n:(high - 1) % n + 1].copy()
-    return np.concatenate((series[:, n + low:], series[:, :high]), axis=1)
+        return series[:, low % n:(high - 1) % n + 1] * scale
+    out = np.empty((series.shape[0], high - low), dtype=series.dtype)
+    np.multiply(series[:, n + low:], scale, out=out[:, :-low])
+    np.multiply(series[:, :high], scale, out=out[:, -low:])
+    return out
 
 
 def _windowed(values: np.ndarray, ramp: slice, window: np.ndarray) -> np.ndarray:
@@ -231,10 +235,8 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     scale = n_time * spectra.delta_f  # h(t) = sum_f h(f) e^{2 pi i f t} df
     key = (2, 2) if (2, 2) in keys else (2, -2)
     if key in keys:  # the samples before the conditioned start hold only the transform's ringing: dropped
-        h = series[keys.index(key), index % n_time] * scale
-        index = index[int(np.argmax(np.abs(h) >= START_AMPLITUDE * np.abs(h).max())):]
-    picked = _columns(series, index[0], index[-1] + 1)  # only the samples kept are copied out and scaled
-    picked *= scale
+        index = index[first_loud(series[keys.index(key)], index[0], index.size, scale, START_AMPLITUDE):]
+    picked = _columns(series, index[0], index[-1] + 1, scale)  # only the samples kept are copied out, scaled
     modes = {key: picked[row] for row, key in enumerate(keys)}
     times = index * delta_t
     if start_frequency is not None and key in modes:

@@ -181,6 +181,41 @@ def twist_into(coprecessing, ends, angles, where, offsets, angle_ends, turn, fir
 
 
 @compiled
+def loud_stretch(stacked, quiet):
+    """(lo, hi, ends): the co-precessing modes' nonzero stretch ``lo .. hi - 1`` over every row (lo at least 1, f = 0
+    left out), and each row's end in it: one past its last value above ``quiet`` times the largest modulus in the
+    stretch (0 when none is). (0, 0, ends) when nothing is nonzero or a value in the stretch is not finite."""
+    rows, n = stacked.shape
+    ends = np.zeros(rows, dtype=np.int64)
+    lo, hi = n, 0
+    for r in range(rows):
+        for t in range(n):
+            if stacked[r, t] != 0:
+                lo = min(lo, t)
+                hi = max(hi, t + 1)
+    lo = max(lo, 1)
+    if hi <= lo:
+        return 0, 0, ends
+    moduli = np.empty((rows, hi - lo))
+    peak = 0.0
+    for r in range(rows):
+        for t in range(lo, hi):
+            value = stacked[r, t]
+            if not (np.isfinite(value.real) and np.isfinite(value.imag)):
+                return 0, 0, ends
+            modulus = abs(value)
+            moduli[r, t - lo] = modulus
+            peak = max(peak, modulus)
+    threshold = quiet * peak
+    for r in range(rows):
+        for t in range(hi - lo - 1, -1, -1):
+            if moduli[r, t] > threshold:
+                ends[r] = t + 1
+                break
+    return lo, hi, ends
+
+
+@compiled
 def union_of_arguments(lo, ends, factors):
     """(the union of ``factors[r] k`` over rows ``r`` and ``lo <= k < lo + ends[r]``, ascending, each once; the
     position in it of every row's entry, rows one after the other): the angles' arguments ``2 f / m'`` in units of
@@ -265,20 +300,11 @@ def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, referen
         coprecessing[(l, mp)] = positive.data.data
     half = size // 2
     n_positive = min(half + 1, min(h.size for h in coprecessing.values()))
-    loud = np.zeros(n_positive, dtype=bool)
-    for h in coprecessing.values():
-        loud |= h[:n_positive] != 0
-    where = np.nonzero(loud)[0]
-    if not where.size:
+    stacked = np.array([coprecessing[key][:n_positive] for key in COPRECESSING])
+    lo, hi, ends = loud_stretch(stacked, float(quiet))  # one compiled pass
+    if hi <= lo:  # nothing nonzero, or a value that is not finite
         return None
-    lo, hi = int(where[0]), int(where[-1]) + 1
-    lo = max(lo, 1)
-    sources = np.array([coprecessing[key][lo:hi] for key in COPRECESSING])
-    if not np.isfinite(sources).all():
-        return None
-    magnitudes = np.abs(sources)
-    above = magnitudes > quiet * magnitudes.max()  # quiet = 0: every nonzero value
-    ends = np.array([np.nonzero(row)[0][-1] + 1 if row.any() else 0 for row in above], dtype=np.int64)
+    sources = stacked[:, lo:hi]
     angle_ends = [max([end for end, (_, mp) in zip(ends, COPRECESSING) if mp == m_prime], default=1)
                   for m_prime in M_PRIMES]
     turn = (lalsim.SimIMRPhenomXPCalculateModelParametersFromSourceFrame(
@@ -304,12 +330,13 @@ def _agrees(modes, m1, m2, spins, delta_f, lo, hi, half, reference_frequency, ph
     """Whether the twisted (2, 1) mode matches lalsimulation's own J-frame (2, 1) mode at a few frequencies
     (``SimIMRPhenomXPHMFrequencySequenceOneMode``, its angles whatever version it settled on)."""
     lal, lalsim = lal_modules()
-    picks = np.unique(np.linspace(lo, hi - 1, 6).astype(int))
-    frequencies = lal.CreateREAL8Vector(picks.size)
+    picks = lo + ((hi - 1 - lo) * np.arange(6)) // 5  # six spread over the stretch, ends included
+    frequencies = lal.CreateREAL8Vector(6)
     frequencies.data[:] = picks * delta_f
     positive, negative = lalsim.SimIMRPhenomXPHMFrequencySequenceOneMode(
         frequencies, 2, 1, m1, m2, *spins, distance_m, inclination, phase, reference_frequency, None)
-    theirs = np.concatenate([positive.data.data, negative.data.data])
-    ours = np.concatenate([modes[(2, 1)][half + picks], modes[(2, 1)][half - picks]])
-    scale = max(np.abs(theirs).max(), 1e-300)
-    return bool(np.abs(ours - theirs).max() <= CHECK_TOLERANCE * scale)
+    mode = modes[(2, 1)]
+    theirs_positive, theirs_negative = positive.data.data, negative.data.data
+    scale = max(np.abs(theirs_positive).max(), np.abs(theirs_negative).max(), 1e-300)
+    worst = max(np.abs(mode[half + picks] - theirs_positive).max(), np.abs(mode[half - picks] - theirs_negative).max())
+    return bool(worst <= CHECK_TOLERANCE * scale)

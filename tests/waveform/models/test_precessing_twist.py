@@ -110,3 +110,22 @@ def test_twist_ends_where_the_modes_are_quiet(case):
     peak = max(np.max(np.abs(mode)) for mode in whole.values())
     worst = max(np.max(np.abs(ours[key] - mode)) for key, mode in whole.items()) / peak
     assert 0.0 < worst <= 2 * precessing_twist.QUIET
+
+
+def test_loud_stretch_equals_the_numpy_steps():
+    # the co-precessing modes' nonzero stretch and each one's quiet end; reference: the numpy steps it replaced
+    # (no source), and refusal of a value that is not finite
+    rng = np.random.default_rng(11)
+    stacked = np.zeros((5, 300), dtype=complex)
+    for row, (start, stop) in enumerate(((20, 200), (10, 290), (30, 250), (25, 260), (40, 280))):
+        stacked[row, start:stop] = (rng.normal(size=stop - start) + 1j * rng.normal(size=stop - start)) * np.exp(
+            -np.arange(stop - start) / 20.0)
+    for quiet in (0.0, 1e-7, 1e-3):
+        lo, hi, ends = precessing_twist.loud_stretch(stacked, quiet)
+        loud = np.nonzero(np.any(stacked != 0, axis=0))[0]
+        assert (lo, hi) == (max(int(loud[0]), 1), int(loud[-1]) + 1)
+        magnitudes = np.abs(stacked[:, lo:hi])
+        above = magnitudes > quiet * magnitudes.max()
+        assert list(ends) == [np.nonzero(r)[0][-1] + 1 if r.any() else 0 for r in above]
+    stacked[2, 100] = np.nan
+    assert precessing_twist.loud_stretch(stacked, 1e-7)[:2] == (0, 0)
