@@ -169,18 +169,9 @@ def _conditioned(modes, delta_f, start, minimum_frequency, lead, tail, approxima
 
 
 def _rows_of_one_block(modes: dict) -> np.ndarray | None:
-    """The 2-D array whose rows, in order, are the values of ``modes`` (as the twist writes them), else None."""
-    rows = list(modes.values())
-    block = rows[0].base
-    if not (isinstance(block, np.ndarray) and block.ndim == 2 and block.shape[0] == len(rows)
-            and block.flags.c_contiguous):
-        return None
-    start = block.__array_interface__["data"][0]
-    for row, values in enumerate(rows):
-        if (values.base is not block or values.shape != block.shape[1:]
-                or values.__array_interface__["data"][0] != start + row * block.strides[0]):
-            return None
-    return block
+    """The 2-D array whose rows, in order, are the values of ``modes`` (as the twist hands them over), else None."""
+    block = getattr(modes, "block", None)
+    return block if block is not None and block.shape[0] == len(modes) else None
 
 
 def _columns(series: np.ndarray, low: int, high: int, scale: float) -> np.ndarray:

@@ -30,7 +30,7 @@ import numpy as np
 from ...common.compiled import compiled
 from ..sphere import wigner_d, wigner_terms  # noqa: F401 (wigner_d: for its tests)
 from .checked_interpolation import checked_interpolation
-from .lal_call import lal_modules
+from .lal_call import lal_modules, quiet
 
 COPRECESSING = ((2, 1), (2, 2), (3, 2), (3, 3), (4, 4))  # (l, m') of the model's co-precessing modes
 M_PRIMES = (1, 2, 3, 4)  # the angles' m' (their rows in :func:`twist_into`)
@@ -39,6 +39,12 @@ QUIET = 1e-7  # the twist's end: a co-precessing mode's last value above this fr
 ANGLE_CHECK = 1e-7  # the angles in use: interpolated where a check at this (rad) holds (errors measured <= 6.7e-7)
 ANGLE_STEP = 0.04  # the interpolation's first nodes: this far apart in ln f (about 4% in frequency), then bisected
 CHECK_TOLERANCE = 1e-2  # the single-mode check: lalsimulation's own mode on a few frequencies (not multibanded)
+
+
+class BlockRows(dict):
+    """The J-frame modes ``(l, m) -> h_lm``, each a row of ``block`` in the dictionary's order."""
+
+    block: np.ndarray
 
 
 @lru_cache(maxsize=1)
@@ -262,7 +268,9 @@ def msa_angle_union(lo, ends, delta_f, m1, m2, spins, inclination, reference_fre
     def evaluate(indices):
         arguments = lal.CreateREAL8Vector(indices.size)
         arguments.data[:] = frequencies[indices]
-        values = lalsim.SimIMRPhenomXPMSAAngles(arguments, m1, m2, *spins, inclination, reference_frequency, 2, None)
+        with quiet():  # a single frequency draws a message (f_max <= f_min) but the same angles
+            values = lalsim.SimIMRPhenomXPMSAAngles(arguments, m1, m2, *spins, inclination, reference_frequency, 2,
+                                                    None)
         return np.array([value.data for value in values])
 
     return checked_interpolation(np.log(frequencies), evaluate, 3, ANGLE_STEP, check), where
@@ -320,7 +328,8 @@ def twisted_modes(mass_1, mass_2, spin_1, spin_2, delta_f, start, f_max, referen
     offsets = np.cumsum(np.array([0, *angle_ends[:-1]], dtype=np.int64))
     twist_into(sources, ends, angles, where, offsets, np.asarray(angle_ends, dtype=np.int64), float(turn), lo, half,
                *terms, block)
-    modes = {key: block[row] for row, key in enumerate(keys)}
+    modes = BlockRows({key: block[row] for row, key in enumerate(keys)})
+    modes.block = block
     if not _agrees(modes, m1, m2, spins, delta_f, lo, hi, half, reference_frequency, phase, inclination, distance_m):
         return None
     return modes
