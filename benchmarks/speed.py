@@ -235,8 +235,24 @@ def reweighting_vs_bilby(approximant, point_changes=None, samples_per_round: int
         standard.log_likelihood_ratio(dict(samples.iloc[i]))
 
     t_sample, t_bilby, ratio, (low, high) = interleaved(batch, bilby_call, n, SETTINGS["repeats"], warm=False)
+    LAST_SAMPLE_SECONDS[approximant] = t_sample
     return ratio, (f"{t_sample * 1e3:.1f} ms per sample vs {t_bilby * 1e3:.1f} ms per bilby likelihood "
                    f"({approximant}, 4 s, H1+L1; rounds {low:.2f}-{high:.2f}, {n} samples each)")
+
+
+LAST_SAMPLE_SECONDS = {}  # approximant -> the last measured reweighting cost per sample (s)
+
+
+def catalog_projection(seconds_per_sample: float, events: int = 200, samples: int = 5000) -> str:
+    """A catalog of ``events`` events of ``samples`` posterior samples each, reweighted: core-hours and wall time on
+    2 and on 64 cores, projected from the measured cost per sample (events independent, one per core; reading,
+    set-up and the combination not included)."""
+    per_event = seconds_per_sample * samples
+    core_seconds = per_event * events
+    on = {cores: np.ceil(events / cores) * per_event for cores in (2, 64)}
+    return (f"{events}-event catalog, {samples:,} samples each, from {seconds_per_sample * 1e3:.1f} ms per sample: "
+            f"{per_event:.0f} s per event, {core_seconds / 3600:.2f} core-hours, {on[2] / 3600:.2f} h on 2 cores, "
+            f"{on[64] / 60:.1f} min on 64 (whole events per core; reading, set-up and combination not included)")
 
 
 def table(rows):
@@ -314,6 +330,8 @@ def main(argv=None):
                          f"{' '.join(arguments[:1])}: median of {repeats} runs, CPU {cpu:.0f} s (all processes); "
                          f"load average {runs[:, 2].min():.1f}-{runs[:, 3].max():.1f} (before-after)"))
     print(table(rows), flush=True)
+    if "IMRPhenomXPHM" in LAST_SAMPLE_SECONDS:
+        print("IMRPhenomXPHM " + catalog_projection(LAST_SAMPLE_SECONDS["IMRPhenomXPHM"]))
     if options.quick:
         return
     print(partial_read_memory())
