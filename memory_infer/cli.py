@@ -73,7 +73,20 @@ def main(argv=None) -> int:
         signal.signal(signal.SIGINT, signal.SIG_IGN)  # one interruption is enough: a late second one must not turn
         sys.stdout.flush()  # the exit into a death by signal while the interpreter shuts down
         print(f"{command}: interrupted; finished outputs are kept.", file=sys.stderr)
+        _forget_unhandled_interrupt()
         return 130
+
+
+def _forget_unhandled_interrupt() -> None:
+    """CPython remembers a KeyboardInterrupt that ended code it ran through its ``PyRun_*`` functions (as some
+    compiled modules do while they import) and then ends the process by SIGINT at exit, whatever the exit status:
+    handled here, so the flag is reset by running an empty statement the same way (the exit status stays 130)."""
+    try:
+        import ctypes
+
+        ctypes.pythonapi.PyRun_SimpleString(b"pass")
+    except (ImportError, AttributeError, OSError):  # pragma: no cover - another interpreter: nothing to reset
+        pass
 
 
 def _run(args) -> int:
