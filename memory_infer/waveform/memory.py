@@ -149,14 +149,15 @@ def _slow_inspiral_end(h22, step) -> int:
 
 def memory_at_direction(modes: dict, times, theta: float, phi: float, early_inspiral: bool = False,
                         symmetric_mass_ratio: float | None = None, finer=(), smooth_inspiral: bool | None = True,
-                        mode_scale: float = 1.0) -> np.ndarray:
+                        mode_scale: float = 1.0, start_h22=None) -> np.ndarray:
     """Complex memory strain ``h+_mem - i hx_mem`` (r h / M) towards (theta, phi), every degree kept.
 
     lalsimulation's convention (module docstring). The hot path: the couplings are contracted with
     ``-2Y_lm(theta, phi)`` first, so the cost is one small quadratic form per sample,
     ``h_mem = int sum_ij W_ij dh_i conj(dh_j) dt``. ``finer`` as in :func:`memory_modes`.
     ``mode_scale``: the modes (also those of ``finer``) are given as ``mode_scale`` x r h / M (for example
-    SI strain, ``mode_scale = M / r``); the memory is then returned in the same units.
+    SI strain, ``mode_scale = M / r``); the memory is then returned in the same units. ``start_h22``: see
+    :func:`orbital_velocity_parameter` (the early-inspiral offset only).
 
     ``smooth_inspiral`` (used only when ``h_{l,-m} = (-1)^l conj(h_lm)``, aligned spins): below
     ``M f_22 = INSPIRAL_FREQUENCY`` only the pairs with m_i = m_j are kept, whose product has no orbital
@@ -191,7 +192,7 @@ def memory_at_direction(modes: dict, times, theta: float, phi: float, early_insp
 
         memory = _levels_memory(times, stack_rows(modes, own, False), own, finer, cumulative)
     if early_inspiral:
-        offsets = early_inspiral_offset(modes, times, symmetric_mass_ratio)
+        offsets = early_inspiral_offset(modes, times, symmetric_mass_ratio, start_h22)
         towards = harmonic_set(tuple(offsets))(theta, phi)  # -2Y_l0 of the offsets' modes
         memory = memory + mode_scale * sum(value * y for value, y in zip(offsets.values(), towards))
     return memory
@@ -343,27 +344,32 @@ def _leading_order_projection():
             for l in (2, 4)}
 
 
-def orbital_velocity_parameter(modes: dict, times) -> float:
-    """``x = (M omega_orb)^(2/3)`` at the first sample, from the (2, 2) mode's phase rate."""
+def orbital_velocity_parameter(modes: dict, times, start_h22=None) -> float:
+    """``x = (M omega_orb)^(2/3)`` at the first sample, from the (2, 2) mode's phase rate. ``start_h22``: the (2, 2)
+    mode at the first 17 sample times taken from its whole band, when the sampled mode is cut below its band (a
+    frequency-domain model at a data rate whose Nyquist frequency lies within its ringdown: the cut rings through
+    the whole series and spoils the phase rate of its first samples)."""
     step = _uniform_step(times)
-    h22 = np.asarray(modes[(2, 2)][:3])
+    source = modes[(2, 2)] if start_h22 is None else start_h22
+    h22 = np.asarray(source[:3])
     # phase advance over the first two steps, centred on sample 1, extrapolated back to sample 0
     advance_01 = abs(np.angle(h22[1] * np.conj(h22[0])))
     advance_12 = abs(np.angle(h22[2] * np.conj(h22[1])))
     omega_22 = (1.5 * advance_01 - 0.5 * advance_12) / step
     if not omega_22 > 0:  # a precessing model's inertial (2, 2) mode can wobble at its start: the mean rate instead
-        h22 = np.asarray(modes[(2, 2)][:17])
+        h22 = np.asarray(source[:17])
         omega_22 = float(np.mean(np.abs(np.angle(h22[1:] * np.conj(h22[:-1]))))) / step
     return float((omega_22 / 2) ** (2 / 3))
 
 
-def early_inspiral_offset(modes: dict, times, symmetric_mass_ratio: float | None) -> dict:
-    """Leading-order memory accumulated before the first sample, ``(l, 0) -> c_l eta x_0``."""
+def early_inspiral_offset(modes: dict, times, symmetric_mass_ratio: float | None, start_h22=None) -> dict:
+    """Leading-order memory accumulated before the first sample, ``(l, 0) -> c_l eta x_0`` (``start_h22`` as in
+    :func:`orbital_velocity_parameter`)."""
     if symmetric_mass_ratio is None:
         raise ValueError("the early-inspiral memory needs the symmetric mass ratio")
     if (2, 2) not in modes:
         raise ValueError("the early-inspiral memory needs the (2, 2) mode")
-    eta_x = symmetric_mass_ratio * orbital_velocity_parameter(modes, times)
+    eta_x = symmetric_mass_ratio * orbital_velocity_parameter(modes, times, start_h22)
     return {mode: c * eta_x for mode, c in _leading_order_projection().items()}
 
 

@@ -93,7 +93,8 @@ def memory_towards(series: ModeSeries, theta: float, phi: float, early_inspiral:
     geometric_times, strain_modes = series.geometric(scaled=False)  # SI strain, times in M
     return memory_at_direction(strain_modes, geometric_times, theta, phi, early_inspiral=early_inspiral,
                                symmetric_mass_ratio=series.symmetric_mass_ratio,
-                               finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale)
+                               finer=series.geometric_finer(scaled=False), mode_scale=series.strain_scale,
+                               start_h22=series.start_h22)
 
 
 EARLY_INSPIRAL_EFFECT = ("a constant over the whole segment: it moves only the zero-frequency bin, which the "

@@ -230,6 +230,9 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     picked = _columns(series, index[0], index[-1] + 1, scale)  # only the samples kept are copied out, scaled
     modes = {key: picked[row] for row, key in enumerate(keys)}
     times = index * delta_t
+    start_h22 = None
+    if n_time < 2 * half and (2, 2) in keys and start_frequency is None:  # cut below the band: see ModeSeries
+        start_h22 = band_values(spectra, (2, 2), times[0], delta_t, min(17, times.size))
     if start_frequency is not None and key in modes:
         h = modes[key]
         step = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * delta_t)
@@ -241,7 +244,22 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     return ModeSeries(times=times, modes=modes, total_mass=spectra.total_mass,
                       luminosity_distance=spectra.luminosity_distance,
                       symmetric_mass_ratio=spectra.symmetric_mass_ratio, approximant=spectra.approximant,
-                      aligned_spins=spectra.aligned_spins)
+                      aligned_spins=spectra.aligned_spins, start_h22=start_h22)
+
+
+def band_values(spectra: ModeSpectra, key, start: float, step: float, count: int) -> np.ndarray:
+    """Mode ``key`` at ``start + j step`` (s), ``j < count``, from every frequency of its spectrum:
+    ``sum_f h(f) e^{2 pi i f t} df`` (the samples of :func:`time_modes` at :func:`band_step`, to rounding)."""
+    spectrum = spectra.modes[key]
+    where = np.flatnonzero(spectrum)
+    frequencies = (where - spectrum.size // 2) * spectra.delta_f
+    terms = spectrum[where] * np.exp(2j * np.pi * frequencies * start)
+    turn = np.exp(2j * np.pi * frequencies * step)
+    out = np.empty(count, dtype=complex)
+    for j in range(count):
+        out[j] = terms.sum() * spectra.delta_f
+        terms *= turn
+    return out
 
 
 def band_step(spectra: ModeSpectra) -> float:

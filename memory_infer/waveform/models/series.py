@@ -20,7 +20,9 @@ class ModeSeries:
     detector-frame total mass in solar masses, ``luminosity_distance`` in Mpc. Modes are in
     lalsimulation's convention (its leading-order ``h_22 = +8 sqrt(pi/5) eta x e^{-2i Phi}``).
     ``finer`` holds finer samplings of the late part for the memory's flux (:mod:`.refine`), each
-    used from its ``use_from`` time (s) on.
+    used from its ``use_from`` time (s) on. ``start_h22``: the (2, 2) mode at the first 17 times taken from its
+    whole band, when ``modes`` are cut below it (:func:`.fd_modes.band_values`), for the early inspiral's
+    orbital velocity.
     """
 
     times: np.ndarray
@@ -32,6 +34,7 @@ class ModeSeries:
     aligned_spins: bool = True
     use_from: float = float("-inf")
     finer: list = field(default_factory=list)
+    start_h22: np.ndarray | None = None  # the (2, 2) mode at the first samples from its whole band, when cut below it
 
     @property
     def delta_t(self) -> float:
