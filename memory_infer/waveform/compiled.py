@@ -456,6 +456,22 @@ def pair_weights(harmonics, tables, real_weights, imaginary_weights):
 
 
 @_compile
+def sparse_pair_weights(harmonics, harmonic_index, pair_index, real_entries, imaginary_entries, real_weights,
+                        imaginary_weights):
+    """:func:`pair_weights` from the tables' nonzero entries only (``harmonic_index[e]``, ``pair_index[e]``, ``[Re Q_k;
+    Im Q_k]`` at that pair), in the order of k: each pair's sum has the same terms in the same order without its
+    zero ones, so the same numbers (about 5% of the 21 modes' tables are nonzero)."""
+    real_weights[:] = 0.0
+    imaginary_weights[:] = 0.0
+    for e in range(harmonic_index.size):
+        y = harmonics[harmonic_index[e]]
+        c, s = y.real, y.imag
+        p = pair_index[e]
+        real_weights[p] += c * real_entries[e] - s * imaginary_entries[e]
+        imaginary_weights[p] += c * imaginary_entries[e] + s * real_entries[e]
+
+
+@_compile
 def linear_fill(values, stride, out):
     """``out[k stride + j] = values[k] + (values[k + 1] - values[k]) j / stride`` for j < stride."""
     for k in range(values.size - 1):

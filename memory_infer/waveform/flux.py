@@ -12,8 +12,8 @@ from functools import lru_cache
 
 import numpy as np
 
-from .compiled import (complex_form_rates, contract_real, differences_into, mirror_holds, pair_sums, pair_weights,
-                       real_form_rates)
+from .compiled import (complex_form_rates, contract_real, differences_into, mirror_holds, pair_sums, real_form_rates,
+                       sparse_pair_weights)
 from .sphere import HarmonicSet, direction_tables
 
 
@@ -83,7 +83,8 @@ def pair_tables(keys: tuple, mirrored: bool = True):
     """The mirrored real form of :func:`flux_tables` on the pairs ``a <= b`` of its real rows, which is all a
     symmetric form needs: ``y^T Q y = sum_{a <= b} c_ab y_a y_b`` with ``c_ab = Q_ab + Q_ba`` (``Q_aa`` on the
     diagonal). Pairs whose coefficient vanishes for every harmonic are dropped. Returns ``(own, harmonics,
-    every pair, the m_i = m_j pairs)``, each pair set ``(first rows, second rows, tables (k, 2, pairs))``.
+    every pair, the m_i = m_j pairs)``, each pair set ``(first rows, second rows, tables (k, 2, pairs))`` followed by
+    the tables' nonzero entries (harmonic, pair, real part, imaginary part; k-major) for :func:`weights_on_pairs`.
     Not ``mirrored``: the same on the real rows of every mode (no symmetry; compiled, where the complex form's
     matrix product went through BLAS on a few thousand samples)."""
     own, harmonics, tables, same_m_tables = flux_tables(keys, mirrored, True)
@@ -96,7 +97,10 @@ def pair_tables(keys: tuple, mirrored: bool = True):
                         imaginary[:, first, second] + imaginary[:, second, first]], axis=1)
         out[:, :, first == second] /= 2
         used = np.any(out != 0, axis=(0, 1))
-        pairs = (first[used].astype(np.int64), second[used].astype(np.int64), np.ascontiguousarray(out[:, :, used]))
+        kept = np.ascontiguousarray(out[:, :, used])
+        harmonic_index, pair_index = np.nonzero(np.any(kept != 0, axis=1))  # k-major: each pair's terms in k order
+        pairs = (first[used].astype(np.int64), second[used].astype(np.int64), kept, harmonic_index.astype(np.int64),
+                 pair_index.astype(np.int64), kept[harmonic_index, 0, pair_index], kept[harmonic_index, 1, pair_index])
         for array in pairs:
             array.flags.writeable = False
         return pairs
@@ -106,9 +110,10 @@ def pair_tables(keys: tuple, mirrored: bool = True):
 
 def weights_on_pairs(pairs, harmonics: np.ndarray):
     """(first rows, second rows, real coefficients, imaginary coefficients) of ``Q = sum_k harmonics[k] Q_k``."""
-    first, second, table = pairs
+    first, second, _, harmonic_index, pair_index, real_entries, imaginary_entries = pairs
     real, imaginary = np.empty(first.size), np.empty(first.size)
-    pair_weights(np.ascontiguousarray(harmonics, dtype=complex), table, real, imaginary)
+    sparse_pair_weights(np.ascontiguousarray(harmonics, dtype=complex), harmonic_index, pair_index, real_entries,
+                        imaginary_entries, real, imaginary)  # the same numbers as pair_weights on the whole tables
     return first, second, real, imaginary
 
 

@@ -59,6 +59,21 @@ def test_pair_sums_equal_the_full_quadratic_form(modes):
     assert np.max(np.abs(cumulative - expected)) < 1e-12 * np.max(np.abs(expected))
 
 
+@pytest.mark.parametrize("mirrored", [True, False])
+def test_weights_from_the_nonzero_entries_equal_the_whole_tables_bit_for_bit(mirrored):
+    # the sparse contraction skips only terms that are exactly zero, in the same order (reference: pair_weights on
+    # the whole tables, itself tested against numpy below; no source)
+    keys = tuple((l, m) for l in (2, 3, 4) for m in range(-l, l + 1))
+    _, harmonics, pairs, same_m = pair_tables(keys, mirrored)
+    for pair_set in (pairs, same_m):
+        for theta, phi in ((0.7, 1.9), (1.3, 0.0), (0.0, 0.0)):
+            values = harmonics(theta, phi) * 3.7e-3
+            real, imaginary = np.empty(pair_set[0].size), np.empty(pair_set[0].size)
+            compiled.pair_weights(values, pair_set[2], real, imaginary)
+            _, _, sparse_real, sparse_imaginary = weights_on_pairs(pair_set, values)
+            assert np.array_equal(real, sparse_real) and np.array_equal(imaginary, sparse_imaginary)
+
+
 def test_pair_sums_and_weights_equal_a_pair_by_pair_numpy_loop_bit_for_bit():
     # the compiled loops take four pairs per pass and the harmonics row by row; each sum keeps numpy's order of
     # operations, so the numbers must be the same to the last bit (reference: the plain loop, no source)

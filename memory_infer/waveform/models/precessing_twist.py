@@ -205,21 +205,35 @@ def loud_stretch(stacked, quiet):
     lo = max(lo, 1)
     if hi <= lo:
         return 0, 0, ends
-    moduli = np.empty((rows, hi - lo))
-    peak = 0.0
+    # squared moduli decide wherever they are clear by a relative 1e-12 (the modulus itself otherwise: the same
+    # decisions as comparing moduli, tested against that plain loop)
+    largest = 0.0
     for r in range(rows):
         for t in range(lo, hi):
             value = stacked[r, t]
             if not (np.isfinite(value.real) and np.isfinite(value.imag)):
                 return 0, 0, ends
-            modulus = abs(value)
-            moduli[r, t - lo] = modulus
-            peak = max(peak, modulus)
-    threshold = quiet * peak
+            largest = max(largest, value.real * value.real + value.imag * value.imag)
+    exact = not (1e-290 < largest < 1e290)  # squares out of range: moduli throughout
+    peak = 0.0
     for r in range(rows):
-        for t in range(hi - lo - 1, -1, -1):
-            if moduli[r, t] > threshold:
-                ends[r] = t + 1
+        for t in range(lo, hi):
+            value = stacked[r, t]
+            if exact or value.real * value.real + value.imag * value.imag >= largest * (1.0 - 1e-12):
+                peak = max(peak, abs(value))
+    threshold = quiet * peak
+    above = threshold * threshold * (1.0 + 1e-12)
+    below = threshold * threshold * (1.0 - 1e-12)
+    for r in range(rows):
+        for t in range(hi - 1, lo - 1, -1):
+            value = stacked[r, t]
+            square = value.real * value.real + value.imag * value.imag
+            if exact or below <= square <= above or not (1e-290 < above < 1e290):
+                loud = abs(value) > threshold
+            else:
+                loud = square > above
+            if loud:
+                ends[r] = t + 1 - lo
                 break
     return lo, hi, ends
 

@@ -1,4 +1,5 @@
 """IMRPhenomXPHM's J-frame modes twisted up from its co-precessing modes, against lalsimulation's own."""
+import numba
 import numpy as np
 import pytest
 
@@ -112,6 +113,28 @@ def test_twist_ends_where_the_modes_are_quiet(case):
     assert 0.0 < worst <= 2 * precessing_twist.QUIET
 
 
+@numba.njit(cache=False)
+def _plain_peak(stacked):
+    """The largest modulus, compiled as the kernel's moduli were before the squared moduli."""
+    peak = 0.0
+    for value in stacked.ravel():
+        peak = max(peak, abs(value))
+    return peak
+
+
+@numba.njit(cache=False)
+def _plain_ends(stacked, lo, hi, quiet):
+    """Each row's quiet end by moduli alone (the loop loud_stretch replaced)."""
+    threshold = quiet * _plain_peak(stacked[:, lo:hi].copy())
+    ends = np.zeros(stacked.shape[0], dtype=np.int64)
+    for r in range(stacked.shape[0]):
+        for t in range(hi - 1, lo - 1, -1):
+            if abs(stacked[r, t]) > threshold:
+                ends[r] = t + 1 - lo
+                break
+    return ends
+
+
 def test_loud_stretch_equals_the_numpy_steps():
     # the co-precessing modes' nonzero stretch and each one's quiet end; reference: the numpy steps it replaced
     # (no source), and refusal of a value that is not finite
@@ -127,5 +150,15 @@ def test_loud_stretch_equals_the_numpy_steps():
         magnitudes = np.abs(stacked[:, lo:hi])
         above = magnitudes > quiet * magnitudes.max()
         assert list(ends) == [np.nonzero(r)[0][-1] + 1 if r.any() else 0 for r in above]
+    # squared moduli decide only where clear: values on the threshold and one ulp either side, at scales whose
+    # squares underflow or overflow (1e-160, 1e150), give the decisions of the compiled moduli it replaced
+    for scale in (1.0, 1e-30, 1e-160, 1e150):
+        for quiet in (0.0, 1e-7, 1e-3):
+            trial = stacked * scale
+            threshold = quiet * _plain_peak(trial)
+            for row, nudge in ((0, 0.0), (1, 1.0), (3, -1.0)):  # late in the quiet tail: on, above, below
+                trial[row, 180] = np.nextafter(threshold, threshold + nudge) if nudge else threshold
+            lo, hi, ends = precessing_twist.loud_stretch(trial, quiet)
+            assert list(ends) == list(_plain_ends(trial, lo, hi, quiet)), (scale, quiet)
     stacked[2, 100] = np.nan
     assert precessing_twist.loud_stretch(stacked, 1e-7)[:2] == (0, 0)
