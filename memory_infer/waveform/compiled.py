@@ -190,6 +190,18 @@ def first_unresolved_step(h, cos_limit, quiet_fraction):
 
 
 @_compile
+def alternating_columns(series, low, scale, out):
+    """``out[:, c] = series[:, j] * (scale (-1)^j)`` with ``j = (low + c) mod n`` (``n`` even): the kept columns of
+    a transform whose input was ordered from the most negative frequency (see ``fd_modes.time_modes``)."""
+    n = series.shape[1]
+    plus, minus = scale, -scale
+    for r in range(series.shape[0]):
+        for c in range(out.shape[1]):
+            j = (low + c) % n
+            out[r, c] = series[r, j] * (minus if j & 1 else plus)
+
+
+@_compile
 def first_loud(row, first, count, scale, fraction):
     """The first ``k < count`` with ``|row[(first + k) mod n] scale| >= fraction max_j |row[(first + j) mod n]
     scale|`` (numpy's ``argmax`` of that comparison over the circular stretch: 0 when none holds)."""

@@ -37,7 +37,7 @@ import scipy.fft
 
 from .lal_call import call, checked_binary, conditioning_bounds, lal_modules, quiet, walk, waveform_dictionary
 from .precessing_twist import twisted_modes
-from ..compiled import first_loud, loud_end
+from ..compiled import alternating_columns, first_loud, loud_end
 from .refine import QUIET_AMPLITUDE
 from .series import MEGAPARSEC_METRES, SOLAR_MASS_SECONDS, ModeSeries
 
@@ -174,11 +174,16 @@ def _rows_of_one_block(modes: dict) -> np.ndarray | None:
     return block if block is not None and block.shape[0] == len(modes) else None
 
 
-def _columns(series: np.ndarray, low: int, high: int, scale: float) -> np.ndarray:
+def _columns(series: np.ndarray, low: int, high: int, scale: float, alternate: bool = False) -> np.ndarray:
     """``scale`` times the columns ``low .. high - 1`` of ``series``, counted modulo its length (a circular buffer;
     ``-len < low < high <= len``): one or two contiguous blocks, as ``series[:, np.arange(low, high) % len] *
-    scale``, scaled as they are copied."""
+    scale``, scaled as they are copied. ``alternate`` (an even length): column ``j`` (modulo the length) is also
+    multiplied by ``(-1)^j``, in one compiled pass."""
     n = series.shape[1]
+    if alternate:
+        out = np.empty((series.shape[0], high - low), dtype=series.dtype)
+        alternating_columns(series, low, scale, out)
+        return out
     if low >= 0 or high <= 0:
         return series[:, low % n:(high - 1) % n + 1] * scale
     out = np.empty((series.shape[0], high - low), dtype=series.dtype)
@@ -210,24 +215,28 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     index = np.arange(-lead_n, tail_n + 1)
     keys = tuple(spectra.modes)
     width = spectra.modes[keys[0]][band].size  # every column is written when the band fills the buffer
-    buffer = (np.empty if width >= n_time else np.zeros)((len(keys), n_time), dtype=complex)
-    # f = k delta_f at index k mod n_time; the k >= 0 part last (it wins at f = N)
-    if spectra.block is not None:  # all rows at once
-        part = spectra.block[:, band]
-        buffer[:, n_time - keep:] = part[:, :keep]
-        buffer[:, :part.shape[1] - keep] = part[:, keep:]
+    part = None if spectra.block is None else spectra.block[:, band]
+    if part is not None and (part.shape[1] == n_time
+                             or part.shape[1] == n_time + 1 and np.array_equal(part[:, 0], part[:, -1])):
+        # the block's rows, f = k delta_f for k = -n/2 .. n/2 - 1 in order, transformed as they are: the transform
+        # of k at index k + n/2 is (-1)^j times h_j (undone as the kept samples are copied out). When the rows hold
+        # f = +n/2 as well, it equals f = -n/2 (zero past the model's cutoff), so no frequency is lost
+        series, alternate = scipy.fft.ifft(part[:, :n_time], axis=1), True
     else:
+        buffer = (np.empty if width >= n_time else np.zeros)((len(keys), n_time), dtype=complex)
+        # f = k delta_f at index k mod n_time; the k >= 0 part last (it wins at f = N)
         for row, key in enumerate(keys):
-            part = spectra.modes[key][band]
-            buffer[row, n_time - keep:] = part[:keep]
-            buffer[row, :part.size - keep] = part[keep:]
-    # row by row, as one transform each (scipy's pocketfft: numpy's numbers, a little faster, in place)
-    series = scipy.fft.ifft(buffer, axis=1, overwrite_x=True)
+            values = spectra.modes[key][band]
+            buffer[row, n_time - keep:] = values[:keep]
+            buffer[row, :values.size - keep] = values[keep:]
+        # row by row, as one transform each (scipy's pocketfft: numpy's numbers, a little faster, in place)
+        series, alternate = scipy.fft.ifft(buffer, axis=1, overwrite_x=True), False
     scale = n_time * spectra.delta_f  # h(t) = sum_f h(f) e^{2 pi i f t} df
     key = (2, 2) if (2, 2) in keys else (2, -2)
     if key in keys:  # the samples before the conditioned start hold only the transform's ringing: dropped
         index = index[first_loud(series[keys.index(key)], index[0], index.size, scale, START_AMPLITUDE):]
-    picked = _columns(series, index[0], index[-1] + 1, scale)  # only the samples kept are copied out, scaled
+    # only the samples kept are copied out, scaled (and their alternating signs undone)
+    picked = _columns(series, index[0], index[-1] + 1, scale, alternate)
     modes = {key: picked[row] for row, key in enumerate(keys)}
     times = index * delta_t
     start_h22 = None

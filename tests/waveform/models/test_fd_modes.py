@@ -56,6 +56,28 @@ def test_columns_of_the_circular_transform_equal_the_gather_by_index():
     for low in range(-15, 16):
         for high in range(low + 1, min(low + 16, 16) + 1):
             assert np.array_equal(_columns(series, low, high, 0.37), series[:, np.arange(low, high) % 16] * 0.37)
+            signs = np.where(np.arange(low, high) % 2, -0.37, 0.37)  # alternate: (-1)^j of the column j mod 16
+            assert np.array_equal(_columns(series, low, high, 0.37, True),
+                                  series[:, np.arange(low, high) % 16] * signs)
+
+
+@pytest.mark.parametrize("rate", [1024.0, 2048.0, 8192.0])
+def test_time_modes_from_the_block_as_ordered_equal_the_rotated_buffer_bit_for_bit(rate):
+    # the twisted modes' block is transformed as it is ordered (from f = -n/2) and its alternating signs undone; it
+    # must give the samples of the transform of the rotated buffer (k >= 0 first) to the last bit: a rotation by n/2
+    # only negates the odd outputs of pocketfft's butterflies exactly (reference: the rotated-buffer path, no source).
+    # 1024 Hz cuts the band (the block's rows hold exactly n frequencies), 2048 Hz holds it with f = +n/2 as well,
+    # 8192 Hz zero-pads (the buffer path then)
+    import dataclasses
+
+    spectra = mode_spectra("IMRPhenomXPHM", 36.0, 29.0, 1.0, 20.0, (0.3, 0.1, 0.3), (-0.2, 0.1, -0.3), 20.0, 0.9,
+                           0.7, 0.0)
+    assert spectra.block is not None
+    as_rows = dataclasses.replace(spectra, block=None, modes=dict(spectra.modes))  # the per-row buffer path
+    ours, theirs = time_modes(spectra, 1 / rate), time_modes(as_rows, 1 / rate)
+    assert np.array_equal(ours.times, theirs.times)
+    for key in theirs.modes:
+        assert np.array_equal(ours.modes[key], theirs.modes[key]), key
 
 
 def test_spectra_end_at_the_model_cutoff_and_time_modes_keep_the_convention():
