@@ -71,6 +71,18 @@ def judge(x, values, nodes, middles, intervals, threshold, accepted):
 
 
 @compiled
+def next_round(x, values, nodes, middles, intervals, threshold, accepted, known):
+    """One round's bookkeeping after its middles were called: :func:`judge`, the middles made nodes, and the next
+    round's (nodes, middles, intervals) from :func:`open_middles`."""
+    judge(x, values, nodes, middles, intervals, threshold, accepted)
+    for m in middles:
+        known[m] = True
+    nodes = np.flatnonzero(known)
+    middles, intervals = open_middles(nodes, accepted)
+    return nodes, middles, intervals
+
+
+@compiled
 def fill_between(x, values, nodes):
     """``values`` at every abscissa that is not a node: the cubic of its interval's four nearest nodes (Lagrange's
     weights with the interval's denominators taken once)."""
@@ -120,14 +132,13 @@ def checked_interpolation(x: np.ndarray, evaluate, components: int, step: float,
     nodes = np.flatnonzero(known)
     values[:, nodes] = evaluate(nodes)
     accepted = np.zeros(n, dtype=bool)
+    middles, intervals = open_middles(nodes, accepted)
     for _ in range(MAX_ROUNDS):
-        middles, intervals = open_middles(nodes, accepted)
         if not middles.size:
             break
         values[:, middles] = evaluate(middles)
-        judge(x, values, nodes, middles, intervals, float(threshold), accepted)
-        known[middles] = True
-        nodes = np.flatnonzero(known)
+        nodes, middles, intervals = next_round(x, values, nodes, middles, intervals, float(threshold), accepted,
+                                               known)
     else:  # not reached for any input (each round halves every open interval); kept exact if it were
         rest = np.flatnonzero(~known)
         values[:, rest] = evaluate(rest)
