@@ -175,6 +175,29 @@ def first_fast_dominant(first, second, both, quiet_fraction, limit):
 
 
 @_compile
+def first_reaching(h, step, frequency, quiet_fraction):
+    """(``t``, clear): the first ``t`` with ``|h[t+1]| > quiet_fraction max |h|`` and a phase step ``|angle(h[t+1]
+    conj h[t])| / (2 pi step)`` of at least ``frequency`` within a relative 1e-12, and whether it holds there by more
+    than that (then ``t`` is the first where it holds exactly: numpy's ``nonzero`` of those conditions); (-1, True)
+    when none comes within it."""
+    loudest = 0.0
+    for t in range(h.size):
+        loudest = max(loudest, abs(h[t]))
+    threshold = quiet_fraction * loudest
+    low = frequency * (1.0 - 1e-12)
+    high = frequency * (1.0 + 1e-12)
+    scale = 2.0 * np.pi * step
+    for t in range(h.size - 1):
+        if not abs(h[t + 1]) > threshold:
+            continue
+        z = h[t + 1] * np.conj(h[t])
+        rate = abs(np.arctan2(z.imag, z.real)) / scale
+        if rate >= low:
+            return t, rate >= high
+    return -1, True
+
+
+@_compile
 def first_unresolved_step(h, cos_limit, quiet_fraction):
     """(``k``, phase step from ``h[k]`` to ``h[k+1]``) for the last sample ``k`` before :func:`first_loud_fast_step`'s
     (its step zero where either sample is quiet), or (-1, 0) when every loud step is within the limit."""

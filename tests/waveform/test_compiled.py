@@ -329,3 +329,26 @@ def test_first_loud_equals_numpys_argmax_over_the_circular_stretch():
         h = row[index % 64] * 2.5
         expected = int(np.argmax(np.abs(h) >= 0.01 * np.abs(h).max()))
         assert compiled.first_loud(row, first, count, 2.5, 0.01) == expected
+
+
+def test_first_reaching_equals_numpys_first_loud_step_at_the_frequency():
+    # late_modes' start: numpy's nonzero of (loud) & (phase step >= frequency); the compiled pass must give its first
+    # index wherever it says the comparison is clear, and say it is not when a step lies within rounding of the
+    # frequency (reference: the numpy expression it replaced, no source)
+    rng = np.random.default_rng(5)
+    step = 1 / 4096
+    t = np.arange(3000) * step
+    phase = 2 * np.pi * (20 * t + 40 * t ** 2)  # 20 Hz rising to ~260 Hz
+    for trial in range(20):
+        h = (1 + 0.3 * rng.normal(size=t.size)) * np.exp(1j * phase) * np.exp(-((t - 0.4) / 0.3) ** 2)
+        frequency = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * step)
+        loud = np.abs(h)[1:] > 1e-3 * np.abs(h).max()
+        start = rng.uniform(30, 200) if trial else frequency[loud][400]  # the first trial: exactly one step's rate
+        expected = np.nonzero(loud & (frequency >= start))[0]
+        index, clear = compiled.first_reaching(h, step, start, 1e-3)
+        if clear:
+            assert index == (expected[0] if expected.size else -1)
+        else:
+            assert abs(frequency[index] / start - 1) <= 1e-12 and index <= expected[0]
+        assert clear or trial == 0
+        assert trial or not clear  # the exact rate is not called clear

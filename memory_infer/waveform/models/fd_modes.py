@@ -37,7 +37,7 @@ import scipy.fft
 
 from .lal_call import call, checked_binary, conditioning_bounds, lal_modules, quiet, walk, waveform_dictionary
 from .precessing_twist import twisted_modes
-from ..compiled import alternating_columns, first_loud, loud_end
+from ..compiled import alternating_columns, first_loud, first_reaching, loud_end
 from .refine import QUIET_AMPLITUDE
 from .series import MEGAPARSEC_METRES, SOLAR_MASS_SECONDS, ModeSeries
 
@@ -288,13 +288,16 @@ def late_modes(native: ModeSeries, delta_t: float, start_frequency: float) -> Mo
     if key not in native.modes or delta_t > native.delta_t * (1 + 1e-9):  # a coarser step: the whole transform
         return None
     h, step = native.modes[key], native.delta_t
-    frequency = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * step)
-    modulus = np.abs(h)
-    loud = modulus[1:] > 1e-3 * modulus.max()
-    reached = np.nonzero(loud & (frequency >= start_frequency))[0]
-    if not reached.size or reached[0] < 8 + RAMP_SAMPLES:
+    reached, clear = first_reaching(h, step, float(start_frequency), 1e-3)  # one compiled pass, where it is clear
+    if not clear:  # within rounding of the start frequency there: numpy's own steps decide
+        frequency = np.abs(np.angle(h[1:] * np.conj(h[:-1]))) / (2 * np.pi * step)
+        modulus = np.abs(h)
+        loud = modulus[1:] > 1e-3 * modulus.max()
+        candidates = np.nonzero(loud & (frequency >= start_frequency))[0]
+        reached = int(candidates[0]) if candidates.size else -1
+    if reached < 8 + RAMP_SAMPLES:
         return None
-    first = reached[0] - 8 - RAMP_SAMPLES
+    first = reached - 8 - RAMP_SAMPLES
     rows = np.array([h[first:]] + [v[first:] for k, v in native.modes.items() if k != key])
     n = min(rows.shape[1], loud_end(rows, QUIET_AMPLITUDE) + 8 + RAMP_SAMPLES)  # to the ringdown's quiet end
     if n < 4 * RAMP_SAMPLES:
