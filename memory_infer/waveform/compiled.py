@@ -177,23 +177,25 @@ def first_fast_dominant(first, second, both, quiet_fraction, limit):
 @_compile
 def first_reaching(h, step, frequency, quiet_fraction):
     """(``t``, clear): the first ``t`` with ``|h[t+1]| > quiet_fraction max |h|`` and a phase step ``|angle(h[t+1]
-    conj h[t])| / (2 pi step)`` of at least ``frequency`` within a relative 1e-12, and whether it holds there by more
-    than that (then ``t`` is the first where it holds exactly: numpy's ``nonzero`` of those conditions); (-1, True)
-    when none comes within it."""
+    conj h[t])| / (2 pi step)`` of at least ``frequency``, both within a relative 1e-12, and whether both hold there
+    by more than that (then ``t`` is the first where they hold exactly: numpy's ``nonzero`` of those conditions,
+    whose moduli and angles can differ from these in the last bit); (-1, True) when none comes within them."""
     loudest = 0.0
     for t in range(h.size):
         loudest = max(loudest, abs(h[t]))
     threshold = quiet_fraction * loudest
+    quiet, loud = threshold * (1.0 - 1e-12), threshold * (1.0 + 1e-12)
     low = frequency * (1.0 - 1e-12)
     high = frequency * (1.0 + 1e-12)
     scale = 2.0 * np.pi * step
     for t in range(h.size - 1):
-        if not abs(h[t + 1]) > threshold:
+        modulus = abs(h[t + 1])
+        if not modulus > quiet:
             continue
         z = h[t + 1] * np.conj(h[t])
         rate = abs(np.arctan2(z.imag, z.real)) / scale
         if rate >= low:
-            return t, rate >= high
+            return t, rate >= high and modulus > loud
     return -1, True
 
 

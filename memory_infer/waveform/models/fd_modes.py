@@ -216,11 +216,13 @@ def time_modes(spectra: ModeSpectra, delta_t: float, start_frequency: float | No
     keys = tuple(spectra.modes)
     width = spectra.modes[keys[0]][band].size  # every column is written when the band fills the buffer
     part = None if spectra.block is None else spectra.block[:, band]
-    if part is not None and (part.shape[1] == n_time
-                             or part.shape[1] == n_time + 1 and np.array_equal(part[:, 0], part[:, -1])):
+    if part is not None and n_time >= 4 and n_time & (n_time - 1) == 0 and (
+            part.shape[1] == n_time or part.shape[1] == n_time + 1 and np.array_equal(part[:, 0], part[:, -1])):
         # the block's rows, f = k delta_f for k = -n/2 .. n/2 - 1 in order, transformed as they are: the transform
         # of k at index k + n/2 is (-1)^j times h_j (undone as the kept samples are copied out). When the rows hold
-        # f = +n/2 as well, it equals f = -n/2 (zero past the model's cutoff), so no frequency is lost
+        # f = +n/2 as well, it equals f = -n/2 (zero past the model's cutoff), so no frequency is lost. Only for a
+        # length that is a power of two: there the rotation by n/2 only negates the odd outputs of pocketfft's
+        # butterflies, exactly (the same numbers as the rotated buffer; not so for every even length)
         series, alternate = scipy.fft.ifft(part[:, :n_time], axis=1), True
     else:
         buffer = (np.empty if width >= n_time else np.zeros)((len(keys), n_time), dtype=complex)

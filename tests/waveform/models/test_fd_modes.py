@@ -61,13 +61,27 @@ def test_columns_of_the_circular_transform_equal_the_gather_by_index():
                                   series[:, np.arange(low, high) % 16] * signs)
 
 
-@pytest.mark.parametrize("rate", [1024.0, 2048.0, 8192.0])
+def test_a_half_length_rotation_only_negates_odd_outputs_for_powers_of_two():
+    # the property the block path rests on, for every power-of-two length it can meet (reference: scipy's pocketfft
+    # itself, no source); it does not hold for every even length (202 = 2 x 101 fails), which take the buffer path
+    import scipy.fft
+
+    rng = np.random.default_rng(9)
+    for power in range(2, 18):
+        n = 2 ** power
+        x = rng.normal(size=(2, n)) + 1j * rng.normal(size=(2, n))
+        signs = np.where(np.arange(n) % 2, -1.0, 1.0)
+        assert np.array_equal(scipy.fft.ifft(np.roll(x, n // 2, axis=1), axis=1), scipy.fft.ifft(x, axis=1) * signs), n
+
+
+@pytest.mark.parametrize("rate", [1024.0, 2048.0, 8192.0, 2048.5, 2018.0])
 def test_time_modes_from_the_block_as_ordered_equal_the_rotated_buffer_bit_for_bit(rate):
     # the twisted modes' block is transformed as it is ordered (from f = -n/2) and its alternating signs undone; it
     # must give the samples of the transform of the rotated buffer (k >= 0 first) to the last bit: a rotation by n/2
     # only negates the odd outputs of pocketfft's butterflies exactly (reference: the rotated-buffer path, no source).
     # 1024 Hz cuts the band (the block's rows hold exactly n frequencies), 2048 Hz holds it with f = +n/2 as well,
-    # 8192 Hz zero-pads (the buffer path then)
+    # 8192 Hz zero-pads, 2048.5 Hz (an odd length, 4097) and 2018 Hz (4036 = 4 x 1009) are not powers of two (the
+    # buffer path then)
     import dataclasses
 
     spectra = mode_spectra("IMRPhenomXPHM", 36.0, 29.0, 1.0, 20.0, (0.3, 0.1, 0.3), (-0.2, 0.1, -0.3), 20.0, 0.9,
