@@ -479,25 +479,12 @@ def real_form_level(modes, lo, hi, skip, first_rows, second_rows, real_weights, 
 
 
 @_compile
-def pair_weights(harmonics, tables, real_weights, imaginary_weights):
-    """``Q = sum_k harmonics[k] Q_k`` on the pairs: ``tables[k] = [Re Q_k pairs; Im Q_k pairs]`` ``(2, P)``."""
-    count = tables.shape[0]
-    pairs = tables.shape[2]
-    real_weights[:pairs] = 0.0
-    imaginary_weights[:pairs] = 0.0
-    for k in range(count):  # harmonic by harmonic along the tables' rows (each pair's sum in the order of k)
-        c, s = harmonics[k].real, harmonics[k].imag
-        for p in range(pairs):
-            real_weights[p] += c * tables[k, 0, p] - s * tables[k, 1, p]
-            imaginary_weights[p] += c * tables[k, 1, p] + s * tables[k, 0, p]
-
-
-@_compile
 def sparse_pair_weights(harmonics, harmonic_index, pair_index, real_entries, imaginary_entries, real_weights,
                         imaginary_weights):
-    """:func:`pair_weights` from the tables' nonzero entries only (``harmonic_index[e]``, ``pair_index[e]``, ``[Re Q_k;
-    Im Q_k]`` at that pair), in the order of k: each pair's sum has the same terms in the same order without its
-    zero ones, so the same numbers (about 5% of the 21 modes' tables are nonzero)."""
+    """``Q = sum_k harmonics[k] Q_k`` on the pairs, from the tables' nonzero entries only (``harmonic_index[e]``,
+    ``pair_index[e]``, ``[Re Q_k; Im Q_k]`` at that pair), in the order of k: each pair's sum has the terms of the
+    whole tables' sum in the same order without its zero ones, so the same numbers (about 5% of the 21 modes'
+    tables are nonzero)."""
     real_weights[:] = 0.0
     imaginary_weights[:] = 0.0
     for e in range(harmonic_index.size):

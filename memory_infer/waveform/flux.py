@@ -113,7 +113,7 @@ def weights_on_pairs(pairs, harmonics: np.ndarray):
     first, second, _, harmonic_index, pair_index, real_entries, imaginary_entries = pairs
     real, imaginary = np.empty(first.size), np.empty(first.size)
     sparse_pair_weights(np.ascontiguousarray(harmonics, dtype=complex), harmonic_index, pair_index, real_entries,
-                        imaginary_entries, real, imaginary)  # the same numbers as pair_weights on the whole tables
+                        imaginary_entries, real, imaginary)  # the same numbers as the sum over the whole tables
     return first, second, real, imaginary
 
 

@@ -59,17 +59,26 @@ def test_pair_sums_equal_the_full_quadratic_form(modes):
     assert np.max(np.abs(cumulative - expected)) < 1e-12 * np.max(np.abs(expected))
 
 
+def _whole_table_weights(values, tables):
+    """``Q = sum_k values[k] Q_k`` over the whole tables ``(k, 2, pairs)``, harmonic by harmonic (numpy)."""
+    real, imaginary = np.zeros(tables.shape[2]), np.zeros(tables.shape[2])
+    for k in range(tables.shape[0]):
+        c, s = values[k].real, values[k].imag
+        real += c * tables[k, 0] - s * tables[k, 1]
+        imaginary += c * tables[k, 1] + s * tables[k, 0]
+    return real, imaginary
+
+
 @pytest.mark.parametrize("mirrored", [True, False])
 def test_weights_from_the_nonzero_entries_equal_the_whole_tables_bit_for_bit(mirrored):
-    # the sparse contraction skips only terms that are exactly zero, in the same order (reference: pair_weights on
-    # the whole tables, itself tested against numpy below; no source)
+    # the sparse contraction skips only terms that are exactly zero, in the same order (reference: the sum over the
+    # whole tables, harmonic by harmonic, in numpy; no source)
     keys = tuple((l, m) for l in (2, 3, 4) for m in range(-l, l + 1))
     _, harmonics, pairs, same_m = pair_tables(keys, mirrored)
     for pair_set in (pairs, same_m):
         for theta, phi in ((0.7, 1.9), (1.3, 0.0), (0.0, 0.0)):
             values = harmonics(theta, phi) * 3.7e-3
-            real, imaginary = np.empty(pair_set[0].size), np.empty(pair_set[0].size)
-            compiled.pair_weights(values, pair_set[2], real, imaginary)
+            real, imaginary = _whole_table_weights(values, pair_set[2])
             _, _, sparse_real, sparse_imaginary = weights_on_pairs(pair_set, values)
             assert np.array_equal(real, sparse_real) and np.array_equal(imaginary, sparse_imaginary)
 
@@ -83,13 +92,12 @@ def test_pair_sums_and_weights_equal_a_pair_by_pair_numpy_loop_bit_for_bit():
     first, second = first[:50].astype(np.int64), second[:50].astype(np.int64)  # two left after groups of four
     harmonics = rng.normal(size=7) + 1j * rng.normal(size=7)
     tables = rng.normal(size=(7, 2, 50))
+    tables *= (rng.random(size=(7, 1, 50)) < 0.5)  # about half the entries zero, as in the coupling tables
+    harmonic_index, pair_index = (index.astype(np.int64) for index in np.nonzero(np.any(tables != 0, axis=1)))
     real_weights, imaginary_weights = np.empty(50), np.empty(50)
-    compiled.pair_weights(harmonics, tables, real_weights, imaginary_weights)
-    expected_real, expected_imaginary = np.zeros(50), np.zeros(50)
-    for k in range(7):
-        c, s = harmonics[k].real, harmonics[k].imag
-        expected_real += c * tables[k, 0] - s * tables[k, 1]
-        expected_imaginary += c * tables[k, 1] + s * tables[k, 0]
+    compiled.sparse_pair_weights(harmonics, harmonic_index, pair_index, tables[harmonic_index, 0, pair_index],
+                                 tables[harmonic_index, 1, pair_index], real_weights, imaginary_weights)
+    expected_real, expected_imaginary = _whole_table_weights(harmonics, tables)
     assert np.array_equal(real_weights, expected_real) and np.array_equal(imaginary_weights, expected_imaginary)
     for skip in (0, 3):
         real, imaginary = compiled.pair_sums(d, skip, first, second, real_weights, imaginary_weights)
